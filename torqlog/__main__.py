@@ -1,0 +1,3 @@
+from torqlog.cli import main
+
+main()

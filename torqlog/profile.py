@@ -1,0 +1,183 @@
+"""Machine profile: one TOML file that describes a machine so nobody retypes it.
+
+Keys carry their unit as a suffix (``speed_rpm``, ``inertia_kgm2``); every section is
+optional; an unknown section or key is an error that names it. Values are converted to
+SI here, once, and the rest of torqlog sees SI only.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from torqlog.errors import DataError, UsageError
+
+# section -> key -> (type, factor to SI or None for non-numeric)
+_RPM = 2.0 * math.pi / 60.0
+_SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
+    "machine": {
+        "name": (str, None),
+        "revs_per_cycle": (int, None),
+        "speed_rpm": ((int, float), _RPM),
+        "inertia_kgm2": ((int, float), 1.0),
+        "target_cs": ((int, float), 1.0),
+        "flywheel_speed_ratio": ((int, float), 1.0),
+    },
+    "motor": {
+        "power_kW": ((int, float), 1e3),
+        "sync_rpm": ((int, float), _RPM),
+        "rated_rpm": ((int, float), _RPM),
+        "speed_ratio": ((int, float), 1.0),
+        "rotor_inertia_kgm2": ((int, float), 1.0),
+    },
+    "flywheel": {
+        "shape": (str, None),
+        "material": (str, None),
+        "outer_diameter_m": ((int, float), 1.0),
+        "bore_m": ((int, float), 1.0),
+        "max_width_m": ((int, float), 1.0),
+        "width_m": ((int, float), 1.0),
+        "interference_m": ((int, float), 1.0),
+        "overspeed": ((int, float), 1.0),
+    },
+    "shaft": {
+        "material": (str, None),
+        "bearings_m": (list, None),
+        "segments": (list, None),
+        "masses": (list, None),
+        "required_ratio": ((int, float), 1.0),
+        "self_weight": (bool, None),
+    },
+    "torsional": {
+        "names": (list, None),
+        "inertias_kgm2": (list, None),
+        "stiffness_Nm_per_rad": (list, None),
+        "band": ((int, float), 1.0),
+        "min_share": ((int, float), 1.0),
+    },
+    "shifts": {
+        "starts": (list, None),
+        "names": (list, None),
+        "timezone": (str, None),
+    },
+}
+
+_SEGMENT_KEYS = {"length_m", "diameter_m", "bore_m", "material"}
+_MASS_KEYS = {"name", "mass_kg", "at_m", "inertia_kgm2"}
+
+
+@dataclass(frozen=True)
+class MachineProfile:
+    """A machine profile, converted to SI.
+
+    Attributes
+    ----------
+    source : str
+        Path of the TOML file ("" when built in code).
+    machine, motor, flywheel, shaft, torsional, shifts : dict
+        One dict per section. Numeric values are SI and the keys lose their unit
+        suffix (``speed_rpm`` becomes ``speed`` [rad/s], ``inertia_kgm2`` becomes
+        ``inertia`` [kg*m^2], ``power_kW`` becomes ``power`` [W]); lists and text keep
+        their key. ``raw`` keeps the file's own keys and values for reports.
+    """
+
+    source: str = ""
+    machine: dict[str, Any] = field(default_factory=dict)
+    motor: dict[str, Any] = field(default_factory=dict)
+    flywheel: dict[str, Any] = field(default_factory=dict)
+    shaft: dict[str, Any] = field(default_factory=dict)
+    torsional: dict[str, Any] = field(default_factory=dict)
+    shifts: dict[str, Any] = field(default_factory=dict)
+    raw: dict[str, Any] = field(default_factory=dict)
+
+
+_SUFFIXES = ("_rpm", "_kgm2", "_kW", "_m", "_kg", "_Nm_per_rad")
+
+
+def _plain(key: str) -> str:
+    for suf in _SUFFIXES:
+        if key.endswith(suf):
+            return key[: -len(suf)]
+    return key
+
+
+def _check_table(items: list, allowed: set[str], where: str, path: str) -> None:
+    for i, item in enumerate(items):
+        if not isinstance(item, dict):
+            raise DataError(f"{path}: {where}[{i}] must be a table like {{ length_m = 0.3 }}")
+        unknown = set(item) - allowed
+        if unknown:
+            raise DataError(
+                f"{path}: unknown key {sorted(unknown)[0]!r} in {where}[{i}]; "
+                f"valid keys: {', '.join(sorted(allowed))}"
+            )
+
+
+def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachineProfile:
+    """Validate a profile dict (as read from TOML) and convert it to SI.
+
+    Raises
+    ------
+    DataError
+        Naming the first unknown section or key, or a value of the wrong type.
+    """
+    sections: dict[str, dict[str, Any]] = {}
+    for sec, body in data.items():
+        if sec not in _SCHEMA:
+            raise DataError(f"{source}: unknown section [{sec}]; valid sections: "
+                            f"{', '.join(_SCHEMA)}")
+        if not isinstance(body, dict):
+            raise DataError(f"{source}: [{sec}] must be a table of keys")
+        out: dict[str, Any] = {}
+        for key, value in body.items():
+            if key not in _SCHEMA[sec]:
+                raise DataError(f"{source}: unknown key {key!r} in [{sec}]; valid keys: "
+                                f"{', '.join(_SCHEMA[sec])}")
+            typ, factor = _SCHEMA[sec][key]
+            if typ in ((int, float), int) and isinstance(value, bool):
+                raise DataError(f"{source}: [{sec}] {key} must be a number, not {value!r}")
+            if not isinstance(value, typ):
+                raise DataError(f"{source}: [{sec}] {key} has the wrong type "
+                                f"({type(value).__name__}); give a "
+                                f"{'number' if factor is not None else typ.__name__}")
+            if factor is not None:
+                out[_plain(key)] = float(value) * factor
+            else:
+                out[key] = value
+        sections[sec] = out
+    if "segments" in sections.get("shaft", {}):
+        _check_table(sections["shaft"]["segments"], _SEGMENT_KEYS, "[shaft] segments", source)
+    if "masses" in sections.get("shaft", {}):
+        _check_table(sections["shaft"]["masses"], _MASS_KEYS, "[shaft] masses", source)
+    rpc = sections.get("machine", {}).get("revs_per_cycle")
+    if rpc is not None and rpc < 1:
+        raise DataError(f"{source}: [machine] revs_per_cycle must be 1 or more, got {rpc}")
+    return MachineProfile(source=source, raw=data, **sections)
+
+
+def load_profile(path: str | Path) -> MachineProfile:
+    """Read and validate a machine profile TOML file.
+
+    Parameters
+    ----------
+    path : str or Path
+        The TOML file.
+
+    Returns
+    -------
+    MachineProfile
+        The profile in SI.
+    """
+    p = Path(path)
+    if not p.exists():
+        raise UsageError(f"{p}: profile file does not exist")
+    if p.is_dir():
+        raise UsageError(f"{p}: is a directory; give a .toml profile file")
+    try:
+        data = tomllib.loads(p.read_text(encoding="utf-8"))
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        raise DataError(f"{p}: not a valid TOML profile ({exc})") from None
+    return parse_profile(data, str(p))
