@@ -1,0 +1,767 @@
+"""Read logger exports (CSV, CSV.gz, Parquet) into SI arrays, streaming in chunks.
+
+The file is sniffed once (:func:`sniff_layout`): delimiter, decimal mark, metadata
+preamble, header, unit row, the role of each column (time, torque, speed, angle, index
+pulse, encoder counts) and its unit. Then :class:`LogReader` streams the data in chunks
+of SI arrays with pyarrow's streaming CSV reader, so a file of any length is read in
+bounded memory; :func:`read_log` builds a whole :class:`Record` on top of it.
+
+References
+----------
+.. [1] A. Thompson and B. N. Taylor, *Guide for the Use of the International System of
+   Units (SI)*, NIST SP 811, 2008 (unit conversion factors, applied through pint).
+.. [2] ISO 8601-1:2019, *Date and time — Representations for information interchange*.
+"""
+
+from __future__ import annotations
+
+import gzip
+import math
+import re
+from collections.abc import Iterator
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.csv as pacsv
+
+from torqlog.errors import DataError, UsageError
+from torqlog.units import si_factor
+
+#: Channel roles torqlog understands, with the unit kind used to convert each to SI.
+ROLES: dict[str, str] = {
+    "time": "time",
+    "torque": "torque",
+    "speed": "speed",
+    "angle": "angle",
+    "index": "dimensionless",
+    "counts": "dimensionless",
+}
+
+# Words in a column name that reveal its role (matched against whole words).
+_ROLE_WORDS: dict[str, tuple[str, ...]] = {
+    "time": ("time", "t", "timestamp", "datetime", "elapsed", "sample", "samples", "zeit"),
+    "torque": ("torque", "trq", "tq"),
+    "speed": ("speed", "rpm", "omega", "velocity", "revs"),
+    "angle": ("angle", "theta", "crank", "crankangle", "phi", "position", "pos"),
+    "index": ("index", "once", "tdc", "pulse", "trigger", "marker", "oncerev", "zero"),
+    "counts": ("counts", "count", "encoder", "enc", "cnt", "ticks", "counter"),
+}
+# When several roles match a name, the first in this order wins
+# ("Encoder counts" is counts, "Index [V]" is index, "Crank angle" is angle).
+_ROLE_ORDER = ("counts", "index", "angle", "torque", "speed", "time")
+
+_DEFAULT_UNITS = {"time": "s", "torque": "N*m", "speed": "rad/s", "angle": "deg",
+                  "index": "", "counts": ""}
+
+_DELIMS = (",", ";", "\t")
+_NUM = re.compile(r"^\s*[-+]?(\d+([.,]\d*)?|[.,]\d+)([eE][-+]?\d+)?\s*$")
+_ISO = re.compile(r"^\s*\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2})?\s*$")
+_META = re.compile(r"^\s*#?\s*([A-Za-z][\w .()/-]{0,40}?)\s*[:=]\s*(.*?)\s*$")
+_BRACKET_UNIT = re.compile(r"^(.*?)\s*[\[(]\s*([^\])]*)\s*[\])]\s*$")
+_SNIFF_BYTES = 256 * 1024
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column of a log as found in the file.
+
+    Attributes
+    ----------
+    name : str
+        The header text as written.
+    role : str or None
+        One of :data:`ROLES`, or None for a column torqlog does not use.
+    unit : str
+        The unit as written (header brackets, suffix or unit row); "" if none.
+    unit_source : str
+        Where the unit came from: "header", "unit row", "option", "assumed".
+    factor : float
+        Multiply by this to get SI (1.0 for index and counts).
+    """
+
+    name: str
+    role: str | None
+    unit: str
+    unit_source: str
+    factor: float
+
+
+@dataclass(frozen=True)
+class Layout:
+    """How a file is laid out: everything the streaming reader needs.
+
+    Attributes
+    ----------
+    path : str
+        The file.
+    kind : str
+        "csv" or "parquet".
+    delimiter, decimal : str
+        Field delimiter and decimal mark.
+    encoding : str
+        Text encoding ("utf8" or "latin1").
+    skip_rows : int
+        Lines before the first data row (preamble, header, unit row).
+    columns : tuple of Column
+        Every column in file order.
+    time_kind : str
+        "seconds" (numeric, with unit factor), "timestamp" (ISO-8601), "index" (sample
+        number, divided by the rate) or "none" (row number / rate).
+    rate : float or None
+        Sample rate [Hz] from the preamble or ``--rate``.
+    start : pandas.Timestamp or None
+        Absolute start time, if the file or options say it.
+    preamble : dict
+        Metadata key/values found before the header.
+    timestamp_tz : bool
+        ISO timestamps carry a UTC offset.
+    """
+
+    path: str
+    kind: str
+    delimiter: str
+    decimal: str
+    encoding: str
+    skip_rows: int
+    columns: tuple[Column, ...]
+    time_kind: str
+    rate: float | None
+    start: pd.Timestamp | None
+    preamble: dict[str, str] = field(default_factory=dict)
+    timestamp_tz: bool = False
+
+    def column(self, role: str) -> Column | None:
+        """The column carrying ``role``, or None."""
+        for c in self.columns:
+            if c.role == role:
+                return c
+        return None
+
+    @property
+    def roles(self) -> tuple[str, ...]:
+        """Roles present, in file order (time excluded)."""
+        return tuple(c.role for c in self.columns if c.role and c.role != "time")
+
+
+@dataclass(frozen=True)
+class Chunk:
+    """A block of consecutive rows in SI.
+
+    Attributes
+    ----------
+    row0 : int
+        Index of the first row of the block among all data rows (0-based).
+    time : ndarray [s]
+        Time since the first sample of the file.
+    channels : dict of str to ndarray
+        SI arrays by role (torque [N*m], speed [rad/s], angle [rad], index, counts).
+    """
+
+    row0: int
+    time: np.ndarray
+    channels: dict[str, np.ndarray]
+
+    def __len__(self) -> int:
+        return len(self.time)
+
+
+@dataclass(frozen=True)
+class Record:
+    """A whole log in SI arrays plus metadata.
+
+    Attributes
+    ----------
+    time : ndarray [s]
+        Time since the first sample.
+    channels : dict of str to ndarray
+        SI arrays by role.
+    layout : Layout
+        How the file was read (source, units as written, preamble, start time).
+    """
+
+    time: np.ndarray
+    channels: dict[str, np.ndarray]
+    layout: Layout
+
+    @property
+    def source(self) -> str:
+        """Path of the file read."""
+        return self.layout.path
+
+    @property
+    def start(self) -> pd.Timestamp | None:
+        """Absolute time of the first sample, if known."""
+        return self.layout.start
+
+    @property
+    def rate(self) -> float:
+        """Sample rate [Hz]: the stated rate, or 1 / median time step."""
+        if self.layout.rate:
+            return self.layout.rate
+        if len(self.time) < 2:
+            return float("nan")
+        return float(1.0 / np.median(np.diff(self.time)))
+
+    def __len__(self) -> int:
+        return len(self.time)
+
+
+# ----------------------------------------------------------------------------- sniffing
+def _read_head(path: Path) -> tuple[str, str]:
+    """First bytes of the file as text, and the encoding to read it with."""
+    if not path.exists():
+        raise DataError(f"{path}: file does not exist; check the path")
+    if path.is_dir():
+        raise DataError(f"{path}: is a directory, not a log file; give a CSV, CSV.gz or "
+                        "Parquet file")
+    opener = gzip.open if path.suffix.lower() == ".gz" else open
+    try:
+        with opener(path, "rb") as fh:
+            raw = fh.read(_SNIFF_BYTES)
+    except (OSError, EOFError) as exc:
+        raise DataError(f"{path}: cannot be read as {'gzip' if opener is gzip.open else 'a file'}"
+                        f" ({exc}); check that the file is complete") from None
+    if not raw.strip():
+        raise DataError(f"{path}: the file is empty; export the log again")
+    if b"\x00" in raw[:4096]:
+        raise DataError(f"{path}: binary content, not a text export; give a CSV, CSV.gz or "
+                        "Parquet file")
+    try:
+        text = raw.decode("utf-8")
+        enc = "utf8"
+    except UnicodeDecodeError as exc:
+        if exc.start > len(raw) - 4:  # a multi-byte character cut by the sniff window
+            text, enc = raw[: exc.start].decode("utf-8"), "utf8"
+        else:
+            text, enc = raw.decode("latin-1"), "latin1"
+    if text.startswith("\ufeff"):
+        text = text[1:]
+    bad = sum(1 for ch in text[:4096] if ord(ch) < 32 and ch not in "\r\n\t")
+    if bad > 8:
+        raise DataError(f"{path}: binary content, not a text export; give a CSV, CSV.gz or "
+                        "Parquet file")
+    return text, enc
+
+
+def _split(line: str, delim: str) -> list[str]:
+    return [f.strip().strip('"').strip("'").strip() for f in line.split(delim)]
+
+
+def _is_num(s: str, decimal: str) -> bool:
+    if not _NUM.match(s):
+        return False
+    return decimal == "," or "," not in s
+
+
+def _is_value(s: str, decimal: str) -> bool:
+    s = s.strip()
+    return (s == "" or s.lower() in ("nan", "na", "null") or _is_num(s, decimal)
+            or bool(_ISO.match(s)))
+
+
+def _choose_delimiter(lines: list[str]) -> str:
+    best, best_score = ",", -1.0
+    tail = [ln for ln in lines[-50:] if ln.strip()]
+    for d in _DELIMS:
+        counts = [ln.count(d) for ln in tail]
+        if not counts or max(counts) == 0:
+            continue
+        mode = max(set(counts), key=counts.count)
+        score = counts.count(mode) / len(counts) * (1 + min(mode, 8) / 100)
+        if d == "," and ";" in tail[-1]:
+            score *= 0.5  # decimal commas inside a ;-delimited file
+        if score > best_score:
+            best, best_score = d, score
+    return best
+
+
+def _name_and_unit(name: str) -> tuple[str, str]:
+    """Split ``"Torque [kN·m]"`` / ``"torque (lbf*ft)"`` into name and unit text."""
+    m = _BRACKET_UNIT.match(name)
+    if m and m.group(2).strip():
+        return m.group(1).strip(), m.group(2).strip()
+    return name.strip(), ""
+
+
+def _words(name: str) -> list[str]:
+    return [w for w in re.split(r"[^a-z0-9]+", name.lower()) if w]
+
+
+def _detect_role(name: str) -> str | None:
+    words = _words(name)
+    if not words:
+        return None
+    for role in _ROLE_ORDER:
+        if any(w in _ROLE_WORDS[role] for w in words):
+            return role
+    return None
+
+
+def _suffix_unit(name: str, role: str | None) -> str:
+    """Unit given as a name suffix: ``time_s``, ``Speed_rpm``, ``speed_rad_s``."""
+    if role is None or role in ("index", "counts"):
+        return ""
+    parts = name.split("_")
+    for k in (2, 1):
+        if len(parts) > k:
+            cand = "/".join(parts[-k:]) if k == 2 else parts[-1]
+            if not cand or cand.lower() in ("mean", "raw", "filt", "1", "2"):
+                continue
+            try:
+                si_factor(cand, ROLES[role])
+                return cand
+            except UsageError:
+                continue
+    return ""
+
+
+def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
+                 units: dict[str, str] | None = None, rate: float | None = None,
+                 start: str | pd.Timestamp | None = None) -> Layout:
+    """Work out how a log file is laid out.
+
+    Parameters
+    ----------
+    path : str or Path
+        CSV, CSV.gz or Parquet file.
+    roles : dict, optional
+        Role → column name overrides (``{"torque": "Drehmoment"}``).
+    units : dict, optional
+        Role → unit overrides (``{"torque": "kN*m"}``).
+    rate : float, optional
+        Sample rate [Hz] for logs whose time is a sample index or absent.
+    start : str or Timestamp, optional
+        Absolute start time (overrides the file).
+
+    Returns
+    -------
+    Layout
+
+    Raises
+    ------
+    DataError
+        Empty, binary, header-less or otherwise unreadable files, naming the fix.
+    """
+    p = Path(path)
+    roles = {k: v for k, v in (roles or {}).items() if v}
+    units = {k: v for k, v in (units or {}).items() if v}
+    for k in list(roles) + list(units):
+        if k not in ROLES:
+            raise UsageError(f"unknown channel role {k!r}; valid: {', '.join(ROLES)}")
+    if p.suffix.lower() in (".parquet", ".pq"):
+        return _sniff_parquet(p, roles, units, rate, start)
+    text, enc = _read_head(p)
+    lines = text.splitlines()
+    if len(text) >= _SNIFF_BYTES and len(lines) > 1:
+        lines = lines[:-1]  # the last line may be cut by the sniff window
+    delim = _choose_delimiter(lines)
+    decimal = "."
+    # Locate the header: the last non-numeric line before the numeric block.
+    n_fields = None
+    data_start = None
+    for i in range(len(lines) - 1, -1, -1):
+        f = _split(lines[i], delim)
+        if len(f) >= 1 and lines[i].strip() and all(_is_value(x, ",") for x in f):
+            data_start = i
+            n_fields = n_fields or len(f)
+        elif data_start is not None:
+            break
+    if data_start is None:
+        if len(lines) <= 2:
+            raise DataError(f"{p}: has a header but no data rows; export the log with data")
+        raise DataError(f"{p}: no rows of numbers found; is this a logger export? "
+                        "(expected a header line followed by numeric rows)")
+    sample = [_split(ln, delim) for ln in lines[data_start:data_start + 50] if ln.strip()]
+    if delim == ";" and any("," in x for row in sample for x in row):
+        decimal = ","
+    header_idx = data_start - 1
+    unit_row: list[str] | None = None
+    while header_idx >= 0 and not lines[header_idx].strip():
+        header_idx -= 1
+    if header_idx < 0:
+        raise DataError(f"{p}: no header line with column names; add one "
+                        "(e.g. time_s,torque_Nm,speed_rpm)")
+    prev = header_idx - 1
+    cand = _split(lines[header_idx], delim)
+    if prev >= 0 and lines[prev].count(delim) == lines[header_idx].count(delim) and \
+            len(cand) == n_fields and _looks_like_units(cand):
+        unit_row = cand
+        header_idx = prev
+    header = _split(lines[header_idx], delim)
+    if len(header) != n_fields:
+        raise DataError(f"{p}: line {header_idx + 1}: the header has {len(header)} fields but "
+                        f"the data rows have {n_fields}; check the delimiter")
+    preamble = _parse_preamble(lines[:header_idx])
+    skip = data_start
+    return _build_layout(p, "csv", delim, decimal, enc, skip, header, unit_row, preamble,
+                         roles, units, rate, start, first_values=sample[0])
+
+
+def _looks_like_units(fields: list[str]) -> bool:
+    nonblank = [f for f in fields if f]
+    if not nonblank or any(_NUM.match(f) for f in nonblank):
+        return False
+    ok = 0
+    for f in nonblank:
+        t = f.strip("[]() ")
+        if t in ("-", "", "#", "V", "1"):
+            ok += 1
+            continue
+        for kind in ("time", "torque", "speed", "angle"):
+            try:
+                si_factor(t, kind)
+                ok += 1
+                break
+            except UsageError:
+                pass
+    return ok >= max(1, len(nonblank) - 1)
+
+
+def _parse_preamble(lines: list[str]) -> dict[str, str]:
+    meta: dict[str, str] = {}
+    for ln in lines:
+        m = _META.match(ln)
+        if m:
+            meta[m.group(1).strip()] = m.group(2).strip()
+    return meta
+
+
+def _preamble_rate(meta: dict[str, str]) -> float | None:
+    for key, value in meta.items():
+        k = key.lower()
+        if k in ("rate", "sample rate", "sampling rate", "samplerate", "fs", "frequency"):
+            m = re.match(r"^\s*([-+]?\d+(?:[.,]\d+)?(?:[eE][-+]?\d+)?)\s*(\S*)", value)
+            if m:
+                v = float(m.group(1).replace(",", "."))
+                unit = m.group(2) or "Hz"
+                return v * si_factor(unit, "frequency")
+        if k in ("interval", "sample interval", "dt", "period"):
+            m = re.match(r"^\s*([-+]?\d+(?:[.,]\d+)?(?:[eE][-+]?\d+)?)\s*(\S*)", value)
+            if m:
+                dt = float(m.group(1).replace(",", ".")) * si_factor(m.group(2) or "s", "time")
+                return 1.0 / dt if dt > 0 else None
+    return None
+
+
+def _preamble_start(meta: dict[str, str]) -> pd.Timestamp | None:
+    for key, value in meta.items():
+        if key.lower() in ("start", "start time", "starttime", "date", "started", "begin"):
+            try:
+                return pd.Timestamp(value)
+            except (ValueError, TypeError):
+                return None
+    return None
+
+
+def _build_layout(p: Path, kind: str, delim: str, decimal: str, enc: str, skip: int,
+                  header: list[str], unit_row: list[str] | None, preamble: dict[str, str],
+                  roles: dict[str, str], units: dict[str, str], rate: float | None,
+                  start: str | pd.Timestamp | None, first_values: list[Any]) -> Layout:
+    names = list(header)
+    if len(set(names)) != len(names):
+        dup = next(n for n in names if names.count(n) > 1)
+        raise DataError(f"{p}: column name {dup!r} appears twice in the header; rename one")
+    bare = [_name_and_unit(n) for n in names]
+    assigned: dict[int, str] = {}
+    for role, col in roles.items():
+        if col not in names:
+            raise UsageError(f"--{role} {col!r}: no such column in {p}; columns are: "
+                             f"{', '.join(names)}")
+        assigned[names.index(col)] = role
+    for i, (base, unit) in enumerate(bare):
+        if i in assigned:
+            continue
+        role = _detect_role(base) or (_detect_role(unit) if unit.lower() == "rpm" else None)
+        if role and role not in assigned.values() and role not in roles:
+            assigned[i] = role
+    cols: list[Column] = []
+    for i, name in enumerate(names):
+        role = assigned.get(i)
+        base, unit = bare[i]
+        source = "header"
+        if not unit and role:
+            unit = _suffix_unit(base, role)
+        if not unit and unit_row is not None and unit_row[i].strip("[]() -#"):
+            unit, source = unit_row[i].strip("[]() "), "unit row"
+        if role in units:
+            unit, source = units[role], "option"
+        factor = 1.0
+        if role and ROLES[role] != "dimensionless":
+            if not unit:
+                unit, source = _DEFAULT_UNITS[role], "assumed"
+            try:
+                factor = si_factor(unit, ROLES[role])
+            except UsageError as exc:
+                raise DataError(f"{p}: column {name!r}: {exc}; fix the header or give "
+                                f"--{role}-unit") from None
+        cols.append(Column(name, role, unit if role else unit, source if unit else "", factor))
+    # time
+    tcol = next((c for c in cols if c.role == "time"), None)
+    meta_rate = _preamble_rate(preamble)
+    rate = rate or meta_rate
+    if tcol is None:
+        if rate is None:
+            raise DataError(f"{p}: no time column found among {', '.join(names)}; name it "
+                            "with --time COL, or give --rate HZ if rows are evenly sampled")
+        time_kind = "none"
+    else:
+        ti = cols.index(tcol)
+        v = first_values[ti]
+        words = _words(_name_and_unit(tcol.name)[0])
+        if isinstance(v, str) and _ISO.match(v):
+            time_kind = "timestamp"
+        elif isinstance(v, pd.Timestamp | np.datetime64):
+            time_kind = "timestamp"
+        elif "sample" in words or "samples" in words or tcol.unit in ("-", "#"):
+            if rate is None:
+                raise DataError(f"{p}: time column {tcol.name!r} is a sample number and no "
+                                "rate is given; give --rate HZ or a 'Rate: ... Hz' line")
+            time_kind = "index"
+        else:
+            time_kind = "seconds"
+        if time_kind != "seconds":
+            unit = "ISO-8601" if time_kind == "timestamp" else "sample"
+            cols[ti] = replace(tcol, factor=1.0, unit=unit, unit_source="header")
+    st = pd.Timestamp(start) if start is not None else _preamble_start(preamble)
+    if st is None and time_kind == "timestamp":
+        st = pd.Timestamp(first_values[ti])
+    tz = False
+    if time_kind == "timestamp" and isinstance(first_values[0], str):
+        tz = bool(re.search(r"(Z|[+-]\d{2}:?\d{2})\s*$", first_values[ti]))
+    used = [c for c in cols if c.role and c.role != "time"]
+    if not used:
+        raise DataError(f"{p}: no torque, speed, angle, index or counts column found among "
+                        f"{', '.join(names)}; name them with --torque COL, --speed COL, ...")
+    return Layout(str(p), kind, delim, decimal, enc, skip, tuple(cols), time_kind, rate, st,
+                  preamble, tz)
+
+
+def _sniff_parquet(p: Path, roles: dict[str, str], units: dict[str, str],
+                   rate: float | None, start: Any) -> Layout:
+    import pyarrow.parquet as pq
+
+    if not p.exists():
+        raise DataError(f"{p}: file does not exist; check the path")
+    try:
+        pf = pq.ParquetFile(str(p))
+    except Exception as exc:  # noqa: BLE001 - pyarrow raises several types
+        raise DataError(f"{p}: not a readable Parquet file ({exc})") from None
+    names = pf.schema_arrow.names
+    first = pf.read_row_group(0, columns=names).slice(0, 1).to_pylist() if pf.num_row_groups \
+        else []
+    if not first:
+        raise DataError(f"{p}: the Parquet file has no rows")
+    meta = {k.decode(): v.decode() for k, v in (pf.schema_arrow.metadata or {}).items()
+            if not k.startswith(b"ARROW") and not k.startswith(b"pandas")}
+    values = [first[0][n] for n in names]
+    return _build_layout(p, "parquet", ",", ".", "utf8", 0, names, None, meta, roles, units,
+                         rate, start, values)
+
+
+# ----------------------------------------------------------------------------- reading
+class LogReader:
+    """Stream a log file as SI chunks.
+
+    Parameters
+    ----------
+    path : str or Path
+        The file.
+    block_rows : int
+        Approximate rows per chunk (memory is bounded by this, not the file length).
+    **sniff_options
+        Passed to :func:`sniff_layout` (``roles``, ``units``, ``rate``, ``start``).
+
+    Examples
+    --------
+    >>> reader = LogReader("sample_data/press_comma.csv")          # doctest: +SKIP
+    >>> for chunk in reader:                                       # doctest: +SKIP
+    ...     process(chunk.time, chunk.channels["torque"])
+    """
+
+    def __init__(self, path: str | Path, block_rows: int = 500_000,
+                 **sniff_options: Any) -> None:
+        self.layout = sniff_layout(path, **sniff_options)
+        self.block_rows = int(block_rows)
+
+    def __iter__(self) -> Iterator[Chunk]:
+        lay = self.layout
+        wanted = [c for c in lay.columns if c.role]
+        t0: float | int | None = None
+        last_t: float | None = None
+        row = 0
+        for batch in self._batches(wanted):
+            n = batch.num_rows
+            if n == 0:
+                continue
+            chans: dict[str, np.ndarray] = {}
+            time = None
+            for c in wanted:
+                arr = batch.column(c.name)
+                if c.role == "time":
+                    time = self._time(arr, row, n)
+                else:
+                    values = _to_float(arr)
+                    chans[c.role] = values * c.factor if c.factor != 1.0 else values
+            if time is None:
+                time = (row + np.arange(n, dtype=np.float64)) / lay.rate
+            elif lay.time_kind == "timestamp":
+                if t0 is None:
+                    t0 = int(time[0])
+                time = (time - t0).astype(np.float64) * 1e-9
+            elif lay.time_kind == "seconds":
+                if t0 is None:
+                    t0 = float(time[0])
+                time = time - t0
+            self._check_time(time, row, last_t)
+            last_t = float(time[-1])
+            yield Chunk(row, time, chans)
+            row += n
+        if row == 0:
+            raise DataError(f"{lay.path}: has a header but no data rows; export the log with "
+                            "data")
+
+    def _time(self, arr: pa.Array, row: int, n: int) -> np.ndarray:
+        lay = self.layout
+        if lay.time_kind == "timestamp":
+            if pa.types.is_timestamp(arr.type):
+                if isinstance(arr, pa.ChunkedArray):
+                    arr = arr.combine_chunks()
+                ns = arr.cast(pa.timestamp("ns", tz=arr.type.tz)).cast(pa.int64())
+                if ns.null_count:
+                    i = int(np.flatnonzero(ns.is_null().to_numpy(zero_copy_only=False))[0])
+                    raise DataError(f"{lay.path}: line {lay.skip_rows + row + i + 1}: empty "
+                                    "timestamp; remove the row or fill in the time")
+                return ns.to_numpy()
+            raise DataError(f"{lay.path}: time column is not ISO-8601 throughout")
+        values = _to_float(arr)
+        if lay.time_kind == "index":
+            return values / lay.rate
+        return values * lay.column("time").factor
+
+    def _check_time(self, time: np.ndarray, row: int, last: float | None) -> None:
+        lay = self.layout
+        if np.isnan(time).any():
+            i = int(np.flatnonzero(np.isnan(time))[0])
+            raise DataError(f"{lay.path}: line {lay.skip_rows + row + i + 1}: empty time value; "
+                            "remove the row or fill in the time")
+        d = np.diff(time)
+        if last is not None:
+            d = np.concatenate(([time[0] - last], d))
+            base = row - 1
+        else:
+            base = row
+        bad = np.flatnonzero(d <= 0)
+        if bad.size:
+            i = int(bad[0])
+            what = "repeats the previous time" if d[i] == 0 else "goes backwards in time"
+            raise DataError(f"{lay.path}: line {lay.skip_rows + base + i + 2}: timestamp {what}; "
+                            "sort the rows by time and remove duplicates")
+
+    def _batches(self, wanted: list[Column]) -> Iterator[pa.RecordBatch]:
+        lay = self.layout
+        if lay.kind == "parquet":
+            import pyarrow.parquet as pq
+
+            pf = pq.ParquetFile(lay.path)
+            yield from pf.iter_batches(batch_size=self.block_rows,
+                                       columns=[c.name for c in wanted])
+            return
+        names = [c.name for c in lay.columns]
+        types: dict[str, pa.DataType] = {}
+        for c in wanted:
+            if c.role == "time" and lay.time_kind == "timestamp":
+                types[c.name] = pa.timestamp("ns", tz="UTC" if lay.timestamp_tz else None)
+            else:
+                types[c.name] = pa.float64()
+        row_bytes = 12 * max(len(names), 1) + 8
+        read = pacsv.ReadOptions(skip_rows=lay.skip_rows, column_names=names,
+                                 block_size=max(1 << 16, self.block_rows * row_bytes),
+                                 encoding=lay.encoding, use_threads=True)
+        parse = pacsv.ParseOptions(delimiter=lay.delimiter)
+        conv = pacsv.ConvertOptions(column_types=types, include_columns=[c.name for c in wanted],
+                                    decimal_point=lay.decimal,
+                                    null_values=["", "NaN", "nan", "NA", "null", "-nan", "#N/A"],
+                                    strings_can_be_null=True)
+        try:
+            reader = pacsv.open_csv(lay.path, read_options=read, parse_options=parse,
+                                    convert_options=conv)
+            for batch in reader:
+                yield batch
+        except pa.ArrowInvalid as exc:
+            raise _explain_arrow_error(lay, wanted, exc) from None
+
+
+def _to_float(arr: pa.Array | pa.ChunkedArray) -> np.ndarray:
+    if isinstance(arr, pa.ChunkedArray):
+        arr = arr.combine_chunks()
+    if arr.null_count:
+        arr = arr.cast(pa.float64()).fill_null(math.nan)
+    return np.asarray(arr.to_numpy(zero_copy_only=False), dtype=np.float64)
+
+
+def _explain_arrow_error(lay: Layout, wanted: list[Column], exc: Exception) -> DataError:
+    """Turn a pyarrow conversion error into a sentence naming line and column."""
+    msg = str(exc)
+    m = re.search(r"CSV column #(\d+).*?invalid value '([^']*)'", msg)
+    if "Expected" in msg and "columns" in msg:
+        m2 = re.search(r"Expected (\d+) columns, got (\d+): (.*)", msg)
+        if m2:
+            return DataError(f"{lay.path}: a row has {m2.group(2)} fields where the header has "
+                             f"{m2.group(1)}: {m2.group(3)[:60]!r}; fix or remove that row")
+    if m:
+        col = lay.columns[int(m.group(1))] if int(m.group(1)) < len(lay.columns) else None
+        bad = m.group(2)
+        line = _find_line(lay, col, bad) if col is not None else None
+        where = f"line {line}, " if line else ""
+        cname = col.name if col else f"#{m.group(1)}"
+        if col is not None and col.role == "time" and lay.time_kind == "timestamp":
+            return DataError(f"{lay.path}: {where}column {cname!r}: {bad!r} is not an ISO-8601 "
+                             "timestamp; fix the value or remove the row")
+        return DataError(f"{lay.path}: {where}column {cname!r}: {bad!r} is not a number; "
+                         "fix the value or remove the row")
+    return DataError(f"{lay.path}: cannot parse the file ({msg.splitlines()[0]})")
+
+
+def _find_line(lay: Layout, col: Column, bad: str) -> int | None:
+    """Slow search for the line holding a bad value (error path only)."""
+    idx = [c.name for c in lay.columns].index(col.name)
+    opener = gzip.open if lay.path.lower().endswith(".gz") else open
+    enc = "utf-8" if lay.encoding == "utf8" else "latin-1"
+    with opener(lay.path, "rt", encoding=enc, errors="replace") as fh:
+        for n, line in enumerate(fh, start=1):
+            if n <= lay.skip_rows:
+                continue
+            f = _split(line.rstrip("\r\n"), lay.delimiter)
+            if idx < len(f) and f[idx] == bad:
+                return n
+    return None
+
+
+def read_log(path: str | Path, **options: Any) -> Record:
+    """Read a whole log into a :class:`Record` (built on the chunked reader).
+
+    Parameters
+    ----------
+    path : str or Path
+        CSV, CSV.gz or Parquet logger export.
+    **options
+        ``roles``, ``units``, ``rate`` [Hz], ``start`` as for :func:`sniff_layout`;
+        ``block_rows`` for the chunk size.
+
+    Returns
+    -------
+    Record
+        Time [s] and channels in SI.
+    """
+    reader = LogReader(path, **options)
+    times, chans = [], {}
+    for ch in reader:
+        times.append(ch.time)
+        for k, v in ch.channels.items():
+            chans.setdefault(k, []).append(v)
+    return Record(np.concatenate(times), {k: np.concatenate(v) for k, v in chans.items()},
+                  reader.layout)
