@@ -167,3 +167,184 @@ def cli(ctx: click.Context, debug: bool) -> None:
 def main() -> None:
     """Console entry point."""
     cli(prog_name="torqlog")
+
+
+# --------------------------------------------------------------------------- log options
+_ROLE_OPTS = ("time", "torque", "speed", "angle", "index", "counts")
+_UNIT_OPTS = ("time", "torque", "speed", "angle")
+
+
+def log_options(f: Callable) -> Callable:
+    """Options that say how to read a log (columns, units, rate, start)."""
+    for role in reversed(_UNIT_OPTS):
+        f = click.option(f"--{role}-unit", f"{role}_unit", default=None, metavar="UNIT",
+                         help=f"Unit of the {role} column (overrides the file).")(f)
+    for role in reversed(_ROLE_OPTS):
+        f = click.option(f"--{role}", f"{role}_col", default=None, metavar="COL",
+                         help=f"Column holding {role} (overrides detection by name).")(f)
+    f = click.option("--start", default=None, metavar="ISO",
+                     help="Absolute time of the first sample, e.g. 2026-03-02T06:00:00.")(f)
+    f = click.option("--rate", type=QuantityType("frequency", "Hz"), default=None,
+                     help="Sample rate [Hz] when the time column is a sample number or absent.")(f)
+    return f
+
+
+def read_kwargs(kw: dict[str, Any]) -> dict[str, Any]:
+    """Reading options for :func:`torqlog.ingest.sniff_layout` from CLI keywords."""
+    return {
+        "roles": {r: kw.pop(f"{r}_col") for r in _ROLE_OPTS if kw.get(f"{r}_col")}
+        | {r: None for r in ()},
+        "units": {r: kw.pop(f"{r}_unit") for r in _UNIT_OPTS if kw.get(f"{r}_unit")},
+        "rate": kw.pop("rate", None),
+        "start": kw.pop("start", None),
+    }
+
+
+def cycle_options(f: Callable) -> Callable:
+    """Options of the cycle stage (shared by cycles, size, shaft, trend, report)."""
+    opts = [
+        click.option("--profile", type=click.Path(dir_okay=False), default=None,
+                     help="Machine profile (TOML); options given here override it."),
+        click.option("--revs-per-cycle", type=click.IntRange(min=1), default=None,
+                     help="Shaft revolutions per machine cycle (2 for a four-stroke engine)."
+                          "  [default: 1, or the profile]"),
+        click.option("--cycle-source", type=click.Choice(
+            ["angle", "index", "counts", "speed", "nominal", "period"]), default=None,
+            help="Force how cycles are found (default: best the log allows)."),
+        click.option("--speed-rpm", type=QuantityType("speed", "rpm"), default=None,
+                     help="Nominal shaft speed [rpm] (cycle source 'nominal')."),
+        click.option("--pulses-per-rev", type=float, default=360.0, show_default=True,
+                     help="Encoder counts per revolution."),
+        click.option("--inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
+                     help="Rotating inertia at the logged shaft [kg·m²]."),
+        click.option("--speed-cutoff-orders", type=click.FloatRange(min=0), default=20.0,
+                     show_default=True,
+                     help="Zero-phase low-pass of speed before Cs, in cycle orders (0: off)."),
+        click.option("--torque-role", type=click.Choice(["load", "drive"]), default="load",
+                     show_default=True, help="Logged torque loads the shaft, or drives it "
+                                             "(an engine's crank torque)."),
+        click.option("--cs-mean", type=click.Choice(["cycle", "midrange"]), default="cycle",
+                     show_default=True, help="Mean speed in Cs: cycle mean, or (max+min)/2."),
+        click.option("--no-despike", is_flag=True, help="Keep one-sample spikes as they are."),
+    ]
+    for o in reversed(opts):
+        f = o(f)
+    return log_options(f)
+
+
+def load_profile_opt(path: str | None) -> Any:
+    """The machine profile named by ``--profile``, or None."""
+    if not path:
+        return None
+    from torqlog.profile import load_profile
+
+    return load_profile(path)
+
+
+def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
+    """Build :class:`torqlog.cycles.CycleOptions` from CLI keywords and a profile."""
+    from torqlog.cycles import CycleOptions
+
+    machine = profile.machine if profile is not None else {}
+    rpc = kw.pop("revs_per_cycle", None) or machine.get("revs_per_cycle", 1)
+    inertia = kw.pop("inertia", None) or machine.get("inertia")
+    return CycleOptions(
+        revs_per_cycle=int(rpc),
+        cycle_source=kw.pop("cycle_source", None),
+        nominal_speed=kw.pop("speed_rpm", None) or machine.get("speed"),
+        pulses_per_rev=kw.pop("pulses_per_rev", 360.0),
+        inertia=inertia,
+        speed_cutoff_orders=kw.pop("speed_cutoff_orders", 20.0),
+        torque_role=kw.pop("torque_role", "load"),
+        cs_mean=kw.pop("cs_mean", "cycle"),
+        despike=not kw.pop("no_despike", False),
+    )
+
+
+def run_cycles(log: str, kw: dict[str, Any]) -> Any:
+    """Run the cycle stage for a CLI command; pops the options it uses from ``kw``."""
+    from torqlog.cycles import analyse_cycles
+
+    profile = load_profile_opt(kw.pop("profile", None))
+    read = read_kwargs(kw)
+    opts = make_cycle_options(kw, profile)
+    return analyse_cycles(log, opts, **read), profile
+
+
+# --------------------------------------------------------------------------- inspect
+@cli.command()
+@click.argument("log", type=click.Path(dir_okay=True))
+@log_options
+@click.option("--speed-rpm", type=QuantityType("speed", "rpm"), default=None,
+              help="Nominal speed [rpm] (makes the 'nominal' cycle source available).")
+@output_options
+def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
+            **kw: Any) -> None:
+    """Show what is in a log: columns, roles, units, rate, gaps, NaNs, clipping."""
+    from torqlog.survey import survey_log
+
+    s = survey_log(log, nominal_speed=speed_rpm, **read_kwargs(kw))
+    d = s.to_dict()
+    cols = pd.DataFrame(d["columns"]).rename(columns={"si_factor": "SI factor"})
+    lines = [
+        f"file        {d['source']}",
+        f"format      {d['format']}"
+        + (f", {d['delimiter']}-delimited, decimal '{d['decimal']}'" if d["delimiter"] else ""),
+        f"rows        {d['rows']}",
+        f"duration    {d['duration_s']:.6g} s",
+        f"sample rate {d['sample_rate_hz']:.6g} Hz (time-step jitter "
+        f"{100 * d['rate_jitter']:.3g} %)",
+        f"start       {d['start_time'] or 'not stated'}",
+        f"time        {d['time_kind']}",
+        f"gaps        {d['gaps']['count']}"
+        + (f" (longest {d['gaps']['longest_s']:.4g} s; first after t = "
+           f"{d['gaps']['list'][0]['after_s']:.6g} s, row {d['gaps']['list'][0]['row']})"
+           if d["gaps"]["count"] else ""),
+        "NaN rows    " + (", ".join(f"{k} {v}" for k, v in d["nan_rows"].items()) or "none"),
+        "clipped     " + (", ".join(f"{k} {v} samples" for k, v in d["clipped_samples"].items())
+                          or "none found"),
+        f"cycles from {d['cycle_source'] or '-'}: {d['cycle_source_note']}",
+    ]
+    if d["preamble"]:
+        lines.append("preamble    " + "; ".join(f"{k}: {v}" for k, v in d["preamble"].items()))
+    emit(d, cols if fmt == "csv" else cols, fmt, output, text="\n".join(lines) + "\n")
+
+
+# --------------------------------------------------------------------------- cycles
+@cli.command()
+@click.argument("log", type=click.Path(dir_okay=True))
+@cycle_options
+@click.option("--plot", type=click.Path(dir_okay=False), default=None,
+              help="Write a PNG: torque, E(θ) and speed against crank angle.")
+@output_options
+def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) -> None:
+    """Split a log into machine cycles: energy swing, Cs and torque per cycle."""
+    res, _ = run_cycles(log, kw)
+    if plot:
+        res.plot(plot)
+        click.echo(f"wrote {plot}", err=True)
+    s = res.summary
+    de, cs = s["energy_swing_J"], s["cs"]
+
+    def g(x: float | None, scale: float = 1.0, unit: str = "") -> str:
+        return "-" if x is None else f"{x * scale:.4g}{unit}"
+
+    text = "\n".join([
+        f"{res.source}: {s['cycles']} clean cycles of {s['cycles_total']} "
+        f"(cycle source: {res.options['cycle_source']}, {res.options['revs_per_cycle']} "
+        f"rev/cycle), {g(s['cycle_rate_per_min'])} cycles/min at {g(s['speed_mean_rpm'])} rpm",
+        f"energy swing  median {g(de['median'], 1e-3, ' kJ')}, p95 {g(de['p95'], 1e-3, ' kJ')},"
+        f" max {g(de['max'], 1e-3, ' kJ')}",
+        f"Cs            median {g(cs['median'])}, p95 {g(cs['p95'])}, max {g(cs['max'])}"
+        f"  (speed low-passed at {res.options['speed_cutoff_orders']:g} cycle orders)",
+        f"peak torque   p99 {g(s['torque_peak_Nm_p99'], 1e-3, ' kN·m')}",
+        *(f"note: {n}" for n in res.notes),
+        *([f"flagged: {s['flags']}"] if s["flags"] else []),
+        "",
+    ])
+    table = res.table
+    if fmt == "table":
+        table = table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
+                       "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
+                       "flag"]]
+    emit(res.to_dict(), table, fmt, output, text=text)

@@ -1,0 +1,542 @@
+"""Cycles in the angle domain: split a streamed log into machine cycles, one row each.
+
+:func:`analyse_cycles` reads a log chunk by chunk (memory bounded by the chunk size),
+tracks the shaft angle, cuts a cycle every ``revs_per_cycle`` × 2π, and reduces each
+cycle to its figures (work, energy swing, Cs ...) with vectorised segment reductions. A
+cycle that spans a chunk boundary is carried over to the next chunk. Cycles with a gap,
+NaNs or clipped samples stay in the table with a ``flag`` and are left out of the summary.
+
+References
+----------
+.. [1] R. G. Budynas and J. K. Nisbett, *Shigley's Mechanical Engineering Design*,
+   10th ed., McGraw-Hill, 2015, sec. 16-12 (energy swing and coefficient of speed
+   fluctuation; ΔE ≈ I·Cs·ω̄², eq. 16-62).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass, field
+from itertools import chain
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from torqlog import angle as ang
+from torqlog import condition as cond
+from torqlog import energy as en
+from torqlog.errors import DataError, UsageError
+from torqlog.ingest import Chunk, Layout, LogReader
+
+TWO_PI = 2.0 * math.pi
+RPM = 60.0 / TWO_PI
+
+#: Default low-pass cut-off for speed before Cs, in cycle orders (stated in every result).
+DEFAULT_SPEED_CUTOFF_ORDERS = 20.0
+#: Cycles of look-ahead kept back in each chunk so the speed filter has context.
+_HOLD = 2
+#: Cycles kept for plotting every cycle faintly.
+MAX_CURVES = 300
+
+COLUMNS = ("cycle", "t_start_s", "start_time", "duration_s", "speed_mean_rpm",
+           "speed_min_rpm", "speed_max_rpm", "torque_mean_Nm", "torque_peak_Nm",
+           "torque_min_Nm", "work_J", "energy_swing_J", "angle_speed_min_deg",
+           "angle_speed_max_deg", "cs", "cs_predicted", "flag")
+
+
+@dataclass(frozen=True)
+class CycleOptions:
+    """Options of the cycle stage (all SI).
+
+    Attributes
+    ----------
+    revs_per_cycle : int
+        Shaft revolutions per machine cycle (2 for a four-stroke engine).
+    cycle_source : str or None
+        Force one of :data:`torqlog.angle.CYCLE_SOURCES`; None picks the best available.
+    nominal_speed : float or None [rad/s]
+        Nominal shaft speed (cycle source ``"nominal"``).
+    pulses_per_rev : float
+        Encoder counts per revolution.
+    inertia : float or None [kg*m^2]
+        Rotating inertia referred to the logged shaft (for ``cs_predicted`` and the
+        speed-only energy swing).
+    speed_cutoff_orders : float
+        Zero-phase low-pass of speed before max − min, in cycle orders (0 = off).
+    cs_mean : {"cycle", "midrange"}
+        Which mean speed Cs divides by.
+    torque_role : {"load", "drive"}
+        Whether the logged torque loads the shaft (press, compressor) or drives it (an
+        engine's crank torque); decides where speed is lowest.
+    despike : bool
+        Replace one-sample spikes before computing.
+    block_rows : int
+        Rows per chunk read.
+    """
+
+    revs_per_cycle: int = 1
+    cycle_source: str | None = None
+    nominal_speed: float | None = None
+    pulses_per_rev: float = 360.0
+    inertia: float | None = None
+    speed_cutoff_orders: float = DEFAULT_SPEED_CUTOFF_ORDERS
+    cs_mean: str = "cycle"
+    torque_role: str = "load"
+    despike: bool = True
+    block_rows: int = 1_000_000
+
+    def __post_init__(self) -> None:
+        if int(self.revs_per_cycle) != self.revs_per_cycle or self.revs_per_cycle < 1:
+            raise UsageError(f"revs per cycle must be a whole number ≥ 1, got "
+                             f"{self.revs_per_cycle}")
+        if self.torque_role not in ("load", "drive"):
+            raise UsageError(f"unknown torque role {self.torque_role!r}; valid: load, drive")
+        if self.cs_mean not in ("cycle", "midrange"):
+            raise UsageError(f"unknown Cs mean {self.cs_mean!r}; valid: cycle, midrange")
+        if self.speed_cutoff_orders < 0:
+            raise UsageError("speed cut-off orders must be ≥ 0 (0 turns the filter off)")
+        if self.nominal_speed is not None and self.nominal_speed <= 0:
+            raise UsageError("nominal speed must be positive")
+        if self.inertia is not None and self.inertia <= 0:
+            raise UsageError("inertia must be positive")
+        if self.pulses_per_rev <= 0:
+            raise UsageError("pulses per rev must be positive")
+
+
+@dataclass(frozen=True)
+class CycleResult:
+    """Everything the cycle stage found in one log.
+
+    Attributes
+    ----------
+    source : str
+        The log file.
+    table : pandas.DataFrame
+        One row per cycle, columns :data:`COLUMNS`.
+    summary : dict
+        Statistics over clean cycles.
+    mean_cycle : pandas.DataFrame
+        The mean clean cycle on a uniform angle grid: ``angle`` [rad] (bin centres),
+        ``torque_mean``, ``torque_sd`` [N*m], ``speed_mean``, ``speed_sd`` [rad/s].
+    curves : dict
+        ``"torque"`` and ``"speed"``: arrays (cycles, bins) of the first clean cycles,
+        for plots.
+    options : dict
+        Every option that produced this result, including the cycle source used.
+    layout : Layout
+        How the file was read.
+    notes : list of str
+        Things the reader should know (missing channels, estimated period ...).
+    """
+
+    source: str
+    table: pd.DataFrame
+    summary: dict[str, Any]
+    mean_cycle: pd.DataFrame
+    curves: dict[str, np.ndarray]
+    options: dict[str, Any]
+    layout: Layout
+    notes: list[str] = field(default_factory=list)
+
+    def to_pandas(self) -> pd.DataFrame:
+        """The per-cycle table."""
+        return self.table
+
+    @property
+    def clean(self) -> pd.DataFrame:
+        """Rows without a flag."""
+        return self.table[self.table["flag"] == ""]
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON contract of ``torqlog cycles``."""
+        rows = self.table.astype(object).where(self.table.notna(), None)
+        if "start_time" in rows:
+            rows["start_time"] = [None if v is None else pd.Timestamp(v).isoformat()
+                                  for v in rows["start_time"]]
+        return {"source": self.source, "options": self.options,
+                "cycles": rows.to_dict(orient="records"), "summary": self.summary,
+                "notes": self.notes}
+
+    def energy_curve(self) -> np.ndarray:
+        """E(θ) [J] of the mean cycle on the ``mean_cycle`` grid (bin edges from 0)."""
+        a = self.mean_cycle["angle"].to_numpy()
+        t = self.mean_cycle["torque_mean"].to_numpy()
+        step = a[1] - a[0]
+        e = np.concatenate(([0.0], np.cumsum(t - t.mean()) * step))
+        return e
+
+    def plot(self, path: str | Path) -> Path:
+        """Three panels: torque vs angle, E(θ) of the mean cycle, speed vs angle."""
+        from torqlog.plots import plot_cycles
+
+        return plot_cycles(self, path)
+
+
+# ----------------------------------------------------------------------------- engine
+class _Stream:
+    """Carries samples and state from chunk to chunk."""
+
+    def __init__(self, opts: CycleOptions, tracker: ang.AngleTracker, has: set[str],
+                 speed_from_angle: bool, nb_mean: int, nb_speed: int) -> None:
+        self.o = opts
+        self.tracker = tracker
+        self.has = has
+        self.speed_from_angle = speed_from_angle
+        self.nb_mean = nb_mean
+        self.nb_speed = nb_speed
+        self.span = TWO_PI * opts.revs_per_cycle
+        self.carry: dict[str, np.ndarray] | None = None
+        self.next_m: int | None = None
+        self.dt: float | None = None
+        self.rows: list[dict[str, np.ndarray]] = []
+        self.speed_ctx: np.ndarray | None = None  # raw speed bins of recent cycles
+        self.mean_acc: dict[str, np.ndarray] = {}
+        self.mean_n = 0
+        self.curves: dict[str, list[np.ndarray]] = {"torque": [], "speed": []}
+        self.n_curves = 0
+        self.spikes = 0
+        self.samples = 0
+        self.cycle_no = 0
+
+    def feed(self, chunk: Chunk, final: bool) -> None:
+        t = chunk.time
+        self.samples += len(t)
+        if self.dt is None and len(t) > 1:
+            self.dt = float(np.median(np.diff(t)))
+        new: dict[str, np.ndarray] = {"time": t}
+        nanmask = np.zeros(len(t), dtype=bool)
+        for role in ("torque", "speed"):
+            if role in chunk.channels:
+                x, bad = cond.fill_nan(t, chunk.channels[role])
+                nanmask |= bad
+                if self.o.despike:
+                    x, sp = cond.despike(x)
+                    self.spikes += int(sp.sum())
+                new[role] = x
+        new["nan"] = nanmask
+        theta = self.tracker.push(t, chunk.channels)
+        new["theta"] = np.asarray(theta, dtype=np.float64)
+        buf = new if self.carry is None else {
+            k: np.concatenate((self.carry[k], new[k])) for k in new}
+        if self.tracker.source == "index" and self.carry is not None:
+            nc = len(self.carry["time"])
+            head = buf["theta"][:nc]
+            if np.isnan(head).any():
+                buf["theta"][:nc] = self.tracker.angle_at(buf["time"][:nc])
+        self._process(buf, final)
+
+    def _process(self, buf: dict[str, np.ndarray], final: bool) -> None:
+        theta = buf["theta"]
+        finite = np.isfinite(theta)
+        if not finite.any():
+            self.carry = buf
+            return
+        first = int(np.argmax(finite))
+        last = len(theta) - int(np.argmax(finite[::-1])) - 1
+        if first > 0:  # before the first index edge: no angle yet, drop
+            buf = {k: v[first:] for k, v in buf.items()}
+            theta = buf["theta"]
+            last -= first
+        th = np.maximum.accumulate(np.where(np.isfinite(theta), theta, -np.inf))
+        th[last + 1:] = np.nan
+        if self.next_m is None:
+            self.next_m = math.ceil(th[0] / self.span - 1e-12)
+        m_last = math.floor(th[last] / self.span)
+        m_stop = m_last if final else m_last - _HOLD
+        n_emit = m_stop - self.next_m
+        n_all = m_last - self.next_m
+        if n_emit < 1:
+            self.carry = buf
+            return
+        bounds_all = self.span * np.arange(self.next_m, m_last + 1, dtype=np.float64)
+        seg = slice(0, last + 1)
+        t, thv = buf["time"][seg], th[seg]
+        self._emit(buf, t, thv, bounds_all, n_emit, n_all)
+        cut = self.span * m_stop
+        keep_from = max(int(np.searchsorted(thv, cut, side="right")) - 1, 0)
+        self.carry = {k: v[keep_from:] for k, v in buf.items()}
+        self.next_m = m_stop
+
+    def _emit(self, buf: dict[str, np.ndarray], t: np.ndarray, th: np.ndarray,
+              bounds_all: np.ndarray, n_emit: int, n_all: int) -> None:
+        o = self.o
+        bounds = bounds_all[: n_emit + 1]
+        starts, cid, stop = en.segments(th, bounds)
+        if np.any(np.diff(np.append(starts, stop)) < 2):
+            raise DataError("fewer than two samples in a cycle: the sample rate is too low for "
+                            "this speed, or the cycle source is wrong")
+        lo = int(starts[0])
+        off = starts - lo
+        tb = np.interp(bounds, th, t)
+        duration = np.diff(tb)
+        w_mean = self.span / duration
+        row: dict[str, np.ndarray] = {
+            "t_start_s": tb[:-1], "duration_s": duration, "speed_mean": w_mean}
+        nan = np.zeros(n_emit, dtype=bool)
+        tq = buf.get("torque")
+        if tq is not None:
+            tq = tq[: len(t)]
+            ce = en.cycle_energy(th, tq, bounds)
+            row.update(work=ce.work, torque_mean=ce.torque_mean, torque_peak=ce.torque_peak,
+                       torque_min=ce.torque_min, energy_swing=ce.energy_swing)
+            if o.torque_role == "load":
+                row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_max, ce.angle_e_min
+            else:
+                row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_min, ce.angle_e_max
+            flat = cond.flat_runs(tq[lo:stop])
+            seg_tq = tq[lo:stop]
+            at_ext = (seg_tq == ce.torque_peak[cid]) | (seg_tq == ce.torque_min[cid])
+            clipped = np.add.reduceat((flat & at_ext).astype(np.int64), off) > 0
+        else:
+            clipped = np.zeros(n_emit, dtype=bool)
+        nan = np.add.reduceat(buf["nan"][lo:stop].astype(np.int64), off) > 0
+        if lo == 0:
+            step = np.concatenate(([0.0], np.diff(t[:stop])))
+        else:
+            step = np.diff(t[lo - 1:stop])
+        gap = np.maximum.reduceat(step, off) > cond.GAP_FACTOR * (self.dt or np.inf)
+        # speed, per angle bin, low-passed in the angle domain
+        wmax = wmin = None
+        sp_bins_all = None
+        bounds_sp = bounds_all
+        if "speed" in self.has or self.speed_from_angle:
+            if "speed" in self.has:
+                sp_bins_all = en.angle_bins(th, buf["speed"][: len(t)], bounds_sp, self.nb_speed)
+            else:
+                sp_bins_all = en.speed_bins_from_angle(t, th, bounds_sp, self.nb_speed)
+            ctx = self.speed_ctx
+            series = sp_bins_all if ctx is None else np.vstack((ctx, sp_bins_all))
+            nctx = 0 if ctx is None else ctx.shape[0]
+            filled = en.fill_rows(series)
+            if o.speed_cutoff_orders > 0:
+                cutoff = o.speed_cutoff_orders / (self.nb_speed / 2.0)
+                smooth = cond.lowpass(filled.ravel(), cutoff).reshape(filled.shape)
+            else:
+                smooth = filled
+            mine = smooth[nctx: nctx + n_emit]
+            wmax, wmin = mine.max(axis=1), mine.min(axis=1)
+            self.speed_ctx = sp_bins_all[max(0, n_emit - 4): n_emit]
+            if tq is None:
+                centre = (np.arange(self.nb_speed) + 0.5) * self.span / self.nb_speed
+                row["angle_speed_min"] = centre[np.argmin(mine, axis=1)]
+                row["angle_speed_max"] = centre[np.argmax(mine, axis=1)]
+            row["speed_max"], row["speed_min"] = wmax, wmin
+        flags = np.full(n_emit, "", dtype=object)
+        for name, mask in (("gap", gap), ("nan", nan), ("clipped", clipped)):
+            if mask.any():
+                flags[mask] = np.where(flags[mask] == "", name, flags[mask] + "+" + name)
+        row["flag"] = flags
+        row["cycle"] = self.cycle_no + 1 + np.arange(n_emit)
+        self.cycle_no += n_emit
+        self.rows.append(row)
+        # mean cycle (clean cycles only) and curves for plots
+        clean = flags == ""
+        if clean.any():
+            bm = bounds
+            parts: dict[str, np.ndarray] = {}
+            if tq is not None:
+                parts["torque"] = en.fill_rows(en.angle_bins(th, tq, bm, self.nb_mean))
+            if "speed" in self.has:
+                parts["speed"] = en.fill_rows(
+                    en.angle_bins(th, buf["speed"][: len(t)], bm, self.nb_mean))
+            elif self.speed_from_angle:
+                parts["speed"] = en.fill_rows(en.speed_bins_from_angle(t, th, bm, self.nb_mean))
+            for k, a in parts.items():
+                a = a[clean]
+                s1, s2 = self.mean_acc.get(k + "1", 0.0), self.mean_acc.get(k + "2", 0.0)
+                self.mean_acc[k + "1"] = s1 + a.sum(axis=0)
+                self.mean_acc[k + "2"] = s2 + (a * a).sum(axis=0)
+                room = MAX_CURVES - self.n_curves
+                if room > 0:
+                    self.curves[k].append(a[:room])
+            self.mean_n += int(clean.sum())
+            self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
+
+
+def _tracker_for(source: str, opts: CycleOptions, first: Chunk, path: str
+                 ) -> tuple[ang.AngleTracker, list[str], dict[str, Any]]:
+    notes: list[str] = []
+    extra: dict[str, Any] = {}
+    period = None
+    if source == "period":
+        sig = first.channels.get("torque", first.channels.get("speed"))
+        n = min(len(sig), 1 << 19)
+        est = ang.estimate_period(first.time[:n], sig[:n], path=path)
+        period = est.period
+        extra = {"period_s": est.period, "period_confidence": round(est.confidence, 4)}
+        notes.append(f"no speed, angle or index channel: cycle period estimated from the "
+                     f"signal as {est.period:.6g} s (autocorrelation peak "
+                     f"{est.confidence:.2f}); give --speed-rpm or a speed channel to be sure")
+    tracker = ang.AngleTracker(source, pulses_per_rev=opts.pulses_per_rev,
+                               nominal_speed=opts.nominal_speed, period=period,
+                               revs_per_cycle=opts.revs_per_cycle)
+    return tracker, notes, extra
+
+
+def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
+                   roles: dict[str, str] | None = None, units: dict[str, str] | None = None,
+                   rate: float | None = None, start: str | None = None) -> CycleResult:
+    """Split a log into cycles and compute the per-cycle figures, streaming.
+
+    Parameters
+    ----------
+    path : str or Path
+        The logger export (CSV, CSV.gz, Parquet).
+    options : CycleOptions, optional
+        Cycle-stage options (defaults stated in :class:`CycleOptions`).
+    roles, units, rate, start
+        Reading options, as for :func:`torqlog.ingest.sniff_layout`.
+
+    Returns
+    -------
+    CycleResult
+
+    Raises
+    ------
+    DataError
+        Too few cycles, no periodicity, a missing channel for the chosen source.
+
+    References
+    ----------
+    Budynas & Nisbett, *Shigley's*, 10th ed., sec. 16-12.
+    """
+    o = options or CycleOptions()
+    reader = LogReader(path, block_rows=o.block_rows, roles=roles, units=units, rate=rate,
+                       start=start)
+    lay = reader.layout
+    roles_present = set(lay.roles)
+    source = ang.pick_cycle_source(roles_present, nominal_speed=o.nominal_speed,
+                                   forced=o.cycle_source, path=lay.path)
+    has = roles_present & {"torque", "speed"}
+    if not has and "angle" not in roles_present and "counts" not in roles_present:
+        raise DataError(f"{lay.path}: no torque or speed channel (and no angle or encoder to "
+                        "derive speed from): nothing to compute; name the columns with "
+                        "--torque COL / --speed COL")
+    speed_from_angle = "speed" not in has and source in ("angle", "counts")
+    it = iter(reader)
+    first = next(it)
+    tracker, notes, extra = _tracker_for(source, o, first, lay.path)
+    nb_speed = int(min(2048, max(32, 8 * o.speed_cutoff_orders))) if o.speed_cutoff_orders \
+        else 720 * o.revs_per_cycle
+    nb_mean = 360 * o.revs_per_cycle
+    st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed)
+    pending = first
+    for chunk in chain(it, [None]):
+        st.feed(pending, final=chunk is None)
+        pending = chunk
+    if st.cycle_no < 2:
+        raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
+                        f"are needed — record a longer log (cycle source {source!r}, "
+                        f"{o.revs_per_cycle} rev per cycle)")
+    table = _table(st, lay, o)
+    if "torque" not in has:
+        notes.append("no torque channel: energy swing " + (
+            "from ½·I·(ω_max² − ω_min²) with the given inertia" if o.inertia else
+            "needs the inertia (--inertia or [machine] inertia_kgm2); left empty"))
+    if "speed" not in has and not speed_from_angle:
+        notes.append("no speed channel (and no angle/encoder): Cs left empty")
+    if st.spikes:
+        notes.append(f"{st.spikes} one-sample spike(s) replaced by their neighbours' mean")
+    opts = asdict(o)
+    opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,
+                 "angle_grid_bins": nb_mean, "sample_rate_hz": 1.0 / st.dt if st.dt else None,
+                 **extra})
+    opts.pop("block_rows")
+    summary = summarise(table, spikes=st.spikes, samples=st.samples)
+    mean_cycle = _mean_cycle(st)
+    curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
+    return CycleResult(lay.path, table, summary, mean_cycle, curves, opts, lay, notes)
+
+
+def _table(st: _Stream, lay: Layout, o: CycleOptions) -> pd.DataFrame:
+    cols: dict[str, np.ndarray] = {}
+    for k in st.rows[0]:
+        cols[k] = np.concatenate([r[k] for r in st.rows])
+    n = cols["cycle"].size
+    nan = np.full(n, np.nan)
+    wmean = cols["speed_mean"]
+    wmax, wmin = cols.get("speed_max", nan), cols.get("speed_min", nan)
+    cs = en.coefficient_of_fluctuation(wmax, wmin, wmean, mean=o.cs_mean)
+    de = cols.get("energy_swing")
+    if de is None:
+        de = 0.5 * o.inertia * (wmax**2 - wmin**2) if o.inertia else nan
+        cs_pred = nan
+    else:
+        cs_pred = de / (o.inertia * wmean**2) if o.inertia else nan
+    start = pd.Series(pd.NaT, index=range(n), dtype="datetime64[ns]")
+    if lay.start is not None:
+        start = lay.start + pd.to_timedelta(cols["t_start_s"], unit="s")
+    deg = 180.0 / math.pi
+    df = pd.DataFrame({
+        "cycle": cols["cycle"].astype(np.int64),
+        "t_start_s": cols["t_start_s"],
+        "start_time": start,
+        "duration_s": cols["duration_s"],
+        "speed_mean_rpm": wmean * RPM,
+        "speed_min_rpm": wmin * RPM,
+        "speed_max_rpm": wmax * RPM,
+        "torque_mean_Nm": cols.get("torque_mean", nan),
+        "torque_peak_Nm": cols.get("torque_peak", nan),
+        "torque_min_Nm": cols.get("torque_min", nan),
+        "work_J": cols.get("work", nan),
+        "energy_swing_J": de,
+        "angle_speed_min_deg": cols.get("angle_speed_min", nan) * deg,
+        "angle_speed_max_deg": cols.get("angle_speed_max", nan) * deg,
+        "cs": cs,
+        "cs_predicted": cs_pred,
+        "flag": cols["flag"].astype(str),
+    })
+    return df
+
+
+def _stats(x: pd.Series) -> dict[str, float | None]:
+    x = x.dropna()
+    if x.empty:
+        return {"median": None, "p95": None, "max": None}
+    return {"median": float(x.median()), "p95": float(x.quantile(0.95)), "max": float(x.max())}
+
+
+def summarise(table: pd.DataFrame, **extra: Any) -> dict[str, Any]:
+    """Summary over the clean cycles of a per-cycle table.
+
+    Returns a dict with ``cycles`` (clean count), ``cycles_total``, ``flagged``,
+    ``cycle_rate_per_min``, ``energy_swing_J`` and ``cs`` ({median, p95, max}),
+    ``torque_peak_Nm_p99``, ``speed_mean_rpm``, ``work_J_mean``, ``torque_mean_Nm``.
+    """
+    clean = table[table["flag"] == ""]
+    out: dict[str, Any] = {
+        "cycles": int(len(clean)),
+        "cycles_total": int(len(table)),
+        "flagged": int((table["flag"] != "").sum()),
+        "cycle_rate_per_min": float(60.0 / clean["duration_s"].median()) if len(clean)
+        else None,
+        "energy_swing_J": _stats(clean["energy_swing_J"]),
+        "cs": _stats(clean["cs"]),
+        "torque_peak_Nm_p99": float(clean["torque_peak_Nm"].quantile(0.99))
+        if clean["torque_peak_Nm"].notna().any() else None,
+        "speed_mean_rpm": float(clean["speed_mean_rpm"].mean()) if len(clean) else None,
+        "work_J_mean": float(clean["work_J"].mean()) if clean["work_J"].notna().any() else None,
+        "torque_mean_Nm": float(clean["torque_mean_Nm"].mean())
+        if clean["torque_mean_Nm"].notna().any() else None,
+    }
+    flags = table.loc[table["flag"] != "", "flag"].str.split("+").explode()
+    out["flags"] = {str(k): int(v) for k, v in flags.value_counts().items()}
+    out.update(extra)
+    return out
+
+
+def _mean_cycle(st: _Stream) -> pd.DataFrame:
+    nb = st.nb_mean
+    a = (np.arange(nb) + 0.5) * st.span / nb
+    df = {"angle": a}
+    n = max(st.mean_n, 1)
+    for k in ("torque", "speed"):
+        if k + "1" in st.mean_acc:
+            m = st.mean_acc[k + "1"] / n
+            var = np.maximum(st.mean_acc[k + "2"] / n - m * m, 0.0)
+            df[k + "_mean"], df[k + "_sd"] = m, np.sqrt(var)
+        else:
+            df[k + "_mean"] = df[k + "_sd"] = np.full(nb, np.nan)
+    return pd.DataFrame(df)
