@@ -197,6 +197,7 @@ class _Stream:
         self.curves: dict[str, list[np.ndarray]] = {"torque": [], "speed": []}
         self.n_curves = 0
         self.spikes = 0
+        self.spike_scale: dict[str, float] = {}
         self.samples = 0
         self.cycle_no = 0
 
@@ -212,7 +213,9 @@ class _Stream:
                 x, bad = cond.fill_nan(t, chunk.channels[role])
                 nanmask |= bad
                 if self.o.despike:
-                    x, sp = cond.despike(x)
+                    if role not in self.spike_scale:
+                        self.spike_scale[role] = cond.spike_scale(x)
+                    x, sp = cond.despike(x, scale=self.spike_scale[role])
                     self.spikes += int(sp.sum())
                 new[role] = x
         new["nan"] = nanmask
@@ -263,12 +266,17 @@ class _Stream:
               bounds_all: np.ndarray, n_emit: int, n_all: int) -> None:
         o = self.o
         bounds = bounds_all[: n_emit + 1]
-        starts, cid, stop = en.segments(th, bounds)
-        if np.any(np.diff(np.append(starts, stop)) < 2):
+        sg_all = en.Segments.build(th, bounds_all)
+        if np.any(np.diff(np.append(sg_all.offsets, sg_all.stop - sg_all.lo)) < 2):
             raise DataError("fewer than two samples in a cycle: the sample rate is too low for "
                             "this speed, or the cycle source is wrong")
-        lo = int(starts[0])
-        off = starts - lo
+        sg = en.Segments(bounds, sg_all.lo, sg_all.lo + int(sg_all.offsets[n_emit])
+                         if n_emit < sg_all.n else sg_all.stop, sg_all.offsets[:n_emit],
+                         sg_all.cid[: (sg_all.offsets[n_emit] if n_emit < sg_all.n
+                                       else sg_all.cid.size)],
+                         sg_all.frac[: (sg_all.offsets[n_emit] if n_emit < sg_all.n
+                                        else sg_all.frac.size)])
+        lo, stop, cid, off = sg.lo, sg.stop, sg.cid, sg.offsets
         tb = np.interp(bounds, th, t)
         duration = np.diff(tb)
         w_mean = self.span / duration
@@ -278,7 +286,7 @@ class _Stream:
         tq = buf.get("torque")
         if tq is not None:
             tq = tq[: len(t)]
-            ce = en.cycle_energy(th, tq, bounds)
+            ce = en.cycle_energy(th, tq, bounds, sg)
             row.update(work=ce.work, torque_mean=ce.torque_mean, torque_peak=ce.torque_peak,
                        torque_min=ce.torque_min, energy_swing=ce.energy_swing)
             if o.torque_role == "load":
@@ -303,7 +311,7 @@ class _Stream:
         bounds_sp = bounds_all
         if "speed" in self.has or self.speed_from_angle:
             if "speed" in self.has:
-                sp_bins_all = en.angle_bins(th, buf["speed"][: len(t)], bounds_sp, self.nb_speed)
+                sp_bins_all = sg_all.bins(buf["speed"][: len(t)], self.nb_speed)
             else:
                 sp_bins_all = en.speed_bins_from_angle(t, th, bounds_sp, self.nb_speed)
             ctx = self.speed_ctx
@@ -337,10 +345,9 @@ class _Stream:
             bm = bounds
             parts: dict[str, np.ndarray] = {}
             if tq is not None:
-                parts["torque"] = en.fill_rows(en.angle_bins(th, tq, bm, self.nb_mean))
+                parts["torque"] = en.fill_rows(sg.bins(tq, self.nb_mean))
             if "speed" in self.has:
-                parts["speed"] = en.fill_rows(
-                    en.angle_bins(th, buf["speed"][: len(t)], bm, self.nb_mean))
+                parts["speed"] = en.fill_rows(sg.bins(buf["speed"][: len(t)], self.nb_mean))
             elif self.speed_from_angle:
                 parts["speed"] = en.fill_rows(en.speed_bins_from_angle(t, th, bm, self.nb_mean))
             for k, a in parts.items():

@@ -77,6 +77,61 @@ class CycleEnergy:
     angle_e_min: np.ndarray
 
 
+@dataclass(frozen=True)
+class Segments:
+    """Where each cycle's samples lie, computed once and shared by the reductions.
+
+    Attributes
+    ----------
+    bounds : ndarray [rad]
+        Cycle boundary angles (n + 1).
+    lo, stop : int
+        First sample of the first cycle; one past the last sample of the last cycle.
+    offsets : ndarray of int
+        Start of each cycle relative to ``lo`` (for ``ufunc.reduceat``).
+    cid : ndarray of int
+        Cycle number of each sample in ``lo:stop``.
+    frac : ndarray
+        Position of each sample in ``lo:stop`` within its cycle, 0 ≤ frac ≤ 1.
+    """
+
+    bounds: np.ndarray
+    lo: int
+    stop: int
+    offsets: np.ndarray
+    cid: np.ndarray
+    frac: np.ndarray
+
+    @property
+    def n(self) -> int:
+        """Number of cycles."""
+        return int(self.bounds.size - 1)
+
+    @classmethod
+    def build(cls, angle: np.ndarray, bounds: np.ndarray) -> Segments:
+        """Locate the cycles given by ``bounds`` in an increasing ``angle`` array."""
+        starts, cid, stop = segments(angle, bounds)
+        lo = int(starts[0])
+        span = np.diff(bounds)
+        frac = (angle[lo:stop] - bounds[cid]) / span[cid]
+        return cls(bounds, lo, stop, starts - lo, cid, frac)
+
+    def bins(self, values: np.ndarray, nbins: int) -> np.ndarray:
+        """Mean of ``values`` (full-length array) in ``nbins`` equal angle bins per cycle.
+
+        Returns shape (n_cycles, nbins); an empty bin is NaN.
+        """
+        n = self.n
+        j = (self.frac * nbins).astype(np.int64)
+        np.clip(j, 0, nbins - 1, out=j)
+        g = self.cid * nbins + j
+        s = np.bincount(g, weights=values[self.lo:self.stop], minlength=n * nbins)
+        c = np.bincount(g, minlength=n * nbins)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            out = s / c
+        return out.reshape(n, nbins)
+
+
 def segments(angle: np.ndarray, bounds: np.ndarray) -> tuple[np.ndarray, np.ndarray, int]:
     """Sample ranges of cycles: samples with bounds[k] < θ ≤ bounds[k+1].
 
@@ -104,7 +159,8 @@ def _first_where(mask: np.ndarray, cid: np.ndarray, n: int) -> np.ndarray:
     return out
 
 
-def cycle_energy(angle: np.ndarray, torque: np.ndarray, bounds: np.ndarray) -> CycleEnergy:
+def cycle_energy(angle: np.ndarray, torque: np.ndarray, bounds: np.ndarray,
+                 seg: Segments | None = None) -> CycleEnergy:
     """Work, mean/peak torque and energy swing of consecutive cycles, vectorised.
 
     Parameters
@@ -127,16 +183,15 @@ def cycle_energy(angle: np.ndarray, torque: np.ndarray, bounds: np.ndarray) -> C
     Machinery*, 5th ed., sec. 11.11.
     """
     n = bounds.size - 1
+    seg = seg or Segments.build(angle, bounds)
     w = cumulative_trapezoid(torque, angle, initial=0.0)
     wb = np.interp(bounds, angle, w)
     span = np.diff(bounds)
     work = np.diff(wb)
     tmean = work / span
-    starts, cid, stop = segments(angle, bounds)
-    lo = int(starts[0])
+    lo, stop, cid, off = seg.lo, seg.stop, seg.cid, seg.offsets
     th, ww, tq = angle[lo:stop], w[lo:stop], torque[lo:stop]
     e = ww - wb[cid] - tmean[cid] * (th - bounds[cid])
-    off = starts - lo
     emax = np.maximum(np.maximum.reduceat(e, off), 0.0)
     emin = np.minimum(np.minimum.reduceat(e, off), 0.0)
     tb = np.interp(bounds, angle, torque)
@@ -156,18 +211,7 @@ def angle_bins(angle: np.ndarray, values: np.ndarray, bounds: np.ndarray, nbins:
 
     Returns an array of shape (n_cycles, nbins); a bin with no sample is NaN.
     """
-    n = bounds.size - 1
-    starts, cid, stop = segments(angle, bounds)
-    lo = int(starts[0])
-    span = np.diff(bounds)
-    j = ((angle[lo:stop] - bounds[cid]) / span[cid] * nbins).astype(np.int64)
-    np.clip(j, 0, nbins - 1, out=j)
-    g = cid * nbins + j
-    s = np.bincount(g, weights=values[lo:stop], minlength=n * nbins)
-    c = np.bincount(g, minlength=n * nbins)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        out = s / c
-    return out.reshape(n, nbins)
+    return Segments.build(angle, bounds).bins(values, nbins)
 
 
 def speed_bins_from_angle(time: np.ndarray, angle: np.ndarray, bounds: np.ndarray,

@@ -689,8 +689,7 @@ class LogReader:
         try:
             reader = pacsv.open_csv(lay.path, read_options=read, parse_options=parse,
                                     convert_options=conv)
-            for batch in reader:
-                yield batch
+            yield from reader
         except pa.ArrowInvalid as exc:
             raise _explain_arrow_error(lay, wanted, exc) from None
 

@@ -75,7 +75,10 @@ _ALIASES: dict[str, str] = {
 @functools.lru_cache(maxsize=1)
 def registry() -> pint.UnitRegistry:
     """Return the (cached, read-only in use) pint unit registry torqlog uses."""
-    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    try:  # pint's own definition cache makes start-up ~15x faster after the first run
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=":auto:")
+    except Exception:  # noqa: BLE001 - an unwritable cache folder must not stop us
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
     ureg.define("kilogram_force_meter = kilogram_force * meter = kgfm")
     return ureg
 
