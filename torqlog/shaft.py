@@ -437,7 +437,8 @@ def rayleigh(model: ShaftModel, include_self_weight: bool = False, *,
     Returns
     -------
     float [Hz]
-        An upper bound of the first natural frequency.
+        An upper bound of the first natural frequency (inf when every mass sits on a
+        bearing of a massless shaft).
 
     References
     ----------
@@ -453,7 +454,10 @@ def rayleigh(model: ShaftModel, include_self_weight: bool = False, *,
         w, t = u[0::2], u[1::2]
         y_mid = (w[:-1] + w[1:]) / 2 + mesh.le * (t[:-1] - t[1:]) / 8
         y, m = np.concatenate([y, y_mid]), np.concatenate([m, mesh.me])
-    omega2 = GRAVITY * np.sum(m * y) / np.sum(m * y**2)
+    den = np.sum(m * y**2)
+    if den == 0:  # every mass sits on a bearing: nothing deflects
+        return math.inf
+    omega2 = GRAVITY * np.sum(m * y) / den
     return float(np.sqrt(omega2) / (2 * math.pi))
 
 
@@ -469,7 +473,8 @@ def dunkerley(model: ShaftModel, include_self_weight: bool = False, *,
     Returns
     -------
     float [Hz]
-        A lower bound of the first natural frequency.
+        A lower bound of the first natural frequency (inf when every mass sits on a
+        bearing of a massless shaft).
 
     References
     ----------
@@ -491,6 +496,8 @@ def dunkerley(model: ShaftModel, include_self_weight: bool = False, *,
         f_bare = fe_modes(model.without_masses(), 1, max_element=max_element)[0]
         if len(f_bare):
             inv += 1.0 / (2 * math.pi * f_bare[0]) ** 2
+    if inv == 0:  # every mass sits on a bearing: nothing deflects
+        return math.inf
     return float(1.0 / np.sqrt(inv) / (2 * math.pi))
 
 
