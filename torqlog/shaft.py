@@ -42,6 +42,7 @@ from dataclasses import dataclass, field
 from typing import Any, NamedTuple
 
 import numpy as np
+import pandas as pd
 import scipy.linalg
 
 from torqlog.errors import DataError, UsageError
@@ -907,6 +908,22 @@ class ShaftResult:
     def current(self) -> ShaftState:
         return self.after if self.after is not None else self.before
 
+    def to_pandas(self) -> pd.DataFrame:
+        """One row per frequency: ``state``, ``check``, ``estimate``, ``frequency_Hz``."""
+        rows: list[tuple[str, str, str, float]] = []
+        states = [("before", self.before)] + ([("after", self.after)] if self.after else [])
+        for label, st in states:
+            lat = st.lateral
+            rows += [(label, "lateral", "Rayleigh", lat.rayleigh_hz),
+                     (label, "lateral", "Dunkerley", lat.dunkerley_hz)]
+            rows += [(label, "lateral", f"FE mode {i + 1}", f) for i, f in enumerate(lat.fe_hz)]
+            if st.torsional is not None:
+                tor = st.torsional
+                rows += [(label, "torsional", "rigid body" if r else f"mode {i}", f)
+                         for i, (f, r) in enumerate(zip(tor.modes_hz, tor.rigid_body,
+                                                        strict=True))]
+        return pd.DataFrame(rows, columns=["state", "check", "estimate", "frequency_Hz"])
+
     def to_dict(self) -> dict[str, Any]:
         cur = self.current.to_dict()
         return {"before": self.before.to_dict(),
@@ -956,7 +973,7 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     if speed is None:
         speed = profile.machine.get("speed")
     if speed is None:
-        raise UsageError("no running speed: give --speed-rpm (speed=) or speed_rpm in the "
+        raise UsageError("no running speed: give --speed-rpm or set speed_rpm in the "
                          "profile's [machine] section")
     if not speed > 0:
         raise UsageError(f"running speed must be positive, got {speed * 60 / (2 * math.pi):g} rpm")
