@@ -59,6 +59,21 @@ def test_single_mass_rayleigh_dunkerley_fe_equal_sqrt_k_over_m(a):
     assert shapes.shape == (1, len(shaft_mesh(model)))
 
 
+def test_rotary_inertia_of_central_disc():
+    # Roark's Formulas for Stress and Strain, Table 8.1 (from memory): simply supported
+    # span, central load: k = 48 E I / L^3; central couple: slope at the couple
+    # theta = M L / (12 E I), so k_theta = 12 E I / L. A thin disc's diametral inertia is
+    # half its polar inertia. At midspan the two motions uncouple.
+    length, m, ip = 1.0, 50.0, 4.0
+    seg = ShaftSegment(length, 0.05)
+    model = ShaftModel([seg], [0.0, length], [PointMass("disc", m, 0.5, ip)], E, 0.0)
+    ei = E * seg.second_moment
+    freqs, _ = fe_modes(model, rotary_inertia=True)
+    expected = [_hz(48 * ei / (m * length**3)), _hz(12 * ei / length / (ip / 2))]
+    assert freqs == pytest.approx(expected, rel=1e-6)
+    assert len(fe_modes(model)[0]) == 1  # without rotary inertia only the bounce mode
+
+
 def test_central_load_deflection():
     # Gere & Timoshenko, Mechanics of Materials, beam tables: P L^3 / (48 E I) at midspan.
     length, d, m = 1.0, 0.05, 100.0
@@ -229,6 +244,7 @@ def test_torsional_check_flags_mode_near_significant_order():
     # the same order with a share below min_share is not significant
     assert torsional_check(chain, {4.0: 0.01}, speed).verdict == "pass"
     assert torsional_check(chain, [4.0], speed, band=0.04).verdict == "pass"
+    assert torsional_check(chain).verdict == "not checked"  # no speed: modes only
 
 
 # ----------------------------------------------------------------- the check
@@ -284,3 +300,44 @@ def test_check_shaft_errors():
     with pytest.raises(UsageError, match=r"^no element 'rim' in the torsional chain; valid: "
                                          r"motor, flywheel, crank$"):
         check_shaft(prof, add_inertia=10.0, add_inertia_at="rim")
+
+
+def test_check_shaft_with_order_spectrum():
+    # orders 1 and 2 strong, order 5 below the 5 % share: the highest forcing is 2x speed
+    from torqlog.spectrum import order_spectrum
+
+    theta = np.arange(360) * 2 * np.pi / 360
+    torque = 900.0 + 400.0 * np.cos(theta) + 300.0 * np.cos(2 * theta) + 10.0 * np.cos(5 * theta)
+    spec = order_spectrum(torque)
+    prof = parse_profile(_PROFILE, "press.toml")
+    d = check_shaft(prof, orders=spec).to_dict()
+    assert d["options"]["orders_source"] == "spectrum"
+    assert d["options"]["forcing_order"] == 2.0
+    assert d["lateral"]["forcing_hz"] == pytest.approx(2 * 45.0 / 60.0, rel=1e-12)
+    assert d["torsional"]["orders_checked"] == [1.0, 2.0]
+    assert not any("assumed significant" in c for c in d["cautions"])
+
+
+def test_materials_module_is_used_when_present(monkeypatch):
+    # the materials table is consulted through get_material(name).modulus/.density
+    import sys
+    import types
+
+    fake = types.ModuleType("torqlog.materials")
+
+    def get_material(name):
+        table = {"steel": (210e9, 7850.0, 81e9), "aluminium": (70e9, 2700.0, 26e9)}
+        e, rho, g = table[name]
+        return types.SimpleNamespace(modulus=e, density=rho, poisson=0.3, shear_modulus=g)
+
+    fake.get_material = get_material
+    monkeypatch.setitem(sys.modules, "torqlog.materials", fake)
+    from torqlog.shaft import shaft_model_from_profile
+
+    data = {"shaft": dict(_PROFILE["shaft"])}
+    data["shaft"]["segments"] = [dict(s) for s in data["shaft"]["segments"]]
+    data["shaft"]["segments"][1]["material"] = "aluminium"
+    model = shaft_model_from_profile(parse_profile(data, "press.toml"))
+    assert model.modulus == 210e9
+    assert model.segments[1].modulus == 70e9 and model.segments[1].density == 2700.0
+    assert model.segments[0].modulus is None
