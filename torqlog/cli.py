@@ -348,3 +348,116 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
                        "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
                        "flag"]]
     emit(res.to_dict(), table, fmt, output, text=text)
+# --- shaft
+def _flywheel_json(path: str) -> tuple[float, float]:
+    """Mass [kg] and inertia [kg*m^2] from a flywheel result JSON file."""
+    from torqlog.errors import DataError
+
+    try:
+        data = json.loads(Path(path).read_text(encoding="utf-8"))
+    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+        raise DataError(f"{path}: not a valid JSON file ({exc})") from None
+    values = []
+    for key in ("mass_kg", "inertia_kgm2"):
+        v = data.get(key) if isinstance(data, dict) else None
+        if isinstance(v, bool) or not isinstance(v, int | float) or not v > 0:
+            raise DataError(f"{path}: needs positive numbers mass_kg and inertia_kgm2 "
+                            f"(the JSON of 'torqlog flywheel --format json')")
+        values.append(float(v))
+    return values[0], values[1]
+
+
+def _shaft_text(d: dict[str, Any], name: str) -> str:
+    o = d["options"]
+    lines = [f"Shaft check{': ' + name if name else ''}  (running speed "
+             f"{o['speed_rpm']:.1f} rpm = {o['speed_hz']:.3f} Hz; forcing up to order "
+             f"{o['forcing_order']:g}, orders {o['orders_source']})"]
+    for label in ("before", "after"):
+        st = d[label]
+        if st is None:
+            continue
+        if label == "after":
+            added = []
+            if o["add_mass_kg"] is not None:
+                added.append(f"+{o['add_mass_kg']:g} kg at {o['add_mass_at_m']:g} m")
+            if o["add_inertia_kgm2"] is not None:
+                added.append(f"+{o['add_inertia_kgm2']:g} kg·m² at {o['add_inertia_at']}")
+            label = f"after ({', '.join(added)})"
+        lat = st["lateral"]
+        lines.append(f"\n[{label}]")
+        lines.append(f"  lateral: Rayleigh {lat['rayleigh_hz']:.1f} Hz, Dunkerley "
+                     f"{lat['dunkerley_hz']:.1f} Hz, FE "
+                     + ", ".join(f"{f:.1f}" for f in lat["fe_hz"]) + " Hz; "
+                     f"max static deflection {lat['static_deflection_max_mm']:.3f} mm")
+        lines.append(f"    {lat['margin_text']}")
+        tor = st["torsional"]
+        if tor is not None:
+            modes = ", ".join("0 (rigid body)" if r else f"{f:.1f}"
+                              for f, r in zip(tor["modes_hz"], tor["rigid_body"], strict=True))
+            lines.append(f"  torsional: modes {modes} Hz")
+            lines.append(f"    {tor['margin_text']}")
+            for hit in tor["near_orders"]:
+                share = "assumed" if hit["share"] is None else f"{hit['share']:.2f}"
+                lines.append(f"    ! mode {hit['mode_hz']:.1f} Hz near order {hit['order']:g} "
+                             f"({hit['order_hz']:.2f} Hz, share {share}, detune "
+                             f"{hit['detune'] * 100:+.1f} %)")
+    lines.append("\nCautions:")
+    lines += [f"  - {c}" for c in d["cautions"]]
+    return "\n".join(lines) + "\n"
+
+
+@cli.command("shaft")
+@click.option("--profile", "profile_path", required=True,
+              type=click.Path(exists=True, dir_okay=False), help="Machine profile (TOML).")
+@click.option("--speed-rpm", "speed", type=QuantityType("speed", "rpm"), default=None,
+              help="Shaft speed (default: [machine] speed_rpm of the profile).")
+@click.option("--add-mass", type=QuantityType("mass", "kg"), default=None,
+              help="Mass added to the shaft, e.g. a new flywheel.")
+@click.option("--at", "add_mass_at", type=QuantityType("length", "m"), default=None,
+              help="Position of the added mass along the shaft (default: where the "
+                   "profile's mass named like --add-inertia-at sits).")
+@click.option("--add-inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
+              help="Inertia added to the torsional chain.")
+@click.option("--add-inertia-at", default=None,
+              help="Chain element that takes the added inertia [default: flywheel].")
+@click.option("--from-flywheel", "flywheel_file", type=click.Path(exists=True, dir_okay=False),
+              default=None, help="Flywheel result JSON (mass_kg, inertia_kgm2) to add.")
+@click.option("--required-ratio", type=float, default=None,
+              help="Required first lateral frequency / highest forcing [default: 3].")
+@click.option("--band", type=float, default=None,
+              help="Torsional band around each order, as a fraction [default: 0.10].")
+@click.option("--min-share", type=float, default=None,
+              help="Smallest share of the dynamic torque that counts [default: 0.05].")
+@click.option("--self-weight", is_flag=True, default=None,
+              help="Include the shaft's own weight in Rayleigh, Dunkerley and deflection.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+              help="Write a PNG figure.")
+@output_options
+def shaft_cmd(profile_path: str, speed: float | None, add_mass: float | None,
+              add_mass_at: float | None, add_inertia: float | None, add_inertia_at: str | None,
+              flywheel_file: str | None, required_ratio: float | None, band: float | None,
+              min_share: float | None, self_weight: bool | None, plot_path: str | None,
+              fmt: str, output: str | None) -> None:
+    """Shaft natural frequencies, lateral and torsional, against the running speed."""
+    from torqlog.errors import UsageError
+    from torqlog.profile import load_profile
+    from torqlog.shaft import check_shaft
+
+    if flywheel_file is not None:
+        if add_mass is not None or add_inertia is not None:
+            raise UsageError("give either --from-flywheel or --add-mass/--add-inertia, "
+                             "not both")
+        add_mass, add_inertia = _flywheel_json(flywheel_file)
+    profile = load_profile(profile_path)
+    result = check_shaft(profile, speed=speed, add_mass=add_mass, add_mass_at=add_mass_at,
+                         add_inertia=add_inertia, add_inertia_at=add_inertia_at,
+                         required_ratio=required_ratio, band=band, min_share=min_share,
+                         self_weight=self_weight or None)
+    data = result.to_dict()
+    if plot_path:
+        from torqlog.plots import plot_shaft
+
+        plot_shaft(result, plot_path)
+        click.echo(f"wrote {plot_path}", err=True)
+    emit(data, result.to_pandas(), fmt, output,
+         text=_shaft_text(data, profile.machine.get("name", "")))

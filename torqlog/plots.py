@@ -121,4 +121,109 @@ def plot_cycles(result: object, path: str | Path) -> Path:
     ax_w.set_xlabel("crank angle within the cycle [deg]")
     ax_w.set_xlim(0, float(np.degrees(result.mean_cycle['angle'].iloc[-1]) +
                            (deg[1] - deg[0]) / 2))
+# --- shaft
+def plot_shaft(result: object, path: str | Path, spectrum: object | None = None) -> Path:
+    """Shaft check figure: static deflection, first lateral mode shapes, and (with a
+    spectrum) the torque orders at the running speed against the torsional modes.
+
+    Parameters
+    ----------
+    result : ShaftResult
+        From :func:`torqlog.shaft.check_shaft`.
+    path : str or Path
+        PNG file to write.
+    spectrum : OrderSpectrum, optional
+        Orders of the torque; drawn as stems at order x running speed [Hz], with each
+        elastic torsional mode as a vertical line and the band of order frequencies that
+        would be flagged (f / (1 + band) to f / (1 - band)) shaded.
+    """
+    import numpy as np
+
+    states = [("before", result.before, PALETTE["data"])]
+    if result.after is not None:
+        states.append(("after", result.after, PALETTE["after"]))
+    nrows = 3 if spectrum is not None else 2
+    fig, axes = new_figure(nrows, 1, height=2.9, width=8.5)
+    ax = axes[0]
+    for label, st, color in states:
+        lat = st.lateral
+        ax.plot(lat.x, lat.deflection * 1e3, color=color,
+                label=f"{label}: max {lat.static_deflection_max * 1e3:.3f} mm")
+        for m in lat.model.masses:
+            yi = np.interp(m.at, lat.x, lat.deflection) * 1e3
+            ax.plot(m.at, yi, "o", color=color, ms=6 + 3 * (m.name == "added"))
+            if label == "before" or m.name == "added":
+                right = m.at > 0.8 * lat.model.length
+                ax.annotate(f"{m.name} {m.mass:g} kg",
+                            (m.at, yi), textcoords="offset points",
+                            xytext=(-6 if right else 4, -12 if label == "before" else 6),
+                            ha="right" if right else "left", fontsize=8, color=color)
+    cur = result.current.lateral
+    ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
+            color=PALETTE["reference"], ms=10, label="bearing (simple support)")
+    ax.axhline(0.0, color=PALETTE["reference"], lw=0.8)
+    ax.invert_yaxis()
+    ax.set_title("Static deflection under the weights of the masses")
+    ax.set_xlabel("position along shaft x [m]")
+    ax.set_ylabel("deflection (down) [mm]")
+    ax.legend(loc="best")
+
+    ax = axes[1]
+    styles = ["-", "--", ":"]
+    for i, (f, shape) in enumerate(zip(cur.fe_hz, cur.mode_shapes, strict=False)):
+        ax.plot(cur.x, shape, styles[i % 3], color=PALETTE["data"] if i == 0 else
+                PALETTE["reference"], label=f"mode {i + 1}: {f:.1f} Hz")
+    ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
+            color=PALETTE["reference"], ms=10, label="bearing")
+    state = "after" if result.after is not None else "current"
+    ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× highest forcing "
+                 f"{cur.forcing_hz:.2f} Hz: {cur.verdict}")
+    ax.set_xlabel("position along shaft x [m]")
+    ax.set_ylabel("relative deflection [-]")
+    ax.legend(loc="best", ncols=2)
+
+    if spectrum is not None:
+        ax = axes[2]
+        speed_hz = result.speed / (2 * np.pi)
+        freq = spectrum.order * speed_hz
+        tor = result.current.torsional
+        min_share = tor.min_share if tor is not None else 0.05
+        sig = spectrum.share >= min_share
+        ax.vlines(freq, 0, spectrum.amplitude, color=PALETTE["data"], lw=2)
+        ax.plot(freq[sig], spectrum.amplitude[sig], "o", color=PALETTE["data"],
+                label=f"order, share ≥ {min_share:g}")
+        ax.plot(freq[~sig], spectrum.amplitude[~sig], "o", mfc="white",
+                color=PALETTE["data"], label="order, minor")
+        top = spectrum.amplitude.max() if len(spectrum.amplitude) else 1.0
+        for o, f, a in zip(spectrum.order[sig][:8], freq[sig][:8], spectrum.amplitude[sig][:8],
+                           strict=True):
+            ax.annotate(f"{o:g}×", (f, a), textcoords="offset points", xytext=(0, 4),
+                        ha="center", fontsize=8)
+        hi = freq.max() if len(freq) else 1.0
+        if tor is not None:
+            first = True
+            for f, rigid in zip(tor.modes_hz, tor.rigid_body, strict=True):
+                if rigid:
+                    continue
+                ax.axvspan(f / (1 + tor.band), f / (1 - tor.band), color=PALETTE["band"],
+                           alpha=0.5, lw=0,
+                           label=f"±{tor.band * 100:g} % band" if first else None)
+                ax.axvline(f, color=PALETTE["limit"], lw=1.5,
+                           label="torsional mode" if first else None)
+                ax.annotate(f"{f:.1f} Hz", (f, top * 0.7), textcoords="offset points",
+                            xytext=(3, 0), fontsize=8, color=PALETTE["limit"])
+                first = False
+                hi = max(hi, f / (1 - tor.band))
+        ax.axvline(cur.fe_hz[0] if cur.fe_hz else np.nan, color=PALETTE["mean"], ls="--",
+                   lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz"
+                   if cur.fe_hz else None)
+        ax.set_xscale("log")
+        lo = freq.min() if len(freq) else 0.1
+        ax.set_xlim(lo * 0.8, max(hi, cur.fe_hz[0] if cur.fe_hz else hi) * 1.3)
+        ax.set_ylim(0, top * 1.6)
+        ax.set_title(f"Torque orders at {speed_hz * 60:.0f} rpm vs torsional modes")
+        ax.set_xlabel("frequency [Hz] (order × running speed)")
+        ax.set_ylabel("torque amplitude [N·m]")
+        ax.legend(loc="upper center", ncols=3, frameon=True, framealpha=0.9,
+                  edgecolor=PALETTE["grid"])
     return save(fig, path)

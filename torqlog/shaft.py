@@ -1,0 +1,1060 @@
+"""Shaft natural frequencies: lateral (Rayleigh, Dunkerley, beam finite elements) and
+torsional (lumped inertia chain), held against the running speed and its orders.
+
+Lateral model
+-------------
+A stepped, possibly hollow shaft on simple supports (zero deflection at each bearing,
+free rotation), carrying point masses anywhere along it, overhung ones included. It is
+meshed with Euler-Bernoulli beam elements (two degrees of freedom per node, deflection
+and slope, Hermite cubic shape functions) with nodes at every segment end, bearing and
+mass position. The shaft's own mass enters through the consistent element mass matrix,
+the point masses are lumped at their nodes. Modes are those of the non-rotating shaft:
+gyroscopic stiffening, shear deformation and bearing flexibility are neglected.
+
+Torsional model
+---------------
+A free-free chain of rigid inertias joined by torsional springs, as in the profile's
+``[torsional]`` section. Its first mode is the rigid-body rotation at 0 Hz, which is
+reported as such and never as a resonance.
+
+Every result here is a preliminary engineering estimate; see :data:`CAUTIONS`.
+
+References
+----------
+.. [1] J. M. Gere and S. P. Timoshenko, *Mechanics of Materials*, beam deflection tables.
+.. [2] W. C. Young and R. G. Budynas, *Roark's Formulas for Stress and Strain*, 7th ed.,
+   Table 8.1 (beams: shear, moment and deflection formulas).
+.. [3] W. T. Thomson and M. D. Dahleh, *Theory of Vibration with Applications*, 5th ed.:
+   Rayleigh's method, Dunkerley's equation, torsional systems.
+.. [4] R. D. Blevins, *Formulas for Natural Frequency and Mode Shape*, Table 8-1.
+.. [5] J. S. Przemieniecki, *Theory of Matrix Structural Analysis*, 1968: beam element
+   stiffness and consistent mass matrices.
+.. [6] J. P. Den Hartog, *Mechanical Vibrations*, 4th ed., torsional vibration of
+   multi-disc shafts.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any, NamedTuple
+
+import numpy as np
+import pandas as pd
+import scipy.linalg
+
+from torqlog.errors import DataError, UsageError
+from torqlog.profile import MachineProfile
+
+#: Standard acceleration of gravity [m/s^2] (CGPM 1901; NIST SP 811).
+GRAVITY = 9.80665
+
+#: Carbon steel (E [Pa], rho [kg/m^3], nu [-]), used only when ``torqlog.materials`` is
+#: not available. Typical handbook values for carbon steel, quoted from memory.
+_STEEL = (207e9, 7850.0, 0.3)
+
+#: Orders assumed significant when no spectrum is given: k / revs_per_cycle up to this
+#: order of the shaft speed. A stated default of this program, not a standard.
+ASSUMED_MAX_ORDER = 10.0
+
+#: Cautions carried by every shaft result.
+CAUTIONS: tuple[str, ...] = (
+    "Preliminary engineering estimate only, not a design approval.",
+    "Simple supports idealise real bearings: bearing, housing and foundation flexibility "
+    "lower the natural frequencies below these figures; gyroscopic and shear effects "
+    "are neglected.",
+    "A shaft that fails can injure people: the final design follows the applicable codes "
+    "and standards and is approved by a qualified, licensed engineer.",
+)
+
+LATERAL_METHODS = ("fe", "rayleigh", "dunkerley")
+
+
+# --------------------------------------------------------------------------- inputs
+@dataclass(frozen=True)
+class ShaftSegment:
+    """A cylindrical length of shaft.
+
+    Attributes
+    ----------
+    length : float [m]
+    diameter : float [m]
+        Outer diameter.
+    bore : float [m]
+        Inner diameter of a hollow segment, 0 for solid.
+    modulus, density : float or None [Pa], [kg/m^3]
+        Per-segment material overriding the model's, None to use the model's.
+    """
+
+    length: float
+    diameter: float
+    bore: float = 0.0
+    modulus: float | None = None
+    density: float | None = None
+
+    @property
+    def area(self) -> float:
+        """Cross-section area [m^2]."""
+        return math.pi / 4.0 * (self.diameter**2 - self.bore**2)
+
+    @property
+    def second_moment(self) -> float:
+        """Second moment of area about a diameter, I = pi (d^4 - d_i^4) / 64 [m^4]."""
+        return math.pi / 64.0 * (self.diameter**4 - self.bore**4)
+
+    @property
+    def polar_moment(self) -> float:
+        """Polar second moment of area, J = pi (d^4 - d_i^4) / 32 [m^4]."""
+        return math.pi / 32.0 * (self.diameter**4 - self.bore**4)
+
+
+@dataclass(frozen=True)
+class PointMass:
+    """A part carried by the shaft (flywheel, gear, pulley, coupling half).
+
+    Attributes
+    ----------
+    name : str
+    mass : float [kg]
+    at : float [m]
+        Position along the shaft, from x = 0 at the start of the first segment.
+    inertia : float [kg*m^2]
+        Polar moment of inertia about the shaft axis (0 when unknown). Lateral modes
+        use the thin-disc diametral inertia inertia / 2 only when asked
+        (``rotary_inertia=True``).
+    """
+
+    name: str
+    mass: float
+    at: float
+    inertia: float = 0.0
+
+
+def _model_problem(segments: Sequence[ShaftSegment], bearings: Sequence[float],
+                   masses: Sequence[PointMass], modulus: float, density: float) -> str | None:
+    """First reason the model cannot be solved, or None."""
+    if not segments:
+        return "needs at least one segment"
+    for i, s in enumerate(segments):
+        if not (s.length > 0 and s.diameter > 0):
+            return f"segments[{i}] needs a positive length and diameter"
+        if not 0 <= s.bore < s.diameter:
+            return (f"segments[{i}] bore {s.bore * 1e3:g} mm must be at least 0 and smaller "
+                    f"than the diameter {s.diameter * 1e3:g} mm")
+        if (s.modulus is not None and s.modulus <= 0) or (s.density is not None
+                                                          and s.density < 0):
+            return f"segments[{i}] needs a positive modulus and a density of 0 or more"
+    if not modulus > 0 or not density >= 0:
+        return "needs a positive modulus and a density of 0 or more"
+    length = float(sum(s.length for s in segments))
+    tol = 1e-9 * length
+    for b in bearings:
+        if not -tol <= b <= length + tol:
+            return (f"bearing at {b:g} m is not on the shaft (0 to {length:g} m); "
+                    f"bearings_m must lie within the segments")
+    if len({round(b / length, 9) for b in bearings}) < 2:
+        return "needs at least two bearings at different positions (bearings_m)"
+    for m in masses:
+        if not -tol <= m.at <= length + tol:
+            return (f"mass {m.name!r} at {m.at:g} m is outside the shaft (0 to {length:g} m); "
+                    f"at_m must lie within the segments")
+        if not m.mass >= 0 or not m.inertia >= 0:
+            return f"mass {m.name!r} needs a mass and inertia of 0 or more"
+    return None
+
+
+@dataclass(frozen=True)
+class ShaftModel:
+    """A shaft on simple supports carrying point masses.
+
+    Attributes
+    ----------
+    segments : tuple of ShaftSegment
+        Laid end to end from x = 0.
+    bearings : tuple of float [m]
+        x positions of the simple supports (two or more; overhangs allowed).
+    masses : tuple of PointMass
+    modulus : float [Pa]
+        Young's modulus E.
+    density : float [kg/m^3]
+        Density of the shaft material (0 for a massless shaft).
+
+    Raises
+    ------
+    DataError
+        If the layout cannot be solved (bearing or mass off the shaft, one bearing only,
+        bore not smaller than the diameter, non-positive sizes).
+    """
+
+    segments: tuple[ShaftSegment, ...]
+    bearings: tuple[float, ...]
+    masses: tuple[PointMass, ...] = ()
+    modulus: float = _STEEL[0]
+    density: float = _STEEL[1]
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "segments", tuple(self.segments))
+        object.__setattr__(self, "bearings", tuple(float(b) for b in self.bearings))
+        object.__setattr__(self, "masses", tuple(self.masses))
+        problem = _model_problem(self.segments, self.bearings, self.masses,
+                                 self.modulus, self.density)
+        if problem:
+            raise DataError(f"shaft model {problem}")
+
+    @property
+    def length(self) -> float:
+        """Overall length [m]."""
+        return float(sum(s.length for s in self.segments))
+
+    def with_mass(self, mass: PointMass) -> ShaftModel:
+        """A copy carrying one more point mass."""
+        return dataclasses.replace(self, masses=(*self.masses, mass))
+
+    def without_masses(self) -> ShaftModel:
+        """The bare shaft (no point masses)."""
+        return dataclasses.replace(self, masses=())
+
+
+def material_properties(name: str) -> tuple[float, float, float]:
+    """Young's modulus [Pa], density [kg/m^3] and shear modulus [Pa] of a material.
+
+    Uses :func:`torqlog.materials.get_material`; when that module is not available only
+    ``"steel"`` is known (E = 207 GPa, rho = 7850 kg/m^3, nu = 0.3, G = E / (2 (1 + nu))).
+    """
+    try:
+        from torqlog.materials import get_material
+    except ImportError:
+        if name.strip().lower() != "steel":
+            raise UsageError(f"unknown material {name!r}; valid: steel") from None
+        e, rho, nu = _STEEL
+        return e, rho, e / (2.0 * (1.0 + nu))
+    mat = get_material(name)
+    return float(mat.modulus), float(mat.density), float(mat.shear_modulus)
+
+
+def _number(item: Mapping[str, Any], key: str, where: str, default: float | None = None
+            ) -> float:
+    if key not in item:
+        if default is not None:
+            return default
+        raise DataError(f"{where} needs {key}")
+    value = item[key]
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        raise DataError(f"{where} {key} must be a number, not {value!r}")
+    return float(value)
+
+
+def shaft_model_from_profile(profile: MachineProfile, material: str | None = None
+                             ) -> ShaftModel:
+    """Build the lateral model from the profile's ``[shaft]`` section.
+
+    Parameters
+    ----------
+    profile : MachineProfile
+    material : str, optional
+        Material name overriding ``[shaft] material`` (default ``"steel"``).
+
+    Returns
+    -------
+    ShaftModel
+
+    Raises
+    ------
+    DataError
+        Naming the file when the section is missing or incomplete, or the layout is
+        impossible (bearing or mass off the shaft).
+    """
+    src = profile.source or "<profile>"
+    sec = profile.shaft
+    if not sec:
+        raise DataError(f"{src}: no [shaft] section; add one with bearings_m, segments "
+                        f"and masses to check the shaft")
+    for key in ("segments", "bearings_m"):
+        if not sec.get(key):
+            raise DataError(f"{src}: [shaft] needs {key}")
+    modulus, density, _ = material_properties(material or sec.get("material", "steel"))
+    segments = []
+    for i, item in enumerate(sec["segments"]):
+        where = f"{src}: [shaft] segments[{i}]"
+        seg_e = seg_rho = None
+        if "material" in item:
+            seg_e, seg_rho, _ = material_properties(str(item["material"]))
+        segments.append(ShaftSegment(_number(item, "length_m", where),
+                                     _number(item, "diameter_m", where),
+                                     _number(item, "bore_m", where, 0.0), seg_e, seg_rho))
+    bearings = []
+    for b in sec["bearings_m"]:
+        if isinstance(b, bool) or not isinstance(b, int | float):
+            raise DataError(f"{src}: [shaft] bearings_m must be numbers, not {b!r}")
+        bearings.append(float(b))
+    masses = []
+    for i, item in enumerate(sec.get("masses", [])):
+        where = f"{src}: [shaft] masses[{i}]"
+        masses.append(PointMass(str(item.get("name", f"mass {i + 1}")),
+                                _number(item, "mass_kg", where), _number(item, "at_m", where),
+                                _number(item, "inertia_kgm2", where, 0.0)))
+    try:
+        return ShaftModel(tuple(segments), tuple(bearings), tuple(masses), modulus, density)
+    except DataError as exc:
+        raise DataError(f"{src}: [shaft] {str(exc).removeprefix('shaft model ')}") from None
+
+
+# --------------------------------------------------------------------------- beam FE
+class _Mesh(NamedTuple):
+    x: np.ndarray            # node positions [m]
+    K: np.ndarray            # full stiffness [N/m, N, N*m]
+    M: np.ndarray            # consistent shaft mass [kg, kg*m, kg*m^2]
+    le: np.ndarray           # element lengths [m]
+    me: np.ndarray           # element masses [kg]
+    mass_nodes: np.ndarray   # node index of each point mass
+    free: np.ndarray         # unconstrained dof indices
+    positive_mass: bool      # every element has mass (M positive definite)
+
+
+def _nearest(x: np.ndarray, points: np.ndarray) -> np.ndarray:
+    return np.abs(np.asarray(points, float)[:, None] - x[None, :]).argmin(axis=1)
+
+
+def _mesh(model: ShaftModel, max_element: float | None = None) -> _Mesh:
+    """Mesh and assemble the beam (Przemieniecki 1968, Euler-Bernoulli element)."""
+    length = model.length
+    h = max_element if max_element else length / 60.0
+    ends = np.concatenate([[0.0], np.cumsum([s.length for s in model.segments])])
+    keys = np.sort(np.concatenate([ends, model.bearings, [m.at for m in model.masses]]))
+    keys = np.clip(keys, 0.0, length)
+    keys = keys[np.concatenate([[True], np.diff(keys) > 1e-9 * length])]
+    counts = np.maximum(1, np.ceil(np.diff(keys) / h - 1e-9)).astype(int)
+    x = np.concatenate([np.linspace(a, b, n, endpoint=False)
+                        for a, b, n in zip(keys[:-1], keys[1:], counts, strict=True)]
+                       + [keys[-1:]])
+    le = np.diff(x)
+    seg = np.clip(np.searchsorted(ends, x[:-1] + le / 2, side="right") - 1,
+                  0, len(model.segments) - 1)
+    segs = model.segments
+    e = np.array([s.modulus if s.modulus is not None else model.modulus for s in segs])[seg]
+    rho = np.array([s.density if s.density is not None else model.density for s in segs])[seg]
+    area = np.array([s.area for s in segs])[seg]
+    ei = e * np.array([s.second_moment for s in segs])[seg]
+
+    L = le[:, None, None]
+    k_unit = np.array([[12, 6, -12, 6], [6, 4, -6, 2], [-12, -6, 12, -6], [6, 2, -6, 4]], float)
+    m_unit = np.array([[156, 22, 54, -13], [22, 4, 13, -3], [54, 13, 156, -22],
+                       [-13, -3, -22, 4]], float)
+    # powers of L for entries (w,w)=0, (w,theta)=1, (theta,theta)=2
+    p = np.array([0, 1, 0, 1])
+    powers = p[:, None] + p[None, :]
+    ke = (ei / le**3)[:, None, None] * k_unit * L**powers
+    me_mat = (rho * area * le / 420.0)[:, None, None] * m_unit * L**powers
+    ndof = 2 * len(x)
+    dofs = 2 * np.arange(len(le))[:, None] + np.arange(4)[None, :]
+    rows, cols = dofs[:, :, None], dofs[:, None, :]
+    K = np.zeros((ndof, ndof))
+    M = np.zeros((ndof, ndof))
+    np.add.at(K, (np.broadcast_to(rows, ke.shape), np.broadcast_to(cols, ke.shape)), ke)
+    np.add.at(M, (np.broadcast_to(rows, ke.shape), np.broadcast_to(cols, ke.shape)), me_mat)
+    fixed = 2 * _nearest(x, np.array(model.bearings))
+    free = np.setdiff1d(np.arange(ndof), fixed)
+    mass_nodes = _nearest(x, np.array([m.at for m in model.masses]))
+    return _Mesh(x, K, M, le, rho * area * le, mass_nodes, free, bool(np.all(rho > 0)))
+
+
+def _point_mass_matrix(model: ShaftModel, mesh: _Mesh, rotary_inertia: bool) -> np.ndarray:
+    M = mesh.M.copy()
+    if model.masses:
+        idx = 2 * mesh.mass_nodes
+        np.add.at(M, (idx, idx), [m.mass for m in model.masses])
+        if rotary_inertia:  # thin disc: diametral inertia = polar / 2
+            np.add.at(M, (idx + 1, idx + 1), [m.inertia / 2.0 for m in model.masses])
+    return M
+
+
+def _static(model: ShaftModel, mesh: _Mesh, include_self_weight: bool) -> np.ndarray:
+    ndof = mesh.K.shape[0]
+    F = np.zeros(ndof)
+    if model.masses:
+        np.add.at(F, 2 * mesh.mass_nodes, GRAVITY * np.array([m.mass for m in model.masses]))
+    if include_self_weight:
+        w = mesh.me / mesh.le * GRAVITY  # line load [N/m], consistent nodal loads
+        i = 2 * np.arange(len(mesh.le))
+        np.add.at(F, i, w * mesh.le / 2)
+        np.add.at(F, i + 1, w * mesh.le**2 / 12)
+        np.add.at(F, i + 2, w * mesh.le / 2)
+        np.add.at(F, i + 3, -w * mesh.le**2 / 12)
+    u = np.zeros(ndof)
+    f = mesh.free
+    u[f] = scipy.linalg.solve(mesh.K[np.ix_(f, f)], F[f], assume_a="pos")
+    return u
+
+
+def shaft_mesh(model: ShaftModel, max_element: float | None = None) -> np.ndarray:
+    """Node positions [m] of the finite-element mesh (rows of the mode shapes)."""
+    return _mesh(model, max_element).x
+
+
+def static_deflection(model: ShaftModel, include_self_weight: bool = False, *,
+                      max_element: float | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """Static deflection under the weights of the point masses (and the shaft).
+
+    Parameters
+    ----------
+    model : ShaftModel
+    include_self_weight : bool
+        Add the shaft's own weight as a distributed load.
+    max_element : float, optional [m]
+        Longest element (default: overall length / 60).
+
+    Returns
+    -------
+    x : array [m]
+        Node positions.
+    deflection : array [m]
+        Downward deflection at the nodes (positive down); exact at the nodes for point
+        loads and uniform loads on Hermite cubic elements.
+
+    References
+    ----------
+    Gere and Timoshenko, *Mechanics of Materials* (elastic curve); Przemieniecki (1968).
+    """
+    mesh = _mesh(model, max_element)
+    return mesh.x, _static(model, mesh, include_self_weight)[0::2]
+
+
+def rayleigh(model: ShaftModel, include_self_weight: bool = False, *,
+             max_element: float | None = None) -> float:
+    """First lateral natural frequency by Rayleigh's method with the static deflection.
+
+    omega^2 = g * sum(W_i y_i) / sum(W_i y_i^2), y the static deflection under the
+    weights W_i. With ``include_self_weight`` each element's mass is lumped at its
+    midpoint (deflection there from the Hermite interpolation) and joins the sums.
+
+    Parameters
+    ----------
+    model : ShaftModel
+    include_self_weight : bool
+        Include the shaft's own mass and weight.
+
+    Returns
+    -------
+    float [Hz]
+        An upper bound of the first natural frequency (inf when every mass sits on a
+        bearing of a massless shaft).
+
+    References
+    ----------
+    Thomson and Dahleh, *Theory of Vibration with Applications*, Rayleigh's method.
+    """
+    if not model.masses and not include_self_weight:
+        raise UsageError("Rayleigh's method needs masses on the shaft or its self weight")
+    mesh = _mesh(model, max_element)
+    u = _static(model, mesh, include_self_weight)
+    y = u[2 * mesh.mass_nodes]
+    m = np.array([pm.mass for pm in model.masses])
+    if include_self_weight:
+        w, t = u[0::2], u[1::2]
+        y_mid = (w[:-1] + w[1:]) / 2 + mesh.le * (t[:-1] - t[1:]) / 8
+        y, m = np.concatenate([y, y_mid]), np.concatenate([m, mesh.me])
+    den = np.sum(m * y**2)
+    if den == 0:  # every mass sits on a bearing: nothing deflects
+        return math.inf
+    omega2 = GRAVITY * np.sum(m * y) / den
+    return float(np.sqrt(omega2) / (2 * math.pi))
+
+
+def dunkerley(model: ShaftModel, include_self_weight: bool = False, *,
+              max_element: float | None = None) -> float:
+    """First lateral natural frequency by Dunkerley's equation.
+
+    1/omega^2 = sum(1/omega_i^2), omega_i^2 = k_ii / m_i = 1 / (alpha_ii m_i), alpha_ii the
+    influence coefficient (deflection at mass i under a unit load there) of the massless
+    shaft. With ``include_self_weight`` the shaft's own mass enters through one more
+    term: the fundamental of the bare shaft from the finite-element model.
+
+    Returns
+    -------
+    float [Hz]
+        A lower bound of the first natural frequency (inf when every mass sits on a
+        bearing of a massless shaft).
+
+    References
+    ----------
+    Thomson and Dahleh, *Theory of Vibration with Applications*, Dunkerley's equation.
+    """
+    if not model.masses and not include_self_weight:
+        raise UsageError("Dunkerley's equation needs masses on the shaft or its self weight")
+    inv = 0.0
+    if model.masses:
+        mesh = _mesh(model, max_element)
+        f = mesh.free
+        pos = np.searchsorted(f, 2 * mesh.mass_nodes)
+        unit = np.zeros((len(f), len(model.masses)))
+        unit[pos, np.arange(len(model.masses))] = 1.0
+        flex = scipy.linalg.solve(mesh.K[np.ix_(f, f)], unit, assume_a="pos")
+        alpha = flex[pos, np.arange(len(model.masses))]
+        inv += float(np.sum(alpha * np.array([m.mass for m in model.masses])))
+    if include_self_weight:
+        f_bare = fe_modes(model.without_masses(), 1, max_element=max_element)[0]
+        if len(f_bare):
+            inv += 1.0 / (2 * math.pi * f_bare[0]) ** 2
+    if inv == 0:  # every mass sits on a bearing: nothing deflects
+        return math.inf
+    return float(1.0 / np.sqrt(inv) / (2 * math.pi))
+
+
+def fe_modes(model: ShaftModel, n: int = 3, *, rotary_inertia: bool = False,
+             max_element: float | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """Lateral natural frequencies and mode shapes by beam finite elements.
+
+    Solves K phi = omega^2 M phi (``scipy.linalg.eigh(K, M)``) after removing the
+    deflection at the bearings. M is the consistent mass of the shaft plus the lumped
+    point masses. For a massless shaft (density 0) M is singular and the flexibility
+    form M phi = (1/omega^2) K phi is solved instead; it has as many finite modes as
+    masses.
+
+    Parameters
+    ----------
+    model : ShaftModel
+    n : int
+        Number of modes wanted (fewer are returned when fewer exist).
+    rotary_inertia : bool
+        Add each mass's diametral inertia (thin disc: polar / 2).
+
+    Returns
+    -------
+    freqs : array [Hz]
+        Ascending.
+    shapes : array, shape (n_modes, n_nodes)
+        Deflection at the nodes of :func:`shaft_mesh`, scaled to a peak of +1.
+
+    References
+    ----------
+    Przemieniecki (1968); Blevins, *Formulas for Natural Frequency and Mode Shape*.
+    """
+    mesh = _mesh(model, max_element)
+    M = _point_mass_matrix(model, mesh, rotary_inertia)
+    f = mesh.free
+    Kf, Mf = mesh.K[np.ix_(f, f)], M[np.ix_(f, f)]
+    if mesh.positive_mass:
+        k = min(n, len(f))
+        w2, vecs = scipy.linalg.eigh(Kf, Mf, subset_by_index=[0, k - 1])
+    else:
+        lam, vecs = scipy.linalg.eigh(Mf, Kf)
+        keep = np.flatnonzero(lam > 1e-12 * max(lam.max(), 0.0))[::-1][:n]
+        w2, vecs = 1.0 / lam[keep], vecs[:, keep]
+    u = np.zeros((mesh.K.shape[0], vecs.shape[1]))
+    u[f] = vecs
+    shapes = u[0::2].T
+    peak = shapes[np.arange(len(shapes)), np.abs(shapes).argmax(axis=1)]
+    shapes = shapes / np.where(peak == 0, 1.0, peak)[:, None]
+    return np.sqrt(np.maximum(w2, 0.0)) / (2 * math.pi), shapes
+
+
+@dataclass(frozen=True, eq=False)
+class LateralResult:
+    """Lateral check of one shaft layout. ``to_dict()`` is the JSON contract."""
+
+    rayleigh_hz: float
+    dunkerley_hz: float
+    fe_hz: tuple[float, ...]
+    static_deflection_max: float          # [m]
+    forcing_hz: float
+    ratio: float
+    required_ratio: float
+    verdict: str
+    margin_text: str
+    method: str
+    model: ShaftModel
+    x: np.ndarray = field(repr=False)           # node positions [m]
+    deflection: np.ndarray = field(repr=False)  # static deflection [m]
+    mode_shapes: np.ndarray = field(repr=False)  # (n_modes, n_nodes)
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON contract (frequencies in Hz, deflection in mm)."""
+        return {
+            "rayleigh_hz": self.rayleigh_hz,
+            "dunkerley_hz": self.dunkerley_hz,
+            "fe_hz": list(self.fe_hz),
+            "static_deflection_max_mm": self.static_deflection_max * 1e3,
+            "forcing_hz": self.forcing_hz,
+            "ratio": self.ratio,
+            "required_ratio": self.required_ratio,
+            "verdict": self.verdict,
+            "margin_text": self.margin_text,
+            "method": self.method,
+        }
+
+
+def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
+                  required_ratio: float = 3.0, *, include_self_weight: bool = False,
+                  method: str = "fe", n_modes: int = 3, rotary_inertia: bool = False
+                  ) -> LateralResult:
+    """Hold the first lateral natural frequency against the highest forcing frequency.
+
+    Parameters
+    ----------
+    model : ShaftModel
+    forcing_hz : float or sequence of float [Hz]
+        Forcing frequencies; the highest one counts.
+    required_ratio : float
+        Required ratio of first natural frequency to highest forcing frequency. The
+        default 3 is common practice (3 to 4 is usual).
+    include_self_weight : bool
+        Include the shaft's own mass in Rayleigh and Dunkerley and its weight in the
+        static deflection (the finite-element modes always include the shaft's mass).
+    method : {"fe", "rayleigh", "dunkerley"}
+        Whose first frequency decides the verdict (default the finite elements).
+
+    Returns
+    -------
+    LateralResult
+    """
+    if method not in LATERAL_METHODS:
+        raise UsageError(f"unknown lateral method {method!r}; valid: "
+                         f"{', '.join(LATERAL_METHODS)}")
+    forcing = float(np.max(np.atleast_1d(np.asarray(forcing_hz, float))))
+    if not forcing > 0:
+        raise UsageError(f"forcing frequency must be positive, got {forcing:g} Hz")
+    if not required_ratio > 0:
+        raise UsageError(f"required ratio must be positive, got {required_ratio:g}")
+    has_mass = bool(model.masses) or include_self_weight
+    f_r = rayleigh(model, include_self_weight) if has_mass else math.nan
+    f_d = dunkerley(model, include_self_weight) if has_mass else math.nan
+    freqs, shapes = fe_modes(model, n_modes, rotary_inertia=rotary_inertia)
+    x, y = static_deflection(model, include_self_weight)
+    first = {"fe": float(freqs[0]) if len(freqs) else math.nan,
+             "rayleigh": f_r, "dunkerley": f_d}[method]
+    ratio = first / forcing
+    verdict = "pass" if ratio >= required_ratio else "fail"
+    label = {"fe": "first lateral mode", "rayleigh": "Rayleigh estimate",
+             "dunkerley": "Dunkerley estimate"}[method]
+    text = (f"{label} {first:.1f} Hz is {ratio:.1f}× the highest forcing {forcing:.2f} Hz "
+            f"(required {required_ratio:g}×): {verdict}")
+    return LateralResult(f_r, f_d, tuple(float(f) for f in freqs),
+                         float(np.max(np.abs(y))), forcing, float(ratio),
+                         float(required_ratio), verdict, text, method, model, x, y, shapes)
+
+
+# --------------------------------------------------------------------------- torsional
+def torsional_stiffness(segment: ShaftSegment, shear_modulus: float) -> float:
+    """Torsional stiffness k = G J / L of a shaft segment [N*m/rad].
+
+    Parameters
+    ----------
+    segment : ShaftSegment
+    shear_modulus : float [Pa]
+
+    References
+    ----------
+    Gere and Timoshenko, *Mechanics of Materials*, torsion of circular bars
+    (J = pi (d^4 - d_i^4) / 32).
+    """
+    return shear_modulus * segment.polar_moment / segment.length
+
+
+@dataclass(frozen=True)
+class TorsionalChain:
+    """Free-free chain of inertias joined by torsional springs.
+
+    Attributes
+    ----------
+    names : tuple of str
+    inertias : tuple of float [kg*m^2]
+        Referred to the logged shaft.
+    stiffnesses : tuple of float [N*m/rad]
+        Between neighbours (one fewer than inertias).
+    """
+
+    names: tuple[str, ...]
+    inertias: tuple[float, ...]
+    stiffnesses: tuple[float, ...]
+
+    def __post_init__(self) -> None:
+        for name in ("names", "inertias", "stiffnesses"):
+            object.__setattr__(self, name, tuple(getattr(self, name)))
+        n = len(self.inertias)
+        if n < 1 or len(self.names) != n:
+            raise DataError(f"torsional chain needs one name per inertia "
+                            f"({len(self.names)} names, {n} inertias)")
+        if len(self.stiffnesses) != n - 1:
+            raise DataError(f"torsional chain of {n} inertias needs {n - 1} stiffnesses, "
+                            f"got {len(self.stiffnesses)}")
+        if not all(v > 0 for v in (*self.inertias, *self.stiffnesses)):
+            raise DataError("torsional chain inertias and stiffnesses must be positive")
+
+    def add_inertia(self, inertia: float, at: str) -> TorsionalChain:
+        """A copy with ``inertia`` [kg*m^2] added to the element named ``at``."""
+        if at not in self.names:
+            raise UsageError(f"no element {at!r} in the torsional chain; valid: "
+                             f"{', '.join(self.names)}")
+        i = self.names.index(at)
+        new = list(self.inertias)
+        new[i] += inertia
+        return dataclasses.replace(self, inertias=tuple(new))
+
+
+def torsional_chain_from_profile(profile: MachineProfile) -> TorsionalChain | None:
+    """The profile's ``[torsional]`` chain, or None when the section is absent."""
+    sec = profile.torsional
+    if not sec or "inertias_kgm2" not in sec:
+        return None
+    src = profile.source or "<profile>"
+    inertias = sec["inertias_kgm2"]
+    names = sec.get("names", [f"J{i + 1}" for i in range(len(inertias))])
+    stiff = sec.get("stiffness_Nm_per_rad", [])
+    for key, values in (("inertias_kgm2", inertias), ("stiffness_Nm_per_rad", stiff)):
+        if any(isinstance(v, bool) or not isinstance(v, int | float) for v in values):
+            raise DataError(f"{src}: [torsional] {key} must be a list of numbers")
+    try:
+        return TorsionalChain(tuple(str(n) for n in names), tuple(map(float, inertias)),
+                              tuple(map(float, stiff)))
+    except DataError as exc:
+        raise DataError(f"{src}: [torsional] {exc}") from None
+
+
+class TorsionalModes(NamedTuple):
+    """Torsional modes: ``freqs`` [Hz] ascending, ``shapes`` (n_modes, n_inertias)."""
+
+    freqs: np.ndarray
+    shapes: np.ndarray
+
+    @property
+    def rigid_body(self) -> np.ndarray:
+        """True for the rigid-body rotation (frequency exactly 0), not a resonance."""
+        return self.freqs == 0.0
+
+
+def torsional_modes(chain: TorsionalChain) -> TorsionalModes:
+    """Natural frequencies and mode shapes of a free-free torsional chain.
+
+    Solves K phi = omega^2 J phi with ``scipy.linalg.eigh(K, J)``, K the tridiagonal
+    spring matrix and J the diagonal inertia matrix. The rigid-body mode (omega^2 within
+    1e-9 of the largest) is set to exactly 0 Hz.
+
+    Returns
+    -------
+    TorsionalModes
+        ``freqs`` [Hz], ``shapes`` scaled to a peak of +1, ``rigid_body`` flags.
+
+    References
+    ----------
+    Den Hartog, *Mechanical Vibrations*; Thomson and Dahleh, torsional systems.
+    """
+    n = len(chain.inertias)
+    k = np.asarray(chain.stiffnesses, float)
+    K = np.zeros((n, n))
+    i = np.arange(n - 1)
+    np.add.at(K, (i, i), k)
+    np.add.at(K, (i + 1, i + 1), k)
+    np.add.at(K, (i, i + 1), -k)
+    np.add.at(K, (i + 1, i), -k)
+    w2, vecs = scipy.linalg.eigh(K, np.diag(chain.inertias))
+    w2 = np.where(w2 <= 1e-9 * max(w2.max(), 0.0), 0.0, w2)
+    shapes = vecs.T
+    peak = shapes[np.arange(n), np.abs(shapes).argmax(axis=1)]
+    shapes = shapes / peak[:, None]
+    shapes[w2 == 0.0] = 1.0
+    return TorsionalModes(np.sqrt(w2) / (2 * math.pi), shapes)
+
+
+def _orders(orders: Any, min_share: float, revs_per_cycle: int
+            ) -> tuple[np.ndarray, np.ndarray, str]:
+    """(order, share or NaN when assumed, source text) of the orders to check."""
+    if orders is None:
+        step = 1.0 / revs_per_cycle
+        o = np.arange(1, int(round(ASSUMED_MAX_ORDER / step)) + 1) * step
+        return o, np.full(len(o), np.nan), (f"assumed: every order up to "
+                                            f"{ASSUMED_MAX_ORDER:g} in steps of {step:g}")
+    if hasattr(orders, "order") and hasattr(orders, "share"):
+        o, s = np.asarray(orders.order, float), np.asarray(orders.share, float)
+        src = "spectrum"
+    elif isinstance(orders, Mapping):
+        o = np.array(list(orders.keys()), float)
+        s = np.array(list(orders.values()), float)
+        src = "given with shares"
+    else:
+        o = np.atleast_1d(np.asarray(orders, float))
+        s = np.full(len(o), np.nan)
+        src = "given, all assumed significant"
+    if np.any(~(o > 0)):
+        raise UsageError("orders must be positive multiples of the shaft speed")
+    keep = np.isnan(s) | (s >= min_share)
+    return o[keep], s[keep], src
+
+
+@dataclass(frozen=True, eq=False)
+class TorsionalResult:
+    """Torsional modes held against the significant orders. ``to_dict()`` is the JSON
+    contract; ``near_orders`` lists each elastic mode within the band of an order."""
+
+    names: tuple[str, ...]
+    modes_hz: tuple[float, ...]
+    rigid_body: tuple[bool, ...]
+    mode_shapes: np.ndarray
+    near_orders: tuple[dict[str, Any], ...]
+    orders_checked: tuple[float, ...]
+    band: float
+    min_share: float
+    verdict: str
+    margin_text: str
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON contract (frequencies in Hz)."""
+        return {
+            "names": list(self.names),
+            "modes_hz": list(self.modes_hz),
+            "rigid_body": list(self.rigid_body),
+            "mode_shapes": self.mode_shapes.tolist(),
+            "near_orders": [dict(d) for d in self.near_orders],
+            "orders_checked": list(self.orders_checked),
+            "band": self.band,
+            "min_share": self.min_share,
+            "verdict": self.verdict,
+            "margin_text": self.margin_text,
+        }
+
+
+def torsional_check(chain: TorsionalChain, orders: Any = None, speed: float | None = None,
+                    band: float = 0.10, min_share: float = 0.05, *,
+                    revs_per_cycle: int = 1) -> TorsionalResult:
+    """Flag elastic torsional modes that lie near a significant order of the speed.
+
+    A mode at f is flagged when |f - f_o| <= band * f_o for an order o whose frequency is
+    f_o = o * speed / (2 pi) and whose share of the dynamic torque is at least
+    ``min_share``.
+
+    Parameters
+    ----------
+    chain : TorsionalChain
+    orders : OrderSpectrum, mapping {order: share}, sequence of orders, or None
+        Orders of the shaft speed. A plain sequence is taken as all significant; None
+        assumes every order k / revs_per_cycle up to :data:`ASSUMED_MAX_ORDER`.
+    speed : float, optional [rad/s]
+        Shaft speed. Without it only the modes are reported (verdict "not checked").
+    band : float
+        Half-width of the band around each order, as a fraction (default ±10 %,
+        common practice).
+    min_share : float
+        Smallest share of the dynamic torque that makes an order significant.
+    revs_per_cycle : int
+        Shaft revolutions per machine cycle (for the assumed orders).
+
+    Returns
+    -------
+    TorsionalResult
+        ``detune`` in ``near_orders`` is (f - f_o) / f_o.
+    """
+    if not 0 < band < 1:
+        raise UsageError(f"band must be a fraction between 0 and 1, got {band:g}")
+    modes = torsional_modes(chain)
+    o, s, _ = _orders(orders, min_share, revs_per_cycle)
+    near: list[dict[str, Any]] = []
+    elastic = modes.freqs[~modes.rigid_body]
+    if speed is None:
+        verdict, text = "not checked", "no running speed given: torsional modes only"
+    else:
+        f_o = o * speed / (2 * math.pi)
+        detune = elastic[:, None] / f_o[None, :] - 1.0
+        hit_mode, hit_order = np.nonzero(np.abs(detune) <= band)
+        near = [{"mode_hz": float(elastic[i]), "order": float(o[j]), "order_hz": float(f_o[j]),
+                 "share": None if np.isnan(s[j]) else float(s[j]),
+                 "detune": float(detune[i, j])} for i, j in zip(hit_mode, hit_order,
+                                                                strict=True)]
+        verdict = "fail" if near else "pass"
+        if near:
+            worst = min(near, key=lambda d: abs(d["detune"]))
+            text = (f"torsional mode {worst['mode_hz']:.1f} Hz lies within "
+                    f"{abs(worst['detune']) * 100:.1f} % of order {worst['order']:g} "
+                    f"({worst['order_hz']:.2f} Hz); band ±{band * 100:g} %: fail")
+        elif len(elastic) == 0:
+            text = "torsional chain has no elastic mode: pass"
+        elif len(f_o) == 0:
+            text = "no significant order to check: pass"
+        else:
+            i, j = np.unravel_index(np.abs(detune).argmin(), detune.shape)
+            text = (f"no elastic torsional mode within ±{band * 100:g} % of a significant "
+                    f"order (nearest: mode {elastic[i]:.1f} Hz vs order {o[j]:g} at "
+                    f"{f_o[j]:.2f} Hz, {detune[i, j] * 100:+.0f} %): pass")
+    return TorsionalResult(chain.names, tuple(float(f) for f in modes.freqs),
+                           tuple(bool(r) for r in modes.rigid_body), modes.shapes, tuple(near),
+                           tuple(float(v) for v in o), band, min_share, verdict, text)
+
+
+# --------------------------------------------------------------------------- the check
+@dataclass(frozen=True, eq=False)
+class ShaftState:
+    """Lateral and torsional results of one configuration (torsional may be None)."""
+
+    lateral: LateralResult
+    torsional: TorsionalResult | None
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"lateral": self.lateral.to_dict(),
+                "torsional": self.torsional.to_dict() if self.torsional else None}
+
+
+@dataclass(frozen=True, eq=False)
+class ShaftResult:
+    """Shaft check before (and after, when parts are added). ``to_dict()`` is the JSON
+    contract; ``current`` is the after state when there is one, else the before."""
+
+    before: ShaftState
+    after: ShaftState | None
+    cautions: tuple[str, ...]
+    options: dict[str, Any]
+    speed: float  # [rad/s]
+
+    @property
+    def current(self) -> ShaftState:
+        return self.after if self.after is not None else self.before
+
+    def to_pandas(self) -> pd.DataFrame:
+        """One row per frequency: ``state``, ``check``, ``estimate``, ``frequency_Hz``."""
+        rows: list[tuple[str, str, str, float]] = []
+        states = [("before", self.before)] + ([("after", self.after)] if self.after else [])
+        for label, st in states:
+            lat = st.lateral
+            rows += [(label, "lateral", "Rayleigh", lat.rayleigh_hz),
+                     (label, "lateral", "Dunkerley", lat.dunkerley_hz)]
+            rows += [(label, "lateral", f"FE mode {i + 1}", f) for i, f in enumerate(lat.fe_hz)]
+            if st.torsional is not None:
+                tor = st.torsional
+                rows += [(label, "torsional", "rigid body" if r else f"mode {i}", f)
+                         for i, (f, r) in enumerate(zip(tor.modes_hz, tor.rigid_body,
+                                                        strict=True))]
+        return pd.DataFrame(rows, columns=["state", "check", "estimate", "frequency_Hz"])
+
+    def to_dict(self) -> dict[str, Any]:
+        cur = self.current.to_dict()
+        return {"before": self.before.to_dict(),
+                "after": self.after.to_dict() if self.after else None,
+                "lateral": cur["lateral"], "torsional": cur["torsional"],
+                "cautions": list(self.cautions), "options": dict(self.options)}
+
+
+def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: Any = None,
+                add_mass: float | None = None, add_mass_at: float | None = None,
+                add_inertia: float | None = None, add_inertia_at: str | None = None,
+                required_ratio: float | None = None, band: float | None = None,
+                min_share: float | None = None, self_weight: bool | None = None,
+                material: str | None = None) -> ShaftResult:
+    """Check a machine's shaft, lateral and torsional, before and after adding parts.
+
+    Parameters
+    ----------
+    profile : MachineProfile
+        Needs ``[shaft]``; ``[torsional]`` is optional.
+    speed : float, optional [rad/s]
+        Shaft speed; default the profile's ``[machine] speed_rpm``.
+    orders : OrderSpectrum, mapping, sequence or None
+        Orders of the shaft speed present in the torque (see :func:`torsional_check`).
+        The lateral forcing is the highest significant order times the speed, at least
+        the speed itself (1×, unbalance).
+    add_mass : float, optional [kg]
+        A part added to the shaft (e.g. a flywheel).
+    add_mass_at : float, optional [m]
+        Its position; default the position of the shaft mass named ``add_inertia_at``
+        (``"flywheel"``).
+    add_inertia : float, optional [kg*m^2]
+        Inertia added to the chain element named ``add_inertia_at`` (default
+        ``"flywheel"``); also the polar inertia of the added mass.
+    required_ratio, band, min_share, self_weight
+        Default: the profile's ``[shaft]`` / ``[torsional]`` values, else 3.0 (common
+        practice), 0.10 (common practice), 0.05 and False.
+    material : str, optional
+        Overrides ``[shaft] material``.
+
+    Returns
+    -------
+    ShaftResult
+    """
+    model = shaft_model_from_profile(profile, material)
+    chain = torsional_chain_from_profile(profile)
+    if speed is None:
+        speed = profile.machine.get("speed")
+    if speed is None:
+        raise UsageError("no running speed: give --speed-rpm or set speed_rpm in the "
+                         "profile's [machine] section")
+    if not speed > 0:
+        raise UsageError(f"running speed must be positive, got {speed * 60 / (2 * math.pi):g} rpm")
+    required_ratio = _pick(required_ratio, profile.shaft.get("required_ratio"), 3.0)
+    band = _pick(band, profile.torsional.get("band"), 0.10)
+    min_share = _pick(min_share, profile.torsional.get("min_share"), 0.05)
+    self_weight = bool(_pick(self_weight, profile.shaft.get("self_weight"), False))
+    revs = int(profile.machine.get("revs_per_cycle", 1))
+    at_name = add_inertia_at or "flywheel"
+
+    o, s, orders_source = _orders(orders, min_share, revs)
+    forcing_order = float(max(1.0, o.max() if len(o) else 1.0))
+    speed_hz = speed / (2 * math.pi)
+
+    def state(m: ShaftModel, c: TorsionalChain | None) -> ShaftState:
+        lat = lateral_check(m, forcing_order * speed_hz, required_ratio,
+                            include_self_weight=self_weight)
+        tor = (torsional_check(c, orders, speed, band, min_share, revs_per_cycle=revs)
+               if c is not None else None)
+        return ShaftState(lat, tor)
+
+    before = state(model, chain)
+    after = None
+    if add_mass_at is not None and add_mass is None:
+        raise UsageError("a position for an added mass (--at) was given without the mass "
+                         "(--add-mass)")
+    if add_mass is not None or add_inertia is not None:
+        new_model, new_chain = model, chain
+        if add_mass is not None:
+            if not add_mass > 0:
+                raise UsageError(f"added mass must be positive, got {add_mass:g} kg")
+            if add_mass_at is None:
+                named = [m.at for m in model.masses if m.name == at_name]
+                if not named:
+                    raise UsageError(f"an added mass needs its position (--at); the shaft "
+                                     f"has no mass named {at_name!r} to place it at")
+                add_mass_at = named[0]
+            if not 0 <= add_mass_at <= model.length:
+                raise UsageError(f"added mass at {add_mass_at:g} m is outside the shaft "
+                                 f"(0 to {model.length:g} m); give --at within the shaft")
+            new_model = model.with_mass(PointMass("added", add_mass, add_mass_at,
+                                                  add_inertia or 0.0))
+        if add_inertia is not None:
+            if not add_inertia > 0:
+                raise UsageError(f"added inertia must be positive, got {add_inertia:g} kg*m^2")
+            if chain is None:
+                raise UsageError("an added inertia needs a [torsional] section in the profile")
+            new_chain = chain.add_inertia(add_inertia, at_name)
+        after = state(new_model, new_chain)
+
+    cautions = list(CAUTIONS)
+    if orders is None:
+        cautions.append(f"No measured order spectrum was given: every order up to "
+                        f"{ASSUMED_MAX_ORDER:g} of the shaft speed was assumed significant.")
+    if chain is None:
+        cautions.append("No [torsional] section in the profile: torsional modes not checked.")
+    options = {
+        "speed_rpm": speed * 60 / (2 * math.pi), "speed_hz": speed_hz,
+        "revs_per_cycle": revs, "required_ratio": required_ratio, "band": band,
+        "min_share": min_share, "self_weight": self_weight,
+        "orders_source": orders_source, "forcing_order": forcing_order,
+        "material": material or profile.shaft.get("material", "steel"),
+        "modulus_GPa": model.modulus / 1e9, "density_kg_per_m3": model.density,
+        "supports": "simple (rigid)", "lateral_mass": "consistent shaft mass + point masses",
+        "add_mass_kg": add_mass, "add_mass_at_m": add_mass_at,
+        "add_inertia_kgm2": add_inertia, "add_inertia_at": at_name,
+    }
+    return ShaftResult(before, after, tuple(cautions), options, float(speed))
+
+
+def _pick(given: Any, from_profile: Any, default: Any) -> Any:
+    if given is not None:
+        return given
+    return from_profile if from_profile is not None else default
+
+
+__all__ = [
+    "CAUTIONS", "GRAVITY", "LateralResult", "PointMass", "ShaftModel", "ShaftResult",
+    "ShaftSegment", "ShaftState", "TorsionalChain", "TorsionalModes",
+    "TorsionalResult", "check_shaft", "dunkerley", "fe_modes", "lateral_check",
+    "material_properties", "rayleigh", "shaft_mesh", "shaft_model_from_profile",
+    "static_deflection", "torsional_chain_from_profile", "torsional_check",
+    "torsional_modes", "torsional_stiffness",
+]
