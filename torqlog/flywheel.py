@@ -911,3 +911,68 @@ def design_flywheel(required_inertia: float, speed: float, material: Material | 
     options = {**result.options, "solved": solved, "max_width_m": max_width,
                "max_outer_diameter_m": max_outer_diameter, "rim_depth_m": rim_depth}
     return replace(result, options=options)
+
+
+def requirement_from_size(data: dict[str, Any], source: str = "<size result>",
+                          flywheel_speed_ratio: float | None = None) -> tuple[float, float,
+                                                                               dict[str, Any]]:
+    """Required inertia and flywheel speed from a ``torqlog size --format json`` result.
+
+    Inertia is ``added_inertia_at_flywheel_kgm2`` when present, else
+    ``added_inertia_kgm2`` (referred to the logged shaft) divided by the square of the
+    flywheel speed ratio (the same number when the ratio is 1, the usual case). Speed is
+    ``speed_mean_rpm`` times the ratio. The ratio is ``flywheel_speed_ratio`` from the
+    file (top level or its ``options``), else the argument, else 1.
+
+    Parameters
+    ----------
+    data : dict
+        The parsed JSON.
+    source : str
+        File name for messages.
+    flywheel_speed_ratio : float, optional
+        Flywheel shaft speed / logged shaft speed, used when the file has none.
+
+    Returns
+    -------
+    (required_inertia [kg*m^2], speed [rad/s], info)
+        ``info`` records the keys and ratio used.
+
+    Raises
+    ------
+    DataError
+        A key is missing or not a positive number.
+    """
+    if not isinstance(data, dict):
+        raise DataError(f"{source}: expected a JSON object written by "
+                        "'torqlog size --format json'")
+    options = data.get("options") if isinstance(data.get("options"), dict) else {}
+    ratio = data.get("flywheel_speed_ratio", options.get("flywheel_speed_ratio"))
+    if ratio is None:
+        ratio = 1.0 if flywheel_speed_ratio is None else flywheel_speed_ratio
+
+    def number(key: str) -> float:
+        value = data[key]
+        if isinstance(value, bool) or not isinstance(value, int | float) or not value > 0:
+            raise DataError(f"{source}: {key} must be a positive number, got {value!r}")
+        return float(value)
+
+    if "speed_mean_rpm" not in data:
+        raise DataError(f"{source}: no 'speed_mean_rpm'; write the file with "
+                        "'torqlog size --format json' or give --speed-rpm")
+    if isinstance(ratio, bool) or not isinstance(ratio, int | float) or not ratio > 0:
+        raise DataError(f"{source}: flywheel_speed_ratio must be a positive number, "
+                        f"got {ratio!r}")
+    if "added_inertia_at_flywheel_kgm2" in data:
+        key = "added_inertia_at_flywheel_kgm2"
+        required = number(key)
+    elif "added_inertia_kgm2" in data:
+        key = "added_inertia_kgm2"
+        required = number(key) / ratio ** 2
+    else:
+        raise DataError(f"{source}: no 'added_inertia_at_flywheel_kgm2' or "
+                        "'added_inertia_kgm2'; write the file with 'torqlog size --format "
+                        "json' or give --inertia")
+    speed = number("speed_mean_rpm") * _RPM * ratio
+    return required, speed, {"from_size": source, "inertia_key": key,
+                             "flywheel_speed_ratio": float(ratio)}
