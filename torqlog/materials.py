@@ -174,6 +174,17 @@ def get_material(name: str) -> Material:
     return MATERIALS[key]
 
 
+_SHOWN = {"density": (1.0, "kg/m^3"), "modulus": (1e9, "GPa"), "strength": (1e6, "MPa"),
+          "rim_speed_limit": (1.0, "m/s")}
+
+
+def _describe(key: str, value: object) -> str:
+    if key in _SHOWN and isinstance(value, int | float):
+        factor, unit = _SHOWN[key]
+        return f"{key}={value / factor:g} {unit}"
+    return f"{key}={value}"
+
+
 def custom_material(base: Material | str | None = None, *, density: float | None = None,
                     modulus: float | None = None, poisson: float | None = None,
                     strength: float | None = None, strength_kind: str | None = None,
@@ -209,8 +220,7 @@ def custom_material(base: Material | str | None = None, *, density: float | None
                                    strength=strength, strength_kind=strength_kind,
                                    brittle=brittle, rim_speed_limit=rim_speed_limit).items()
              if v is not None}
-    changed = ", ".join(f"{k}={v:g}" if isinstance(v, float) else f"{k}={v}"
-                        for k, v in given.items())
+    changed = ", ".join(_describe(k, v) for k, v in given.items())
     if base is None:
         missing = [k for k in ("density", "modulus", "poisson", "strength") if k not in given]
         if missing:
