@@ -700,7 +700,7 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
     References
     ----------
     .. [1] Timoshenko & Goodier, Theory of Elasticity, 3rd ed., section 32.
-    .. [2] Shigley's Mechanical Engineering Design, 9th ed., section 3-16, eq. (3-56)
+    .. [2] Shigley's Mechanical Engineering Design, 9th ed., section 3-16
        (pressure of a shrink fit between a hub and a solid shaft).
     """
     mat = _material(material)
