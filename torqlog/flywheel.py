@@ -1,0 +1,978 @@
+"""Flywheel geometry, rotating-disc stresses, burst margin and shrink-fit check.
+
+Model
+-----
+* Shapes: ``solid-disc`` (no bore; a shaft end or an integral disc), ``annular-disc``
+  (uniform face width, shaft bore), ``rim`` (a rim ring of face width ``width`` between
+  ``rim_inner_diameter`` and ``outer_diameter`` carried by a flat web of thickness
+  ``web_width`` from the bore to the rim).
+* Rim simplification: the rim and web are treated as a *stepped disc* -- two concentric
+  uniform-thickness annuli joined at the rim's inner radius with continuous radial
+  displacement and radial force per unit circumference (the stepped-disc method for discs
+  of variable thickness, Timoshenko, Strength of Materials Part II). The web counts in
+  inertia, mass and stresses. Without ``web_width`` the web is neglected: the rim is a free
+  ring (inertia, mass and stresses of the ring alone; hub and fit are then not checked).
+  The fillet at the web-to-rim junction, spokes, bolt holes and keyways are not modelled.
+* Stresses: linear-elastic, plane stress, uniform thickness within each step, free
+  outer edge, free bore (Timoshenko & Goodier section 32). Rotational stresses grow with
+  speed squared.
+* Where the speed enters: stresses are evaluated at the **operating speed**; the
+  overspeed enters the required factor. The stress safety factor is
+  ``n = strength / max criterion stress`` at the operating speed and must reach
+  ``material_factor * overspeed**2`` (so at the overspeed the material still keeps
+  ``material_factor``). Because stress grows with speed squared, the yield speed is
+  ``speed * sqrt(n)`` and the speed safety factor ``sqrt(n)`` must reach
+  ``overspeed * sqrt(material_factor)``.
+* Criterion: von Mises for ductile materials against yield; maximum principal stress
+  (Rankine) for brittle grey cast iron against tensile strength.
+* Rim speed is checked at the operating speed against the material's common-practice limit.
+* Shrink fit: a solid shaft in the bore, both in plane stress. The fit loosens when the
+  free radial growth of the bore from rotation minus the free growth of the (rotating)
+  shaft equals half the diametral interference; shaft growth is included. The bore stress
+  with the fit is checked at rest and at the overspeed (the largest of the two bounds it
+  between them, the stress state being affine in speed squared).
+
+References
+----------
+.. [1] S. P. Timoshenko and J. N. Goodier, *Theory of Elasticity*, 3rd ed., McGraw-Hill,
+   1970, section 32 "Rotating disks of uniform thickness".
+.. [2] W. C. Young and R. G. Budynas, *Roark's Formulas for Stress and Strain*, 7th ed.,
+   McGraw-Hill, 2002, Table 16.2 (rotating disks).
+.. [3] S. P. Timoshenko, *Strength of Materials, Part II*, 3rd ed., Van Nostrand, 1956,
+   chapter on rotating disks of variable thickness (stepped-disc approximation).
+.. [4] R. G. Budynas and J. K. Nisbett, *Shigley's Mechanical Engineering Design*, 9th ed.,
+   McGraw-Hill, 2011, section 3-16 "Press and shrink fits" (fit pressure).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+from typing import Any
+
+import numpy as np
+import pandas as pd
+from scipy.optimize import brentq
+
+from torqlog.errors import DataError, UsageError
+from torqlog.materials import Material, get_material
+
+SHAPES = ("solid-disc", "annular-disc", "rim")
+CRITERIA = ("von-mises", "max-principal")
+
+#: Material factor on strength at the overspeed (common practice, no published source):
+#: 1.5 on yield for ductile materials, 3.0 on tensile strength for brittle grey iron.
+MATERIAL_FACTOR_DUCTILE = 1.5
+MATERIAL_FACTOR_BRITTLE = 3.0
+
+_RPM = 2.0 * math.pi / 60.0
+
+#: Cautions carried by every flywheel result.
+CAUTIONS: tuple[str, ...] = (
+    "Burst hazard: a flywheel stores kinetic energy that is released violently if it "
+    "bursts; fragments can kill.",
+    "Run the flywheel behind a guard or containment able to stop its fragments, and "
+    "spin-test it above its maximum speed before service; an overspeed trip must hold the "
+    "overspeed assumed here.",
+    "Keep the rim speed within the limit for the material and construction (common "
+    "practice, e.g. about 30 m/s for grey cast iron).",
+    "Cast iron is brittle: casting flaws, porosity, shrinkage stresses and thick sections "
+    "lower its strength below the test-bar value; inspect castings before use.",
+    "Preliminary engineering estimate from elastic rotating-disc formulas (keyways, bolt "
+    "holes, fillets and fatigue not included); the final design, guards, spin testing and "
+    "inspection follow the applicable codes and standards and are approved by a "
+    "qualified, licensed engineer.",
+)
+
+
+# --------------------------------------------------------------------------- geometry
+@dataclass(frozen=True)
+class DiscGeometry:
+    """Flywheel dimensions [m].
+
+    Attributes
+    ----------
+    shape : str
+        ``"solid-disc"``, ``"annular-disc"`` or ``"rim"``.
+    outer_diameter : float [m]
+    bore : float [m]
+        Bore diameter (0 for a solid disc).
+    width : float [m]
+        Face width (axial) of the disc, or of the rim for the ``rim`` shape.
+    rim_inner_diameter : float or None [m]
+        ``rim`` only: inner diameter of the rim ring.
+    web_width : float or None [m]
+        ``rim`` only: axial thickness of the web; None neglects the web.
+    """
+
+    shape: str
+    outer_diameter: float
+    bore: float
+    width: float
+    rim_inner_diameter: float | None = None
+    web_width: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.shape not in SHAPES:
+            raise UsageError(f"unknown shape {self.shape!r}; valid: {', '.join(SHAPES)}")
+        for label, value in (("outer diameter", self.outer_diameter),
+                             ("width", self.width)):
+            if not (math.isfinite(value) and value > 0):
+                raise UsageError(f"{label} must be positive, got {value!r} m")
+        if not (math.isfinite(self.bore) and self.bore >= 0):
+            raise UsageError(f"bore must be zero or positive, got {self.bore!r} m")
+        if self.bore >= self.outer_diameter:
+            raise UsageError(f"bore ({self.bore:g} m) must be smaller than the outer "
+                             f"diameter ({self.outer_diameter:g} m)")
+        if self.shape == "solid-disc" and self.bore > 0:
+            raise UsageError(f"a solid-disc has no bore; use shape 'annular-disc' for a disc "
+                             f"with a {self.bore:g} m bore (a bore about doubles the "
+                             f"centre stress)")
+        if self.shape == "annular-disc" and self.bore == 0:
+            raise UsageError("an annular-disc needs a bore > 0; use shape 'solid-disc' "
+                             "for a disc without one")
+        if self.shape != "rim":
+            if self.rim_inner_diameter is not None or self.web_width is not None:
+                raise UsageError("only the 'rim' shape takes rim_inner_diameter and "
+                                 "web_width")
+            return
+        rid = self.rim_inner_diameter
+        if rid is None:
+            raise UsageError("shape 'rim' needs rim_inner_diameter (between the bore and "
+                             "the outer diameter)")
+        if not self.bore < rid < self.outer_diameter:
+            raise UsageError(f"rim inner diameter ({rid:g} m) must lie between the bore "
+                             f"({self.bore:g} m) and the outer diameter "
+                             f"({self.outer_diameter:g} m)")
+        if self.web_width is not None and not 0 < self.web_width <= self.width:
+            raise UsageError(f"web width ({self.web_width:g} m) must be positive and not "
+                             f"more than the rim width ({self.width:g} m)")
+
+    @property
+    def outer_radius(self) -> float:
+        """Outer radius [m]."""
+        return self.outer_diameter / 2.0
+
+    @property
+    def inner_radius(self) -> float:
+        """Bore radius [m] (0 for a solid disc)."""
+        return self.bore / 2.0
+
+    def steps(self) -> tuple[np.ndarray, np.ndarray]:
+        """Radial steps of uniform thickness: ``(edges [m], widths [m])``.
+
+        ``edges`` has one more entry than ``widths``; a rim without a web is one step
+        from the rim's inner radius.
+        """
+        if self.shape != "rim":
+            return (np.array([self.inner_radius, self.outer_radius]), np.array([self.width]))
+        ri = self.rim_inner_diameter / 2.0
+        if self.web_width is None:
+            return np.array([ri, self.outer_radius]), np.array([self.width])
+        return (np.array([self.inner_radius, ri, self.outer_radius]),
+                np.array([self.web_width, self.width]))
+
+    @property
+    def models_bore(self) -> bool:
+        """True when the stress model reaches the shaft bore (not a web-less rim)."""
+        return not (self.shape == "rim" and self.web_width is None)
+
+
+def inertia(geometry: DiscGeometry, density: float) -> float:
+    """Polar mass moment of inertia of the flywheel.
+
+    I = pi * rho * b * (R^4 - r^4) / 2 per uniform step (= m (R^2 + r^2) / 2).
+
+    Parameters
+    ----------
+    geometry : DiscGeometry
+    density : float [kg/m^3]
+
+    Returns
+    -------
+    float [kg*m^2]
+
+    References
+    ----------
+    .. [1] Roark's Formulas for Stress and Strain, 7th ed., Appendix (mass moments of
+       inertia: hollow circular cylinder about its axis).
+    """
+    edges, widths = geometry.steps()
+    return float(np.sum(0.5 * math.pi * density * widths * (edges[1:] ** 4 - edges[:-1] ** 4)))
+
+
+def mass(geometry: DiscGeometry, density: float) -> float:
+    """Mass of the flywheel, m = rho * pi * b * (R^2 - r^2) per uniform step.
+
+    Parameters
+    ----------
+    geometry : DiscGeometry
+    density : float [kg/m^3]
+
+    Returns
+    -------
+    float [kg]
+    """
+    edges, widths = geometry.steps()
+    return float(np.sum(math.pi * density * widths * (edges[1:] ** 2 - edges[:-1] ** 2)))
+
+
+def _material(material: Material | str) -> Material:
+    return get_material(material) if isinstance(material, str) else material
+
+
+def solve_geometry(required_inertia: float, material: Material | str, shape: str,
+                   outer_diameter: float | None = None, bore: float = 0.0,
+                   width: float | None = None, max_width: float | None = None,
+                   max_outer_diameter: float | None = None, rim_depth: float | None = None,
+                   rim_inner_diameter: float | None = None,
+                   web_width: float | None = None) -> DiscGeometry:
+    """Solve the one missing dimension so the flywheel holds ``required_inertia``.
+
+    Give the outer diameter to solve the face width (closed form), or the width to solve
+    the outer diameter (closed form for discs; ``scipy.optimize.brentq`` for a rim, whose
+    inner diameter moves with the outer one: give ``rim_depth``).
+
+    Parameters
+    ----------
+    required_inertia : float [kg*m^2]
+    material : Material or str
+    shape : str
+        ``"solid-disc"``, ``"annular-disc"`` or ``"rim"``.
+    outer_diameter, bore, width : float [m]
+        Exactly one of ``outer_diameter`` and ``width`` is None (the one solved).
+    max_width, max_outer_diameter : float [m], optional
+        Envelope limits.
+    rim_depth : float [m], optional
+        ``rim``: radial depth of the rim ring (rim inner diameter = OD - 2 depth).
+    rim_inner_diameter : float [m], optional
+        ``rim``: alternative to ``rim_depth`` when the width is solved.
+    web_width : float [m], optional
+        ``rim``: web thickness (None neglects the web).
+
+    Returns
+    -------
+    DiscGeometry
+
+    Raises
+    ------
+    UsageError
+        Missing or conflicting dimensions.
+    DataError
+        The envelope cannot hold the inertia; the message says what it would need.
+    """
+    mat = _material(material)
+    rho = mat.density
+    if not (math.isfinite(required_inertia) and required_inertia > 0):
+        raise UsageError(f"required inertia must be positive, got {required_inertia!r} "
+                         "kg*m^2")
+    if (outer_diameter is None) == (width is None):
+        raise UsageError("give either the outer diameter or the width, not both and not "
+                         "neither; the other one is solved from the inertia")
+    if shape not in SHAPES:
+        raise UsageError(f"unknown shape {shape!r}; valid: {', '.join(SHAPES)}")
+    r = bore / 2.0
+    what = f"{shape} in {mat.name} holding {required_inertia:.4g} kg*m^2"
+
+    def make(od: float, w: float) -> DiscGeometry:
+        rid = None
+        if shape == "rim":
+            rid = od - 2.0 * rim_depth if rim_depth is not None else rim_inner_diameter
+        return DiscGeometry(shape, od, bore, w, rim_inner_diameter=rid,
+                            web_width=web_width if shape == "rim" else None)
+
+    if shape == "rim" and rim_depth is None and rim_inner_diameter is None:
+        raise UsageError("shape 'rim' needs rim_depth or rim_inner_diameter")
+
+    if width is None:  # solve the face width: I is linear in it
+        if max_outer_diameter is not None and outer_diameter > max_outer_diameter:
+            raise DataError(f"outer diameter {outer_diameter:g} m exceeds the envelope "
+                            f"{max_outer_diameter:g} m")
+        probe = make(outer_diameter, 1.0)  # validates the diameters
+        edges, widths = probe.steps()
+        if shape == "rim" and web_width is not None:
+            web = 0.5 * math.pi * rho * web_width * (edges[1] ** 4 - edges[0] ** 4)
+            per_width = 0.5 * math.pi * rho * (edges[2] ** 4 - edges[1] ** 4)
+        else:
+            web = 0.0
+            per_width = 0.5 * math.pi * rho * (edges[-1] ** 4 - edges[0] ** 4)
+        if web >= required_inertia:
+            raise DataError(f"the web alone holds {web:.4g} kg*m^2, more than the "
+                            f"{required_inertia:.4g} kg*m^2 required; use a thinner web "
+                            f"or a smaller diameter")
+        w = (required_inertia - web) / per_width
+        if max_width is not None and w > max_width:
+            raise DataError(f"a {outer_diameter:g} m {what} needs a width of {w:.3g} m; "
+                            f"the envelope allows {max_width:.3g} m")
+        return make(outer_diameter, w)
+
+    # solve the outer diameter for a given width
+    if max_width is not None and width > max_width:
+        raise DataError(f"width {width:g} m exceeds the envelope {max_width:g} m")
+    if shape == "rim":
+        if rim_depth is None:
+            raise UsageError("to solve the outer diameter of a rim give rim_depth (the rim "
+                             "inner diameter moves with the outer one)")
+        if not rim_depth > 0:
+            raise UsageError(f"rim depth must be positive, got {rim_depth!r} m")
+
+        def excess(radius: float) -> float:
+            g = make(2.0 * radius, width)
+            return inertia(g, rho) - required_inertia
+
+        lo = r + rim_depth * (1.0 + 1e-9) + 1e-9
+        if excess(lo) >= 0:
+            raise DataError(f"a rim {rim_depth:g} m deep on a {bore:g} m bore already "
+                            f"holds more than {required_inertia:.4g} kg*m^2; give a "
+                            f"smaller rim depth or width")
+        hi = 2.0 * lo
+        while excess(hi) < 0:
+            hi *= 2.0
+        od = 2.0 * brentq(excess, lo, hi, xtol=1e-12, rtol=1e-12)
+    else:
+        od = 2.0 * (2.0 * required_inertia / (math.pi * rho * width) + r ** 4) ** 0.25
+    if max_outer_diameter is not None and od > max_outer_diameter:
+        raise DataError(f"a {width:g} m wide {what} needs an outer diameter of {od:.3g} m; "
+                        f"the envelope allows {max_outer_diameter:.3g} m")
+    return make(od, width)
+
+
+# --------------------------------------------------------------------------- stresses
+def disc_stresses(radius: np.ndarray | float, speed: float, outer_radius: float,
+                  inner_radius: float, density: float,
+                  poisson: float) -> tuple[np.ndarray, np.ndarray]:
+    """Radial and tangential stress in a rotating disc of uniform thickness.
+
+    Plane stress, free outer edge and free bore; a solid disc when ``inner_radius == 0``:
+
+    * solid:   s_r = (3+nu)/8 rho w^2 (b^2 - r^2),
+      s_t = (3+nu)/8 rho w^2 b^2 - (1+3nu)/8 rho w^2 r^2
+    * annulus: s_r = (3+nu)/8 rho w^2 (a^2 + b^2 - a^2 b^2 / r^2 - r^2),
+      s_t = (3+nu)/8 rho w^2 (a^2 + b^2 + a^2 b^2 / r^2) - (1+3nu)/8 rho w^2 r^2
+
+    Parameters
+    ----------
+    radius : array [m]
+        Radii to evaluate, within ``[inner_radius, outer_radius]``.
+    speed : float [rad/s]
+    outer_radius, inner_radius : float [m]
+    density : float [kg/m^3]
+    poisson : float [-]
+
+    Returns
+    -------
+    (radial, tangential) : arrays [Pa]
+
+    References
+    ----------
+    .. [1] Timoshenko & Goodier, Theory of Elasticity, 3rd ed., section 32, eqs. for the
+       rotating solid disk and the disk with a central hole.
+    .. [2] Roark's Formulas for Stress and Strain, 7th ed., Table 16.2, cases 1 and 2.
+    """
+    r = np.asarray(radius, dtype=float)
+    a, b = float(inner_radius), float(outer_radius)
+    if not 0 <= a < b:
+        raise UsageError(f"inner radius ({a:g} m) must be at least 0 and smaller than the "
+                         f"outer radius ({b:g} m)")
+    if np.any(r < a * (1 - 1e-12)) or np.any(r > b * (1 + 1e-12)):
+        raise UsageError(f"radius must lie between {a:g} m and {b:g} m")
+    k = density * speed ** 2
+    c = (3.0 + poisson) / 8.0 * k
+    d = (1.0 + 3.0 * poisson) / 8.0 * k
+    if a == 0.0:
+        return c * (b ** 2 - r ** 2), c * b ** 2 - d * r ** 2
+    return (c * (a ** 2 + b ** 2 - a ** 2 * b ** 2 / r ** 2 - r ** 2),
+            c * (a ** 2 + b ** 2 + a ** 2 * b ** 2 / r ** 2) - d * r ** 2)
+
+
+def rim_hoop_stress(density: float, rim_speed: float) -> float:
+    """Hoop stress of a thin rotating ring, s = rho v^2.
+
+    Parameters
+    ----------
+    density : float [kg/m^3]
+    rim_speed : float [m/s]
+
+    Returns
+    -------
+    float [Pa]
+
+    References
+    ----------
+    .. [1] Timoshenko, Strength of Materials Part I, rotating ring (hoop stress rho v^2).
+    """
+    return density * rim_speed ** 2
+
+
+def _step_constants(edges: np.ndarray, widths: np.ndarray, speed: float, density: float,
+                    poisson: float, bore_pressure: float) -> tuple[np.ndarray, np.ndarray]:
+    """Constants (A_j, B_j) of s_r = A - B/r^2 - (3+nu) k r^2/8 in each uniform step."""
+    n = len(widths)
+    k = density * speed ** 2
+    nu = poisson
+    scale = edges[-1] ** 2  # B_j = Bs_j * scale, keeps the system well scaled
+
+    def rows(r: float) -> tuple[np.ndarray, float, np.ndarray, float]:
+        # coefficient rows on (A, Bs) and constant part of s_r and s_t at radius r
+        return (np.array([1.0, -scale / r ** 2]), -(3.0 + nu) * k * r ** 2 / 8.0,
+                np.array([1.0, scale / r ** 2]), -(1.0 + 3.0 * nu) * k * r ** 2 / 8.0)
+
+    m = np.zeros((2 * n, 2 * n))
+    rhs = np.zeros(2 * n)
+    if edges[0] == 0.0:
+        m[0, 1] = 1.0  # solid centre: B = 0 keeps the stresses finite
+    else:
+        sr, sr0, _, _ = rows(edges[0])
+        m[0, 0:2] = sr
+        rhs[0] = -bore_pressure - sr0
+    for j in range(1, n):  # interfaces: radial force and displacement continuous
+        c = edges[j]
+        sr, sr0, st, st0 = rows(c)
+        row = 2 * j - 1
+        m[row, 2 * j - 2:2 * j] = widths[j - 1] * sr
+        m[row, 2 * j:2 * j + 2] = -widths[j] * sr
+        rhs[row] = -(widths[j - 1] - widths[j]) * sr0
+        m[row + 1, 2 * j - 2:2 * j] = st - nu * sr
+        m[row + 1, 2 * j:2 * j + 2] = -(st - nu * sr)
+    sr, sr0, _, _ = rows(edges[-1])
+    m[-1, -2:] = sr
+    rhs[-1] = -sr0
+    x = np.linalg.solve(m, rhs)
+    return x[0::2], x[1::2] * scale
+
+
+def stepped_disc_stresses(radius: np.ndarray | float, speed: float, edges: np.ndarray,
+                          widths: np.ndarray, density: float, poisson: float,
+                          bore_pressure: float = 0.0) -> tuple[np.ndarray, np.ndarray]:
+    """Stresses in a rotating disc made of uniform-thickness steps.
+
+    In each step s_r = A - B/r^2 - (3+nu) rho w^2 r^2 / 8 and
+    s_t = A + B/r^2 - (1+3nu) rho w^2 r^2 / 8 (the general uniform-disc solution); the
+    constants follow from a free outer edge, the bore pressure (or a finite centre) and,
+    at each step, continuity of the radial force per unit circumference (width x s_r) and
+    of the radial displacement u = r (s_t - nu s_r) / E. One material throughout.
+
+    Parameters
+    ----------
+    radius : array [m]
+        Radii; a radius on a step boundary takes the outer step's values.
+    speed : float [rad/s]
+    edges : array [m]
+        Step boundaries, increasing, from the bore (0 for a solid centre) to the outside.
+    widths : array [m]
+        Axial thickness of each step (``len(edges) - 1`` values).
+    density : float [kg/m^3]
+    poisson : float [-]
+    bore_pressure : float [Pa]
+        Pressure on the bore (shrink fit), compressive positive.
+
+    Returns
+    -------
+    (radial, tangential) : arrays [Pa]
+
+    References
+    ----------
+    .. [1] Timoshenko, Strength of Materials Part II, 3rd ed., rotating disks of variable
+       thickness (stepped approximation).
+    .. [2] Timoshenko & Goodier, Theory of Elasticity, 3rd ed., section 32.
+    """
+    edges = np.asarray(edges, dtype=float)
+    widths = np.asarray(widths, dtype=float)
+    a_c, b_c = _step_constants(edges, widths, speed, density, poisson, bore_pressure)
+    r = np.asarray(radius, dtype=float)
+    j = np.clip(np.searchsorted(edges, r, side="right") - 1, 0, len(widths) - 1)
+    return _stress_at(r, a_c[j], b_c[j], density * speed ** 2, poisson)
+
+
+def _stress_at(r: np.ndarray, a_c: np.ndarray, b_c: np.ndarray, k: float,
+               nu: float) -> tuple[np.ndarray, np.ndarray]:
+    with np.errstate(divide="ignore", invalid="ignore"):
+        inv = np.where(r > 0, b_c / np.where(r > 0, r, 1.0) ** 2, 0.0)
+    return (a_c - inv - (3.0 + nu) * k * r ** 2 / 8.0,
+            a_c + inv - (1.0 + 3.0 * nu) * k * r ** 2 / 8.0)
+
+
+def von_mises(radial: np.ndarray, tangential: np.ndarray) -> np.ndarray:
+    """Plane-stress von Mises stress sqrt(s_r^2 - s_r s_t + s_t^2) [Pa]."""
+    return np.sqrt(radial ** 2 - radial * tangential + tangential ** 2)
+
+
+def max_principal(radial: np.ndarray, tangential: np.ndarray) -> np.ndarray:
+    """Largest principal stress in plane stress, max(s_r, s_t, 0) [Pa]."""
+    return np.maximum(np.maximum(radial, tangential), 0.0)
+
+
+# --------------------------------------------------------------------------- result
+@dataclass(frozen=True)
+class Check:
+    """One pass/fail check; ``value`` and ``limit`` in the unit named by ``name``."""
+
+    name: str
+    value: float | None
+    limit: float | None
+    ok: bool
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON form ``{name, value, limit, ok}``."""
+        return {"name": self.name, "value": self.value, "limit": self.limit, "ok": self.ok}
+
+
+@dataclass(frozen=True, eq=False)
+class FlywheelResult:
+    """Outcome of a flywheel check (SI attributes; ``to_dict`` gives the JSON contract).
+
+    ``radius``, ``radial``, ``tangential`` hold the rotational stress profile at the
+    operating speed [m, Pa] for plots; ``step`` the step index of each point.
+    """
+
+    geometry: DiscGeometry
+    material: Material
+    speed: float
+    mass: float
+    inertia: float
+    rim_speed: float
+    stored_energy: float
+    energy_released: float | None
+    energy_released_share: float | None
+    stress_tangential_bore: float | None
+    stress_radial_max: float
+    stress_von_mises_max: float
+    stress_max_principal_max: float
+    stress_critical: float
+    critical_radius: float
+    criterion: str
+    rim_hoop_stress_thin: float
+    material_factor: float
+    required_stress_factor: float
+    stress_safety_factor: float
+    yield_speed: float
+    speed_safety_factor: float
+    fit_loosening_speed: float | None
+    fit_pressure_rest: float | None
+    stress_bore_with_fit: float | None
+    checks: tuple[Check, ...]
+    cautions: tuple[str, ...]
+    options: dict[str, Any]
+    radius: np.ndarray = field(repr=False)
+    radial: np.ndarray = field(repr=False)
+    tangential: np.ndarray = field(repr=False)
+    step: np.ndarray = field(repr=False)
+
+    @property
+    def verdict(self) -> str:
+        """``"pass"`` when every check is ok, else ``"fail"``."""
+        return "pass" if all(c.ok for c in self.checks) else "fail"
+
+    @property
+    def failed(self) -> list[str]:
+        """Names of the failed checks."""
+        return [c.name for c in self.checks if not c.ok]
+
+    @property
+    def allowable_stress(self) -> float:
+        """Allowable criterion stress at the operating speed, strength / required factor
+        [Pa]."""
+        return self.material.strength / self.required_stress_factor
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON contract (units in the key names)."""
+        g = self.geometry
+
+        def mpa(x: float | None) -> float | None:
+            return None if x is None else x / 1e6
+
+        def rpm(x: float | None) -> float | None:
+            return None if x is None else x / _RPM
+
+        return {
+            "shape": g.shape,
+            "material": self.material.name,
+            "material_designation": self.material.designation,
+            "outer_diameter_m": g.outer_diameter,
+            "bore_m": g.bore,
+            "width_m": g.width,
+            "rim_inner_diameter_m": g.rim_inner_diameter,
+            "web_width_m": g.web_width,
+            "mass_kg": self.mass,
+            "inertia_kgm2": self.inertia,
+            "speed_rpm": rpm(self.speed),
+            "rim_speed_m_s": self.rim_speed,
+            "rim_speed_limit_m_s": self.material.rim_speed_limit,
+            "stored_energy_J": self.stored_energy,
+            "energy_released_J": self.energy_released,
+            "energy_released_share": self.energy_released_share,
+            "stress_tangential_bore_MPa": mpa(self.stress_tangential_bore),
+            "stress_radial_max_MPa": mpa(self.stress_radial_max),
+            "stress_von_mises_max_MPa": mpa(self.stress_von_mises_max),
+            "stress_max_principal_max_MPa": mpa(self.stress_max_principal_max),
+            "stress_critical_MPa": mpa(self.stress_critical),
+            "critical_radius_m": self.critical_radius,
+            "criterion": self.criterion,
+            "rim_hoop_stress_thin_MPa": mpa(self.rim_hoop_stress_thin),
+            "strength_MPa": mpa(self.material.strength),
+            "strength_kind": self.material.strength_kind,
+            "stress_allowable_MPa": mpa(self.allowable_stress),
+            "stress_safety_factor": self.stress_safety_factor,
+            "stress_safety_factor_required": self.required_stress_factor,
+            "yield_speed_rpm": rpm(self.yield_speed),
+            "speed_safety_factor": self.speed_safety_factor,
+            "speed_safety_factor_required": math.sqrt(self.required_stress_factor),
+            "fit_loosening_rpm": rpm(self.fit_loosening_speed),
+            "fit_pressure_rest_MPa": mpa(self.fit_pressure_rest),
+            "stress_bore_with_fit_MPa": mpa(self.stress_bore_with_fit),
+            "checks": [c.to_dict() for c in self.checks],
+            "verdict": self.verdict,
+            "failed": self.failed,
+            "cautions": list(self.cautions),
+            "options": dict(self.options),
+        }
+
+    def to_pandas(self) -> pd.DataFrame:
+        """Rotational stress profile at the operating speed, one row per radius."""
+        return pd.DataFrame({
+            "radius_m": self.radius,
+            "stress_radial_MPa": self.radial / 1e6,
+            "stress_tangential_MPa": self.tangential / 1e6,
+            "stress_von_mises_MPa": von_mises(self.radial, self.tangential) / 1e6,
+            "stress_max_principal_MPa": max_principal(self.radial, self.tangential) / 1e6,
+        })
+
+
+# --------------------------------------------------------------------------- checks
+def _profile_radii(edges: np.ndarray, a_c: np.ndarray, b_c: np.ndarray, k: float,
+                   nu: float, points: int = 241) -> tuple[np.ndarray, np.ndarray]:
+    """Radii per step (both ends included) plus the radial-stress maximum of each step."""
+    rs, js = [], []
+    for j in range(len(a_c)):
+        r = np.linspace(edges[j], edges[j + 1], points)
+        if b_c[j] > 0 and k > 0:  # d s_r / dr = 0 at r^4 = 8 B / ((3+nu) k)
+            r_star = (8.0 * b_c[j] / ((3.0 + nu) * k)) ** 0.25
+            if edges[j] < r_star < edges[j + 1]:
+                r = np.sort(np.append(r, r_star))
+        rs.append(r)
+        js.append(np.full(r.size, j))
+    return np.concatenate(rs), np.concatenate(js)
+
+
+def _validate_speed(speed: float) -> None:
+    if not (math.isfinite(speed) and speed > 0):
+        raise UsageError(f"speed must be positive, got {speed / _RPM:g} rpm "
+                         f"({speed:g} rad/s)")
+
+
+def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: float,
+                   overspeed: float = 1.2, slowdown: float | None = None,
+                   interference: float | None = None, shaft_modulus: float | None = None,
+                   *, shaft_material: Material | str = "steel",
+                   material_factor: float | None = None, criterion: str | None = None,
+                   required_inertia: float | None = None) -> FlywheelResult:
+    """Check a flywheel for burst margin, rim speed, energy and shrink fit.
+
+    Parameters
+    ----------
+    geometry : DiscGeometry
+    material : Material or str
+    speed : float [rad/s]
+        Operating speed of the flywheel shaft.
+    overspeed : float [-]
+        Highest speed / operating speed the flywheel must survive (>= 1).
+    slowdown : float [-], optional
+        Fractional speed drop over the working stroke (0.1: down to 90 %); gives the
+        energy released, 1/2 I w^2 (1 - (1 - slowdown)^2).
+    interference : float [m], optional
+        Diametral interference of a shrink fit on a solid shaft.
+    shaft_modulus : float [Pa], optional
+        Overrides the Young's modulus of ``shaft_material``.
+    shaft_material : Material or str
+        Shaft material for the fit (default ``"steel"``).
+    material_factor : float [-], optional
+        Factor on strength kept at the overspeed; default 1.5 (ductile, on yield) or 3.0
+        (brittle, on tensile strength), common practice.
+    criterion : str, optional
+        ``"von-mises"`` or ``"max-principal"``; default by the material's brittleness.
+    required_inertia : float [kg*m^2], optional
+        Adds a check that the flywheel holds it.
+
+    Returns
+    -------
+    FlywheelResult
+
+    References
+    ----------
+    .. [1] Timoshenko & Goodier, Theory of Elasticity, 3rd ed., section 32.
+    .. [2] Shigley's Mechanical Engineering Design, 9th ed., section 3-16
+       (pressure of a shrink fit between a hub and a solid shaft).
+    """
+    mat = _material(material)
+    _validate_speed(speed)
+    if not (math.isfinite(overspeed) and overspeed >= 1.0):
+        raise UsageError(f"overspeed must be 1 or more (a factor on the operating speed), "
+                         f"got {overspeed!r}")
+    if slowdown is not None and not 0.0 < slowdown < 1.0:
+        raise UsageError(f"slowdown must be a fraction between 0 and 1 (e.g. 0.1 for a "
+                         f"10 % speed drop), got {slowdown!r}")
+    if criterion is None:
+        criterion = "max-principal" if mat.brittle else "von-mises"
+    if criterion not in CRITERIA:
+        raise UsageError(f"unknown criterion {criterion!r}; valid: {', '.join(CRITERIA)}")
+    if material_factor is None:
+        material_factor = MATERIAL_FACTOR_BRITTLE if mat.brittle else MATERIAL_FACTOR_DUCTILE
+    if not (math.isfinite(material_factor) and material_factor >= 1.0):
+        raise UsageError(f"material factor must be 1 or more, got {material_factor!r}")
+    if interference is not None:
+        if not (math.isfinite(interference) and interference > 0):
+            raise UsageError(f"interference must be positive, got {interference!r} m")
+        if geometry.bore == 0:
+            raise UsageError("an interference fit needs a bore; the geometry has none")
+
+    rho, nu, e = mat.density, mat.poisson, mat.modulus
+    crit_fn = von_mises if criterion == "von-mises" else max_principal
+    edges, widths = geometry.steps()
+    k = rho * speed ** 2
+
+    # rotational stresses at the operating speed
+    a_c, b_c = _step_constants(edges, widths, speed, rho, nu, 0.0)
+    radius, step = _profile_radii(edges, a_c, b_c, k, nu)
+    s_r, s_t = _stress_at(radius, a_c[step], b_c[step], k, nu)
+    crit = crit_fn(s_r, s_t)
+    i_crit = int(np.argmax(crit))
+    stress_critical = float(crit[i_crit])
+    stress_factor = mat.strength / stress_critical
+    speed_factor = math.sqrt(stress_factor)
+    required_factor = material_factor * overspeed ** 2
+
+    i_total = inertia(geometry, rho)
+    m_total = mass(geometry, rho)
+    rim_speed = speed * geometry.outer_radius
+    stored = 0.5 * i_total * speed ** 2
+    share = None if slowdown is None else 1.0 - (1.0 - slowdown) ** 2
+    released = None if share is None else stored * share
+
+    checks = [Check("stress_safety_factor", stress_factor, required_factor,
+                    stress_factor >= required_factor)]
+    if mat.rim_speed_limit is not None:
+        checks.append(Check("rim_speed_m_s", rim_speed, mat.rim_speed_limit,
+                            rim_speed <= mat.rim_speed_limit))
+    if required_inertia is not None:
+        checks.append(Check("inertia_kgm2", i_total, required_inertia,
+                            i_total >= required_inertia * (1.0 - 1e-9)))
+
+    cautions = list(CAUTIONS)
+    if geometry.shape == "rim":
+        cautions.append(
+            "Rim shape: web and rim are modelled as a stepped disc; the stress raiser at "
+            "the web-to-rim fillet is not included." if geometry.web_width is not None else
+            "Rim shape without a web width: the rim is checked as a free ring; the web, "
+            "hub and shaft fit are not checked.")
+    if mat.rim_speed_limit is None:
+        cautions.append(f"No rim-speed limit is known for {mat.name}; rim speed not checked.")
+
+    # shrink fit
+    loosening = fit_p0 = bore_with_fit = None
+    shaft = None
+    if interference is not None and not geometry.models_bore:
+        cautions.append("The interference fit was not checked: the rim model has no web "
+                        "reaching the bore (give a web width).")
+    elif interference is not None:
+        shaft = _material(shaft_material)
+        e_s = shaft_modulus if shaft_modulus is not None else shaft.modulus
+        if not e_s > 0:
+            raise UsageError(f"shaft modulus must be positive, got {e_s!r} Pa")
+        a = geometry.inner_radius
+        # hub: bore growth from rotation (free bore) and per unit bore pressure
+        hub_rot = a * s_t[0] / e
+        a_p, b_p = _step_constants(edges, widths, 0.0, rho, nu, 1.0)
+        p_r, p_t = _stress_at(radius, a_p[step], b_p[step], 0.0, nu)
+        hub_per_p = a * (p_t[0] - nu * p_r[0]) / e
+        # solid shaft: growth from rotation (solid disc at r = a) and per unit pressure
+        shaft_rot = a * (1.0 - shaft.poisson) / 4.0 * shaft.density * speed ** 2 * a ** 2 / e_s
+        shaft_per_p = a * (1.0 - shaft.poisson) / e_s
+        compliance = hub_per_p + shaft_per_p
+        half = interference / 2.0
+        fit_p0 = half / compliance
+        growth = hub_rot - shaft_rot  # at the operating speed; grows with speed^2
+        loosening = speed * math.sqrt(half / growth) if growth > 0 else math.inf
+        w_over = overspeed * speed
+        p_over = max(0.0, (half - growth * overspeed ** 2) / compliance)
+        rest = crit_fn(fit_p0 * p_r, fit_p0 * p_t)
+        over = crit_fn(overspeed ** 2 * s_r + p_over * p_r, overspeed ** 2 * s_t + p_over * p_t)
+        bore_with_fit = float(max(rest.max(), over.max()))
+        checks.append(Check("fit_loosening_rpm", loosening / _RPM, w_over / _RPM,
+                            loosening >= w_over))
+        checks.append(Check("stress_bore_with_fit_MPa", bore_with_fit / 1e6,
+                            mat.strength / material_factor / 1e6,
+                            bore_with_fit <= mat.strength / material_factor))
+
+    if geometry.shape == "solid-disc":
+        model = "uniform solid disc (Timoshenko & Goodier sec. 32)"
+    elif geometry.shape == "annular-disc":
+        model = "uniform disc with free bore (Timoshenko & Goodier sec. 32)"
+    elif geometry.web_width is None:
+        model = "free rim ring, web neglected (Timoshenko & Goodier sec. 32)"
+    else:
+        model = "stepped disc: web and rim (Timoshenko, Strength of Materials II)"
+    options: dict[str, Any] = {
+        "overspeed": overspeed,
+        "slowdown": slowdown,
+        "interference_m": interference,
+        "material_factor": material_factor,
+        "criterion": criterion,
+        "stress_model": model,
+        "stresses_at": "operating speed; required stress factor = material_factor x "
+                       "overspeed^2",
+        "rim_speed_checked_at": "operating speed",
+        "required_inertia_kgm2": required_inertia,
+        "shaft_material": shaft.name if shaft is not None else None,
+        "shaft_modulus_Pa": (shaft_modulus if shaft_modulus is not None
+                             else (shaft.modulus if shaft is not None else None)),
+        "fit_model": ("solid shaft, plane stress; shaft growth from rotation included"
+                      if shaft is not None else None),
+    }
+    bore_stress = float(s_t[0]) if geometry.models_bore else None
+    return FlywheelResult(
+        geometry=geometry, material=mat, speed=speed, mass=m_total, inertia=i_total,
+        rim_speed=rim_speed, stored_energy=stored, energy_released=released,
+        energy_released_share=share, stress_tangential_bore=bore_stress,
+        stress_radial_max=float(s_r.max()), stress_von_mises_max=float(von_mises(s_r, s_t).max()),
+        stress_max_principal_max=float(max_principal(s_r, s_t).max()),
+        stress_critical=stress_critical, critical_radius=float(radius[i_crit]),
+        criterion=criterion, rim_hoop_stress_thin=rim_hoop_stress(rho, rim_speed),
+        material_factor=material_factor, required_stress_factor=required_factor,
+        stress_safety_factor=stress_factor, yield_speed=speed * speed_factor,
+        speed_safety_factor=speed_factor, fit_loosening_speed=loosening,
+        fit_pressure_rest=fit_p0, stress_bore_with_fit=bore_with_fit, checks=tuple(checks),
+        cautions=tuple(cautions), options=options, radius=radius, radial=s_r,
+        tangential=s_t, step=step,
+    )
+
+
+def design_flywheel(required_inertia: float, speed: float, material: Material | str,
+                    shape: str, outer_diameter: float | None, bore: float,
+                    width: float | None = None, max_width: float | None = None,
+                    overspeed: float = 1.2, slowdown: float | None = None,
+                    interference: float | None = None, *,
+                    max_outer_diameter: float | None = None, rim_depth: float | None = None,
+                    rim_inner_diameter: float | None = None, web_width: float | None = None,
+                    material_factor: float | None = None, criterion: str | None = None,
+                    shaft_material: Material | str = "steel",
+                    shaft_modulus: float | None = None) -> FlywheelResult:
+    """Size a flywheel for an inertia and check it (geometry from :func:`solve_geometry`).
+
+    When both ``outer_diameter`` and ``width`` are given nothing is solved: the given
+    flywheel is checked, with an added check that it holds ``required_inertia``.
+
+    Parameters
+    ----------
+    required_inertia : float [kg*m^2]
+    speed : float [rad/s]
+    material : Material or str
+    shape : str
+    outer_diameter, bore, width, max_width, max_outer_diameter : float [m]
+    overspeed, slowdown, interference
+        See :func:`check_flywheel`.
+    rim_depth, rim_inner_diameter, web_width : float [m], optional
+        ``rim`` shape, see :func:`solve_geometry`.
+    material_factor, criterion, shaft_material, shaft_modulus
+        See :func:`check_flywheel`.
+
+    Returns
+    -------
+    FlywheelResult
+        ``options["solved"]`` names the solved dimension (or None).
+
+    References
+    ----------
+    .. [1] Timoshenko & Goodier, Theory of Elasticity, 3rd ed., section 32.
+    """
+    mat = _material(material)
+    _validate_speed(speed)
+    if outer_diameter is not None and width is not None:
+        if max_width is not None and width > max_width:
+            raise DataError(f"width {width:g} m exceeds the envelope {max_width:g} m")
+        if max_outer_diameter is not None and outer_diameter > max_outer_diameter:
+            raise DataError(f"outer diameter {outer_diameter:g} m exceeds the envelope "
+                            f"{max_outer_diameter:g} m")
+        rid = rim_inner_diameter
+        if shape == "rim" and rid is None and rim_depth is not None:
+            rid = outer_diameter - 2.0 * rim_depth
+        geometry = DiscGeometry(shape, outer_diameter, bore, width,
+                                rim_inner_diameter=rid, web_width=web_width)
+        solved = None
+    else:
+        geometry = solve_geometry(required_inertia, mat, shape, outer_diameter=outer_diameter,
+                                  bore=bore, width=width, max_width=max_width,
+                                  max_outer_diameter=max_outer_diameter, rim_depth=rim_depth,
+                                  rim_inner_diameter=rim_inner_diameter, web_width=web_width)
+        solved = "width" if width is None else "outer_diameter"
+    result = check_flywheel(geometry, mat, speed, overspeed, slowdown, interference,
+                            shaft_modulus, shaft_material=shaft_material,
+                            material_factor=material_factor, criterion=criterion,
+                            required_inertia=required_inertia)
+    options = {**result.options, "solved": solved, "max_width_m": max_width,
+               "max_outer_diameter_m": max_outer_diameter, "rim_depth_m": rim_depth}
+    return replace(result, options=options)
+
+
+def requirement_from_size(data: dict[str, Any], source: str = "<size result>",
+                          flywheel_speed_ratio: float | None = None) -> tuple[float, float,
+                                                                               dict[str, Any]]:
+    """Required inertia and flywheel speed from a ``torqlog size --format json`` result.
+
+    Inertia is ``added_inertia_at_flywheel_kgm2`` when present, else
+    ``added_inertia_kgm2`` (referred to the logged shaft) divided by the square of the
+    flywheel speed ratio (the same number when the ratio is 1, the usual case). Speed is
+    ``speed_mean_rpm`` times the ratio. The ratio is ``flywheel_speed_ratio`` from the
+    file (top level or its ``options``), else the argument, else 1.
+
+    Parameters
+    ----------
+    data : dict
+        The parsed JSON.
+    source : str
+        File name for messages.
+    flywheel_speed_ratio : float, optional
+        Flywheel shaft speed / logged shaft speed, used when the file has none.
+
+    Returns
+    -------
+    (required_inertia [kg*m^2], speed [rad/s], info)
+        ``info`` records the keys and ratio used.
+
+    Raises
+    ------
+    DataError
+        A key is missing or not a positive number.
+    """
+    if not isinstance(data, dict):
+        raise DataError(f"{source}: expected a JSON object written by "
+                        "'torqlog size --format json'")
+    options = data.get("options") if isinstance(data.get("options"), dict) else {}
+    ratio = data.get("flywheel_speed_ratio", options.get("flywheel_speed_ratio"))
+    if ratio is None:
+        ratio = 1.0 if flywheel_speed_ratio is None else flywheel_speed_ratio
+
+    def number(key: str) -> float:
+        value = data[key]
+        if isinstance(value, bool) or not isinstance(value, int | float) or not value > 0:
+            raise DataError(f"{source}: {key} must be a positive number, got {value!r}")
+        return float(value)
+
+    if "speed_mean_rpm" not in data:
+        raise DataError(f"{source}: no 'speed_mean_rpm'; write the file with "
+                        "'torqlog size --format json' or give --speed-rpm")
+    if isinstance(ratio, bool) or not isinstance(ratio, int | float) or not ratio > 0:
+        raise DataError(f"{source}: flywheel_speed_ratio must be a positive number, "
+                        f"got {ratio!r}")
+    if "added_inertia_at_flywheel_kgm2" in data:
+        key = "added_inertia_at_flywheel_kgm2"
+        required = number(key)
+    elif "added_inertia_kgm2" in data:
+        key = "added_inertia_kgm2"
+        required = number(key) / ratio ** 2
+    else:
+        raise DataError(f"{source}: no 'added_inertia_at_flywheel_kgm2' or "
+                        "'added_inertia_kgm2'; write the file with 'torqlog size --format "
+                        "json' or give --inertia")
+    speed = number("speed_mean_rpm") * _RPM * ratio
+    return required, speed, {"from_size": source, "inertia_key": key,
+                             "flywheel_speed_ratio": float(ratio)}
