@@ -21,7 +21,7 @@ def main() -> None:
     path = sys.argv[2]
     fs = 10_000.0
     w0 = 2 * np.pi * 2.0
-    inertia = 40.0
+    inertia = 400.0
     rng = np.random.default_rng(1)
     block = 1_000_000
     opts = pacsv.WriteOptions(include_header=True)
@@ -34,7 +34,8 @@ def main() -> None:
             th = w0 * t
             dyn = 900 * np.sin(th) + 400 * np.sin(2 * th + 0.4) + 150 * np.sin(3 * th)
             torque = 2000 + dyn + rng.normal(0, 10, n)
-            e = -(900 * np.cos(th) - 900 + 200 * np.cos(2 * th + 0.4) + 50 * np.cos(3 * th))
+            # E(θ) = ∫(T − T̄)dθ of the harmonics above (zero mean over a cycle)
+            e = -(900 * np.cos(th) + 200 * np.cos(2 * th + 0.4) + 50 * np.cos(3 * th))
             speed = (w0 - e / (inertia * w0)) * 60 / (2 * np.pi) + rng.normal(0, 0.02, n)
             tbl = pa.table({"time_s": np.round(t, 5), "torque_Nm": np.round(torque, 2),
                             "speed_rpm": np.round(speed, 3)})

@@ -20,8 +20,8 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.integrate import cumulative_trapezoid
 
+from torqlog.energy import cumulative_trapezoid
 from torqlog.errors import DataError, UsageError
 
 TWO_PI = 2.0 * math.pi
@@ -217,7 +217,7 @@ def angle_from_speed(time: np.ndarray, speed: np.ndarray, theta0: float = 0.0) -
 
     References
     ----------
-    scipy.integrate.cumulative_trapezoid.
+    The trapezoid rule, e.g. Press et al., *Numerical Recipes*, 3rd ed., sec. 4.1.
     """
     w = np.asarray(speed, dtype=np.float64)
     if np.isnan(w).any():

@@ -85,7 +85,7 @@ class CycleOptions:
     cs_mean: str = "cycle"
     torque_role: str = "load"
     despike: bool = True
-    block_rows: int = 1_000_000
+    block_rows: int = 100_000
 
     def __post_init__(self) -> None:
         if int(self.revs_per_cycle) != self.revs_per_cycle or self.revs_per_cycle < 1:

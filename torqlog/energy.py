@@ -19,7 +19,19 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.integrate import cumulative_trapezoid
+
+
+def cumulative_trapezoid(y: np.ndarray, x: np.ndarray, initial: float = 0.0) -> np.ndarray:
+    """Running trapezoid-rule integral of ``y`` over ``x``, starting at ``initial``.
+
+    The same rule as ``scipy.integrate.cumulative_trapezoid(..., initial=0)``, kept here
+    in numpy so the streaming path does not import scipy (it costs ~1 s of start-up).
+    """
+    out = np.empty(y.size, dtype=np.float64)
+    out[0] = initial
+    np.cumsum(0.5 * (y[1:] + y[:-1]) * np.diff(x), out=out[1:])
+    out[1:] += initial
+    return out
 
 
 def energy_curve(torque: np.ndarray, angle: np.ndarray) -> np.ndarray:

@@ -17,7 +17,9 @@ from __future__ import annotations
 
 import gzip
 import math
+import queue
 import re
+import threading
 from collections.abc import Iterator
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -593,7 +595,7 @@ class LogReader:
         t0: float | int | None = None
         last_t: float | None = None
         row = 0
-        for batch in self._batches(wanted):
+        for batch in self._grouped(wanted):
             n = batch.num_rows
             if n == 0:
                 continue
@@ -661,13 +663,59 @@ class LogReader:
             raise DataError(f"{lay.path}: line {lay.skip_rows + base + i + 2}: timestamp {what}; "
                             "sort the rows by time and remove duplicates")
 
+    def _grouped(self, wanted: list[Column]) -> Iterator[pa.Table]:
+        """Small pyarrow blocks grouped into chunks of ~block_rows, read one chunk ahead.
+
+        A background thread parses the next chunk (pyarrow releases the GIL while it
+        parses) while the caller computes on this one; the queue holds at most two
+        chunks, so memory stays bounded by the chunk size.
+        """
+        q: queue.Queue = queue.Queue(maxsize=2)
+        stop = threading.Event()
+
+        def produce() -> None:
+            group: list[pa.RecordBatch] = []
+            rows = 0
+            try:
+                for batch in self._batches(wanted):
+                    if stop.is_set():
+                        return
+                    group.append(batch)
+                    rows += batch.num_rows
+                    if rows >= self.block_rows:
+                        q.put(pa.Table.from_batches(group))
+                        group, rows = [], 0
+                if group:
+                    q.put(pa.Table.from_batches(group))
+                q.put(None)
+            except BaseException as exc:  # noqa: BLE001 - handed to the consumer
+                q.put(exc)
+
+        worker = threading.Thread(target=produce, daemon=True)
+        worker.start()
+        try:
+            while True:
+                item = q.get()
+                if item is None:
+                    return
+                if isinstance(item, BaseException):
+                    raise item
+                yield item
+        finally:
+            stop.set()
+            while worker.is_alive():  # let the producer finish its last put
+                try:
+                    q.get_nowait()
+                except queue.Empty:
+                    worker.join(0.01)
+
     def _batches(self, wanted: list[Column]) -> Iterator[pa.RecordBatch]:
         lay = self.layout
         if lay.kind == "parquet":
             import pyarrow.parquet as pq
 
             pf = pq.ParquetFile(lay.path)
-            yield from pf.iter_batches(batch_size=self.block_rows,
+            yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
                                        columns=[c.name for c in wanted])
             return
         names = [c.name for c in lay.columns]
@@ -677,9 +725,10 @@ class LogReader:
                 types[c.name] = pa.timestamp("ns", tz="UTC" if lay.timestamp_tz else None)
             else:
                 types[c.name] = pa.float64()
-        row_bytes = 12 * max(len(names), 1) + 8
+        # pyarrow reads several blocks ahead and keeps them: small blocks bound memory
+        # (1 MiB blocks measured fastest and smallest on a 10 M-row log)
         read = pacsv.ReadOptions(skip_rows=lay.skip_rows, column_names=names,
-                                 block_size=max(1 << 16, self.block_rows * row_bytes),
+                                 block_size=1 << 20,
                                  encoding=lay.encoding, use_threads=True)
         parse = pacsv.ParseOptions(delimiter=lay.delimiter)
         conv = pacsv.ConvertOptions(column_types=types, include_columns=[c.name for c in wanted],
@@ -687,7 +736,9 @@ class LogReader:
                                     null_values=["", "NaN", "nan", "NA", "null", "-nan", "#N/A"],
                                     strings_can_be_null=True)
         try:
-            reader = pacsv.open_csv(lay.path, read_options=read, parse_options=parse,
+            reader = pacsv.open_csv(pa.OSFile(lay.path, "rb") if not lay.path.lower().endswith(
+                ".gz") else pa.CompressedInputStream(pa.OSFile(lay.path, "rb"), "gzip"),
+                read_options=read, parse_options=parse,
                                     convert_options=conv)
             yield from reader
         except pa.ArrowInvalid as exc:
