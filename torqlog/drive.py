@@ -424,11 +424,12 @@ def simulate_drive(angle: np.ndarray, load_torque: np.ndarray, inertia: float,
                         f"the linear slip region the real motor gives less torque than this "
                         f"model (breakdown torque is commonly 2–3 × rated, common practice)")
     return DriveCycle(
-        inertia=total, added_inertia=float(added_inertia), cs=(w_max - w_min) / w_mean,
-        speed_min=w_min, speed_max=w_max, speed_mean=w_mean, cycle_time=float(cycle_time),
+        inertia=total, added_inertia=float(added_inertia), cs=float((w_max - w_min) / w_mean),
+        speed_min=w_min, speed_max=w_max, speed_mean=float(w_mean),
+        cycle_time=float(cycle_time),
         motor_torque_peak=t_peak, motor_torque_min=float(motor.torque(w_max)),
         motor_torque_mean=float(t_mean), motor_torque_rms=t_rms, speed_ratio=n,
-        rated_torque_motor=rated, motor_work=float(motor_work), load_work=load.work,
+        rated_torque_motor=rated, motor_work=float(motor_work), load_work=float(load.work),
         angle=theta, time=dense[2], speed=speed, motor_torque=torque_m,
         load_torque=load.torque(theta), messages=tuple(messages))
 
@@ -462,24 +463,38 @@ def drive_curve(angle: np.ndarray, load_torque: np.ndarray, existing_inertia: fl
     ----------
     .. [1] R. L. Norton, *Design of Machinery*, flywheel section.
     """
+    cycles = drive_cycles(angle, load_torque, existing_inertia, added_grid, motor,
+                          revs_per_cycle)
+    return curve_frame(cycles)
+
+
+def drive_cycles(angle: np.ndarray, load_torque: np.ndarray, existing_inertia: float,
+                 added_grid: np.ndarray, motor: MotorModel,
+                 revs_per_cycle: int = 1) -> list[DriveCycle]:
+    """One :class:`DriveCycle` per added inertia (sorted, duplicates dropped).
+
+    Parameters are those of :func:`drive_curve`.
+    """
     grid = np.unique(np.asarray(added_grid, dtype=float))
     if grid.size == 0 or np.any(~np.isfinite(grid)) or grid[0] < 0:
         raise UsageError("the added-inertia grid must hold finite values ≥ 0 kg m^2")
+    # one simulation per grid point (a handful), not a loop over samples
+    return [simulate_drive(angle, load_torque, existing_inertia + added, motor,
+                           revs_per_cycle, added_inertia=float(added)) for added in grid]
+
+
+CURVE_COLUMNS = ("added_inertia_kgm2", "cs", "speed_min_rpm", "speed_max_rpm",
+                 "motor_torque_peak_Nm", "motor_torque_peak_to_mean", "motor_torque_rms_Nm")
+
+
+def curve_frame(cycles: list[DriveCycle]) -> pd.DataFrame:
+    """The drive-curve table (columns :data:`CURVE_COLUMNS`) of simulated cycles."""
     rows = []
-    for added in grid:  # one simulation per grid point (a handful), not per sample
-        dc = simulate_drive(angle, load_torque, existing_inertia + added, motor,
-                            revs_per_cycle, added_inertia=added)
+    for dc in cycles:
         d = dc.to_dict()
-        rows.append({
-            "added_inertia_kgm2": added,
-            "cs": dc.cs,
-            "speed_min_rpm": d["speed_min_rpm"],
-            "speed_max_rpm": d["speed_max_rpm"],
-            "motor_torque_peak_Nm": d["motor_torque_peak_Nm"],
-            "motor_torque_peak_to_mean": d["motor_torque_peak_to_mean"],
-            "motor_torque_rms_Nm": d["motor_torque_rms_Nm"],
-        })
-    return pd.DataFrame(rows)
+        rows.append({"added_inertia_kgm2": dc.added_inertia, "cs": dc.cs,
+                     **{c: d[c] for c in CURVE_COLUMNS[2:]}})
+    return pd.DataFrame(rows, columns=list(CURVE_COLUMNS))
 
 
 # --------------------------------------------------------------------------- presses
