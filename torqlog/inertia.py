@@ -414,12 +414,18 @@ def identify_inertia(time: np.ndarray, torque: np.ndarray, speed: np.ndarray, *,
     torque_role : {"load", "drive"}
         Whose torque was logged.
     smooth : float, optional [Hz]
-        Cut-off frequency of the low-pass filter. Default: ten times the frequency of the
+        Cut-off frequency of the low-pass filter. Default: four times the frequency of the
         strongest speed oscillation, at most a quarter of the sample rate.
 
     Returns
     -------
     IdentifyResult
+
+    Notes
+    -----
+    Speed noise that survives the filter enters ``dω/dt`` and biases the inertia low by
+    about the noise-to-signal variance ratio of ``dω/dt`` (errors in variables); it grows
+    with the cube of the cut-off, so keep ``smooth`` low (a few times the cycle frequency).
 
     Raises
     ------
@@ -458,7 +464,7 @@ def identify_inertia(time: np.ndarray, torque: np.ndarray, speed: np.ndarray, *,
     if smooth is None:
         spec = np.abs(np.fft.rfft(dev * np.hanning(dev.size)))
         f1 = float(np.fft.rfftfreq(dev.size, step)[1 + int(np.argmax(spec[1:]))])
-        cutoff = min(10.0 * f1, 0.25 * fs)
+        cutoff = min(4.0 * f1, 0.25 * fs)
     else:
         cutoff = float(smooth)
         if not (math.isfinite(cutoff) and 0 < cutoff < 0.5 * fs):
