@@ -15,11 +15,11 @@ from scipy.integrate import cumulative_trapezoid, solve_ivp
 
 from torqlog.drive import MotorModel
 from torqlog.errors import DataError, UsageError
+from torqlog.identify import identify_inertia
 from torqlog.inertia import (
     MACHINE_CLASSES,
     bootstrap_ci,
     design_energy_swing,
-    identify_inertia,
     required_inertia,
     size_from_cycles,
     swing_energy_from_speed,
