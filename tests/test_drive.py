@@ -203,3 +203,19 @@ def test_recovery_time_matches_integration():
         recovery_time(inertia, motor, 4.2, 5.0, idle_torque=idle)
     assert str(exc.value) == ("speed_to (47.7465 rpm) must be below the speed the motor "
                               "settles at under the idle torque (47.269 rpm)")
+
+
+def test_motor_that_cannot_carry_the_load_is_refused():
+    from torqlog.errors import DataError
+
+    motor = motor_with_slope(3000.0)   # standstill torque k·ω0 = 3000·5 = 15000 N m
+    with pytest.raises(DataError) as exc:
+        simulate_drive(ANGLE, np.full(N_GRID, 20000.0), 400.0, motor)
+    assert str(exc.value) == ("the motor cannot carry this load: the mean load torque 2e+04 "
+                              "N m is above the linear-slip motor torque at standstill "
+                              "1.5e+04 N m")
+    with pytest.raises(DataError) as exc:
+        simulate_drive(ANGLE, 1000.0 + 14000.0 * np.sin(ANGLE), 5.0, motor)
+    assert str(exc.value) == ("the motor cannot carry this load at 5 kg m^2: the shaft speed "
+                              "falls to zero within the cycle; add inertia or check the "
+                              "motor data")

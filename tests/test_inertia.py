@@ -341,3 +341,17 @@ def test_identify_engine_log_with_drive_torque():
     with pytest.raises(UsageError) as exc:
         identify_inertia(t, tq, w, torque_role="engine")
     assert str(exc.value) == "unknown torque_role 'engine'; valid choices: load, drive"
+
+
+def test_engine_log_skips_motor_simulation_with_a_reason():
+    ratio = 30.0
+    motor = MotorModel(power=5000.0, sync_speed=150.0, rated_speed=138.0, speed_ratio=ratio)
+    mc = mean_cycle_from_scipy(400.0, MotorModel(power=1200.0 / ratio * 138.0,
+                                                 sync_speed=150.0, rated_speed=138.0,
+                                                 speed_ratio=ratio))
+    res = size_from_cycles(cycle_table(np.full(30, 1500.0), 4.6), mc, target_cs=0.05,
+                           motor=motor, torque_role="drive", existing_inertia=400.0,
+                           n_boot=200)
+    assert res.drive is None
+    assert ("no motor simulation: the logged torque is the drive torque (engine log), not "
+            "the load a motor drives") in res.messages

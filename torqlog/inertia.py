@@ -218,9 +218,9 @@ def bootstrap_ci(energy_swing: np.ndarray, speed: np.ndarray | float, *, target_
     """Percentile-bootstrap interval on the required inertia, resampling whole cycles.
 
     Each resample draws the cycles with replacement (energy swing and mean speed of a
-    cycle stay together), takes the design quantile of the swings and the mean of the
-    speeds, and computes ``I = ΔE_q/(Cs·ω̄²)``; the interval is the central ``level``
-    share of those values.
+    cycle stay together; index matrices drawn in blocks of bounded size), takes the design
+    quantile of the swings and the mean of the speeds, and computes ``I = ΔE_q/(Cs·ω̄²)``;
+    the interval is the central ``level`` share of those values.
 
     Parameters
     ----------
@@ -259,12 +259,17 @@ def bootstrap_ci(energy_swing: np.ndarray, speed: np.ndarray | float, *, target_
     if int(n_boot) < 10:
         raise UsageError(f"n_boot must be at least 10, got {n_boot!r}")
     rng = np.random.default_rng(seed)
-    idx = rng.integers(0, n, size=(int(n_boot), n))
-    samples = e[idx]
-    eq = samples.max(axis=1) if q == "max" else np.quantile(samples, q, axis=1)
     w = np.asarray(speed, dtype=float)
-    wbar = w[idx].mean(axis=1) if w.ndim else np.full(int(n_boot), float(w))
-    i_req = eq / (cs * wbar * wbar)
+    i_req = np.empty(int(n_boot))
+    # index matrices of at most ~4 M entries, so a long shift log stays in bounded memory
+    block = max(1, 4_000_000 // n)
+    for start in range(0, int(n_boot), block):
+        rows = min(block, int(n_boot) - start)
+        idx = rng.integers(0, n, size=(rows, n))
+        samples = e[idx]
+        eq = samples.max(axis=1) if q == "max" else np.quantile(samples, q, axis=1)
+        wbar = w[idx].mean(axis=1) if w.ndim else np.full(rows, float(w))
+        i_req[start:start + rows] = eq / (cs * wbar * wbar)
     alpha = 0.5 * (1.0 - level)
     lo, hi = np.quantile(i_req, [alpha, 1.0 - alpha])
     return float(lo), float(hi)
