@@ -645,3 +645,113 @@ def _material_names() -> list[str]:
     from torqlog.materials import MATERIALS
 
     return list(MATERIALS)
+
+
+# --- size
+def _size_text(d: dict[str, Any], source: str) -> str:
+    """Readable summary of a sizing result."""
+    def kg(x: float | None) -> str:
+        return "-" if x is None else f"{x:,.4g} kg·m²"
+
+    lo, hi = d["ci95_kgm2"]
+    q = d["quantile"]
+    lines = [
+        f"{source}: flywheel sizing by {d['method']} ({d['cycles_used']} clean cycles, "
+        f"mean speed {d['speed_mean_rpm']:.4g} rpm)",
+        f"design energy swing   {d['design_energy_swing_J'] / 1e3:.4g} kJ "
+        f"({'max' if q == 'max' else f'p{100 * float(q):g}'} of the cycles)",
+        f"target Cs             {d['target_cs']:.4g}",
+        f"required inertia      {kg(d['required_inertia_kgm2'])}  "
+        f"(95 % interval {kg(lo)} to {kg(hi)})",
+        f"existing inertia      {kg(d['existing_inertia_kgm2'])}",
+        f"added inertia         {kg(d['added_inertia_kgm2'])}",
+    ]
+    if d["flywheel_speed_ratio"] != 1.0:
+        lines.append(f"  at the flywheel shaft (×{d['flywheel_speed_ratio']:g} speed): "
+                     f"{kg(d['added_inertia_at_flywheel_kgm2'])}")
+    if d["identified"]:
+        idf = d["identified"]
+        lines.append(f"identified from log   {kg(idf.get('inertia_kgm2'))} (R² "
+                     f"{idf.get('r2', float('nan')):.3f})")
+    drive = d.get("drive") or {}
+    if drive.get("added_inertia_for_target_cs_kgm2") is not None:
+        lines.append(f"with motor slip       {kg(drive['added_inertia_for_target_cs_kgm2'])} "
+                     "added meets the target")
+    lines += [f"note: {m}" for m in d["messages"]]
+    lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
+    return "\n".join(lines)
+
+
+@cli.command("size")
+@click.argument("log", type=click.Path(dir_okay=True))
+@click.option("--target-cs", type=float, default=None,
+              help="Target coefficient of speed fluctuation (0 < Cs < 1).")
+@click.option("--machine-class", default=None, metavar="NAME",
+              help="Take the target Cs from the table of machine types (see the docs).")
+@click.option("--quantile", default="0.95", show_default=True,
+              help="Design quantile of the per-cycle energy swing, or 'max'.")
+@click.option("--motor-power", type=QuantityType("power", "kW"), default=None,
+              help="Motor rated power [kW].")
+@click.option("--sync-rpm", type=QuantityType("speed", "rpm"), default=None,
+              help="Motor synchronous speed [rpm].")
+@click.option("--rated-rpm", type=QuantityType("speed", "rpm"), default=None,
+              help="Motor rated (full-load) speed [rpm].")
+@click.option("--motor-ratio", type=float, default=None,
+              help="Motor speed / logged shaft speed (belt or gear ratio).")
+@click.option("--flywheel-speed-ratio", type=float, default=None,
+              help="Flywheel shaft speed / logged shaft speed.  [default: 1, or profile]")
+@click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
+@cycle_options
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+              help="Write a PNG: Cs and motor peak torque against added inertia.")
+@output_options
+def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quantile: str,
+             motor_power: float | None, sync_rpm: float | None, rated_rpm: float | None,
+             motor_ratio: float | None, flywheel_speed_ratio: float | None, seed: int,
+             plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
+    """Flywheel inertia to reach a target Cs, with its interval and the motor's view."""
+    from torqlog.drive import MotorModel
+    from torqlog.errors import UsageError
+    from torqlog.inertia import size_from_cycles, target_cs_for
+
+    res, profile = run_cycles(log, kw)
+    machine = profile.machine if profile is not None else {}
+    if target_cs is None and machine_class:
+        target_cs = target_cs_for(machine_class)
+    if target_cs is None:
+        target_cs = machine.get("target_cs")
+    if target_cs is None:
+        raise UsageError("give --target-cs X, --machine-class NAME or [machine] target_cs in "
+                         "the profile")
+    try:
+        q: float | str = "max" if quantile.strip().lower() == "max" else float(quantile)
+    except ValueError:
+        raise UsageError(f"--quantile: {quantile!r} is not a number in (0, 1] or 'max'") \
+            from None
+    motor_kw = dict(profile.motor) if profile is not None else {}
+    for key, value in (("power", motor_power), ("sync", sync_rpm), ("rated", rated_rpm),
+                       ("speed_ratio", motor_ratio)):
+        if value is not None:
+            motor_kw[key] = value
+    motor = MotorModel.from_profile(motor_kw) if motor_kw else None
+    ratio = flywheel_speed_ratio or machine.get("flywheel_speed_ratio", 1.0)
+    result = size_from_cycles(res.table, res.mean_cycle, target_cs=target_cs, quantile=q,
+                              existing_inertia=res.options["inertia"],
+                              flywheel_speed_ratio=ratio, motor=motor,
+                              revs_per_cycle=res.options["revs_per_cycle"], seed=seed,
+                              torque_role=res.options["torque_role"],
+                              speed=res.options.get("nominal_speed"))
+    data = result.to_dict()
+    data["source"] = res.source
+    data["cycle_options"] = res.options
+    if plot_path:
+        from torqlog.plots import plot_drive_curve
+
+        if result.curve is None:
+            raise UsageError("--plot needs a motor (--motor-power, --sync-rpm, --rated-rpm, "
+                             "--motor-ratio, or [motor] in the profile) to simulate the drive")
+        plot_drive_curve(result.to_pandas(), plot_path, target_cs=target_cs,
+                         recommended=data["added_inertia_kgm2"])
+        click.echo(f"wrote {plot_path}", err=True)
+    emit(data, result.to_pandas() if fmt == "csv" and result.curve is not None else None,
+         fmt, output, text=_size_text(data, res.source))
