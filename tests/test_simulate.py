@@ -143,14 +143,14 @@ def test_compressor_work_matches_ideal_cycle_with_clearance():
 
 def test_press_torque_is_die_force_times_slide_travel():
     # virtual work: integral of T dtheta over the stroke equals integral of F dx
-    # (Uicker, Pennock & Shigley); the die work is the design 18 kJ
+    # (Uicker, Pennock & Shigley); the die work is the design 10 kJ
     load = MACHINES["press"].load
     th = np.linspace(np.pi - load.window, np.pi, 20001)
     x, _, _ = slider_crank(th + np.pi, load.crank_radius, load.rod_length)
     by_force = np.trapezoid(load.die_force(th), x)
     by_torque = np.trapezoid(load.torque(th) - load.friction, th)
     assert by_force == pytest.approx(by_torque, rel=1e-6)
-    assert by_torque == pytest.approx(18e3, rel=1e-6)
+    assert by_torque == pytest.approx(10e3, rel=1e-6)
     assert load.torque(np.pi) == pytest.approx(load.friction)
     assert load.torque(0.5) == load.friction
 
@@ -262,7 +262,7 @@ def test_flywheel_need_story():
         log = simulate(key, duration=3.0, rate=5000.0, noise=False)
         w = log.data["speed"].to_numpy()
         cs[key] = np.ptp(w) / w.mean()
-    assert cs["press"] == pytest.approx(0.233, abs=0.005)
+    assert cs["press"] == pytest.approx(0.120, abs=0.003)
     assert cs["compressor"] == pytest.approx(0.0377, abs=0.001)
     assert cs["engine"] == pytest.approx(0.0225, abs=0.001)
 
@@ -329,7 +329,7 @@ def test_load_scale_and_inertia():
     light = simulate("press", duration=8.0, noise=False, channels="torque,speed,angle",
                      load_scale=0.8)
     heavy = simulate("press", duration=8.0, noise=False, inertia=3100.0)
-    assert light.machine.load.work == pytest.approx(0.8 * 18e3)
+    assert light.machine.load.work == pytest.approx(0.8 * 10e3)
     assert light.data["torque"].max() < base.data["torque"].max()
     cs_base = np.ptp(base.data["speed"]) / base.data["speed"].mean()
     cs_heavy = np.ptp(heavy.data["speed"]) / heavy.data["speed"].mean()
@@ -476,6 +476,15 @@ def test_profiles_load_and_match(tmp_path, key):
         assert prof.motor["speed_ratio"] == pytest.approx(m.motor.speed_ratio)
 
 
+def test_profile_follows_inertia_override(tmp_path):
+    log = simulate("compressor", duration=0.5, inertia=9.0, noise=False)
+    path = tmp_path / "k2.toml"
+    path.write_text(demo_profile(log.machine), encoding="utf-8")
+    prof = load_profile(path)
+    assert prof.machine["inertia"] == 9.0
+    assert prof.torsional["inertias_kgm2"] == pytest.approx([0.84, 7.2, 0.96])
+
+
 # ----------------------------------------------------------------------- command line
 def test_cli_simulate_writes_log_and_profile(tmp_path):
     out, prof = tmp_path / "p.csv", tmp_path / "p.toml"
@@ -500,3 +509,12 @@ def test_sample_files_are_small():
     files = sorted(p for p in folder.iterdir() if p.suffix in {".csv", ".txt"})
     assert len(files) == 5
     assert all(p.stat().st_size < 2_000_000 for p in files)
+    # every command of the script is in the README, and every file has its line there
+    readme = (folder / "README.md").read_text(encoding="utf-8")
+    script = (folder / "make_samples.sh").read_text(encoding="utf-8")
+    commands = [line for line in script.splitlines() if line.startswith("torqlog simulate")]
+    assert len(commands) == 5
+    assert all(f"`{c}`" in readme for c in commands)
+    for p in folder.iterdir():
+        if p.name != "README.md":
+            assert f"- `{p.name}` — " in readme, p.name

@@ -5,7 +5,7 @@ rest of torqlog measures (energy swing, speed fluctuation, cycle period):
 
 ``press``
     "Press 4, line B": a mechanical press, 45 strokes/min, with a die-force pulse over
-    the last 70 degrees before bottom dead centre, driven by a 22 kW induction motor
+    the last 75 degrees before bottom dead centre, driven by a 22 kW induction motor
     through a 32:1 reduction. The logged torque is the load torque at the crank.
 ``compressor``
     "Compressor K2": a two-stage reciprocating air compressor (LP and HP cylinders,
@@ -691,10 +691,10 @@ class DemoMachine:
 def _press() -> DemoMachine:
     motor = InductionMotor(power=22e3, sync_speed=1500 * _RPM, rated_speed=1440 * _RPM,
                            speed_ratio=32.0, rotor_inertia=0.12)
-    load = PressLoad(friction=700.0, work=18e3, window=math.radians(70.0),
+    load = PressLoad(friction=1500.0, work=10e3, window=math.radians(75.0),
                      crank_radius=0.10, rod_length=0.60)
     return DemoMachine(
-        key="press", name="Press 4, line B", revs_per_cycle=1, speed=45.24 * _RPM,
+        key="press", name="Press 4, line B", revs_per_cycle=1, speed=45.57 * _RPM,
         inertia=310.0, drive=motor, load=load, logged="load", settle=3.0,
         description="mechanical press, 45 strokes/min, 22 kW motor via 32:1 reduction")
 
@@ -874,7 +874,8 @@ class SimulatedLog:
     start : pandas.Timestamp
         Wall-clock time of ``time = 0``.
     options : dict
-        The options that produced the log, plus the gap and spike times made.
+        The options that produced the log, plus ``settle`` [s], ``gap_times`` (per gap,
+        the last sample time before and the first after [s]) and ``spike_times`` [s].
     """
 
     data: pd.DataFrame
