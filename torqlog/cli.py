@@ -349,6 +349,8 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
                        "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
                        "flag"]]
     emit(res.to_dict(), table, fmt, output, text=text)
+
+
 # --- shaft
 def _flywheel_json(path: str) -> tuple[float, float]:
     """Mass [kg] and inertia [kg*m^2] from a flywheel result JSON file."""
@@ -755,3 +757,52 @@ def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quant
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, result.to_pandas() if fmt == "csv" and result.curve is not None else None,
          fmt, output, text=_size_text(data, res.source))
+
+
+# --- simulate
+@cli.command("simulate")
+@click.argument("machine")
+@click.option("-o", "--output", "output", required=True, type=click.Path(dir_okay=False),
+              help="Log file to write (.csv, .txt, .gz for gzip, .parquet for Parquet).")
+@click.option("--duration", type=QuantityType("time", "s"), default="60", show_default=True,
+              help="Length of the log [s].")
+@click.option("--rate", type=QuantityType("frequency", "Hz"), default="1000",
+              show_default=True, help="Sample rate [Hz].")
+@click.option("--channels", default="torque,speed", show_default=True,
+              help="Comma-separated channels: torque, speed, angle, index, counts.")
+@click.option("--dialect", type=click.Choice(["comma", "semicolon", "preamble", "iso"]),
+              default="comma", show_default=True, help="Logger export dialect.")
+@click.option("--seed", type=int, default=0, show_default=True, help="Random seed.")
+@click.option("--no-noise", is_flag=True, help="Leave out the sensor noise.")
+@click.option("--gaps", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Number of ~0.2 s gaps (missing samples).")
+@click.option("--spikes", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Number of one-sample torque spikes.")
+@click.option("--clip", type=QuantityType("torque", "N*m"), default=None,
+              help="Saturate the torque at ± this value [N*m].")
+@click.option("--start", default="2026-03-02T06:00:00", show_default=True,
+              help="Wall-clock time of the first sample (ISO 8601).")
+@click.option("--load-scale", type=float, default=1.0, show_default=True,
+              help="Factor on the working load (to simulate drift).")
+@click.option("--profile-out", type=click.Path(dir_okay=False), default=None,
+              help="Also write the machine profile (TOML) to this file.")
+def simulate_cmd(machine: str, output: str, duration: float, rate: float, channels: str,
+                 dialect: str, seed: int, no_noise: bool, gaps: int, spikes: int,
+                 clip: float | None, start: str, load_scale: float,
+                 profile_out: str | None) -> None:
+    """Write a synthetic log of a demo MACHINE (press, compressor, engine) of the
+    invented Brindlemoor Works plant."""
+    from torqlog.simulate import demo_profile, get_machine, simulate, write_log
+
+    log = simulate(get_machine(machine), duration=duration, rate=rate, channels=channels,
+                   seed=seed, noise=not no_noise, gaps=gaps, spikes=spikes, clip=clip,
+                   start=start, load_scale=load_scale)
+    write_log(log, output, dialect=dialect)
+    info = log.to_dict()
+    line = (f"wrote {output}: {info['name']} ({info['machine']}), {info['rows']} rows, "
+            f"{info['duration_s']:g} s at {info['rate_Hz']:g} Hz, "
+            f"channels {','.join(info['channels'])}")
+    if profile_out:
+        Path(profile_out).write_text(demo_profile(log.machine), encoding="utf-8")
+        line += f"; profile {profile_out}"
+    click.echo(line)
