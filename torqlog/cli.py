@@ -221,9 +221,9 @@ def cycle_options(f: Callable) -> Callable:
         click.option("--speed-cutoff-orders", type=click.FloatRange(min=0), default=20.0,
                      show_default=True,
                      help="Zero-phase low-pass of speed before Cs, in cycle orders (0: off)."),
-        click.option("--torque-role", type=click.Choice(["load", "drive"]), default="load",
-                     show_default=True, help="Logged torque loads the shaft, or drives it "
-                                             "(an engine's crank torque)."),
+        click.option("--torque-role", type=click.Choice(["load", "drive"]), default=None,
+                     help="Logged torque loads the shaft, or drives it (an engine's crank "
+                          "torque).  [default: load, or the profile]"),
         click.option("--cs-mean", type=click.Choice(["cycle", "midrange"]), default="cycle",
                      show_default=True, help="Mean speed in Cs: cycle mean, or (max+min)/2."),
         click.option("--no-despike", is_flag=True, help="Keep one-sample spikes as they are."),
@@ -256,7 +256,7 @@ def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
         pulses_per_rev=kw.pop("pulses_per_rev", 360.0),
         inertia=inertia,
         speed_cutoff_orders=kw.pop("speed_cutoff_orders", 20.0),
-        torque_role=kw.pop("torque_role", "load"),
+        torque_role=kw.pop("torque_role", None) or machine.get("torque_role", "load"),
         cs_mean=kw.pop("cs_mean", "cycle"),
         despike=not kw.pop("no_despike", False),
     )

@@ -245,7 +245,9 @@ def _check_grid(angle: np.ndarray, load_torque: np.ndarray,
     period = 2.0 * math.pi * revs_per_cycle
     step = np.diff(a)
     h = period / a.size
-    if np.any(np.abs(step - h) > 1e-6 * h) or a[0] < -1e-9 or a[-1] >= period - 0.5 * h:
+    # any uniform grid of one cycle: first point in [0, h) (bin starts or bin centres)
+    if np.any(np.abs(step - h) > 1e-6 * h) or a[0] < -1e-9 or a[0] > h * (1 + 1e-9) \
+            or a[-1] >= period:
         raise DataError(f"the mean-cycle angle must be a uniform grid over one cycle "
                         f"(0 ≤ angle < {period:.6g} rad for revs_per_cycle={revs_per_cycle}, "
                         f"end point excluded)")

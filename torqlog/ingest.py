@@ -213,8 +213,9 @@ class Record:
 
 
 # ----------------------------------------------------------------------------- sniffing
-def _read_head(path: Path) -> tuple[str, str]:
-    """First bytes of the file as text, and the encoding to read it with."""
+def _read_head(path: Path) -> tuple[str, str, bool]:
+    """First bytes of the file as text, the encoding to read it with, and whether the
+    text was cut short (the file is longer than the sniff window)."""
     if not path.exists():
         raise DataError(f"{path}: file does not exist; check the path")
     if path.is_dir():
@@ -246,7 +247,7 @@ def _read_head(path: Path) -> tuple[str, str]:
     if bad > 8:
         raise DataError(f"{path}: binary content, not a text export; give a CSV, CSV.gz or "
                         "Parquet file")
-    return text, enc
+    return text, enc, len(raw) >= _SNIFF_BYTES
 
 
 def _split(line: str, delim: str) -> list[str]:
@@ -356,9 +357,9 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
             raise UsageError(f"unknown channel role {k!r}; valid: {', '.join(ROLES)}")
     if p.suffix.lower() in (".parquet", ".pq"):
         return _sniff_parquet(p, roles, units, rate, start)
-    text, enc = _read_head(p)
+    text, enc, cut = _read_head(p)
     lines = text.splitlines()
-    if len(text) >= _SNIFF_BYTES and len(lines) > 1:
+    if cut and len(lines) > 1:
         lines = lines[:-1]  # the last line may be cut by the sniff window
     delim = _choose_delimiter(lines)
     decimal = "."

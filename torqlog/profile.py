@@ -25,6 +25,7 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "inertia_kgm2": ((int, float), 1.0),
         "target_cs": ((int, float), 1.0),
         "flywheel_speed_ratio": ((int, float), 1.0),
+        "torque_role": (str, None),
     },
     "motor": {
         "power_kW": ((int, float), 1e3),
@@ -152,6 +153,10 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
         _check_table(sections["shaft"]["segments"], _SEGMENT_KEYS, "[shaft] segments", source)
     if "masses" in sections.get("shaft", {}):
         _check_table(sections["shaft"]["masses"], _MASS_KEYS, "[shaft] masses", source)
+    role = sections.get("machine", {}).get("torque_role")
+    if role is not None and role not in ("load", "drive"):
+        raise DataError(f"{source}: [machine] torque_role must be \"load\" or \"drive\", "
+                        f"got {role!r}")
     rpc = sections.get("machine", {}).get("revs_per_cycle")
     if rpc is not None and rpc < 1:
         raise DataError(f"{source}: [machine] revs_per_cycle must be 1 or more, got {rpc}")

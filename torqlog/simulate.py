@@ -1305,6 +1305,8 @@ def demo_profile(machine: DemoMachine | str) -> str:
         f"inertia_kgm2 = {_num(m.inertia)}        # referred to the logged shaft",
         f"target_cs = {parts['target_cs']}",
         f"flywheel_speed_ratio = {parts['flywheel_speed_ratio']}",
+        f'torque_role = "{"load" if m.motor is not None else "drive"}"'
+        + ("          # the log holds the engine's crank torque" if m.motor is None else ""),
         "",
     ]
     motor = m.motor
@@ -1315,7 +1317,6 @@ def demo_profile(machine: DemoMachine | str) -> str:
             f"sync_rpm = {_num(motor.sync_speed / _RPM)}",
             f"rated_rpm = {_num(motor.rated_speed / _RPM)}",
             f"speed_ratio = {_num(motor.speed_ratio)}",
-            f"rotor_inertia_kgm2 = {_num(motor.rotor_inertia)}",
             "",
         ]
     names = ", ".join(f'"{n}"' for n in parts["torsional_names"])
