@@ -209,7 +209,9 @@ def test_check_shaft_before_after_contract():
     prof = parse_profile(_PROFILE, "press.toml")
     res = check_shaft(prof, add_mass=600.0, add_inertia=150.0)
     d = res.to_dict()
-    assert set(d) == {"before", "after", "lateral", "torsional", "cautions", "options"}
+    assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed_checks",
+                      "cautions", "options"}
+    assert (d["verdict"], d["failed_checks"]) == ("pass", [])
     assert set(d["lateral"]) >= {"rayleigh_hz", "dunkerley_hz", "fe_hz",
                                  "static_deflection_max_mm", "forcing_hz", "ratio",
                                  "required_ratio", "verdict", "margin_text"}
@@ -229,6 +231,32 @@ def test_check_shaft_before_after_contract():
     assert d["torsional"]["rigid_body"] == [True, False, False]
     assert any("qualified, licensed engineer" in c for c in d["cautions"])
     assert check_shaft(prof).to_dict()["after"] is None
+
+
+def test_check_shaft_verdict_names_failed_checks():
+    # 150 rpm with ten assumed orders: highest forcing 10 x 2.5 Hz = 25 Hz. The first lateral
+    # mode of this shaft (about 59 Hz) is then below the 3x required (common practice), while
+    # the torsional modes (78 and 390 Hz) lie far above every order up to 25 Hz.
+    prof = parse_profile(_PROFILE, "press.toml")
+    res = check_shaft(prof, speed=150.0 * 2 * math.pi / 60)
+    assert res.current.lateral.forcing_hz == pytest.approx(25.0, rel=1e-12)
+    assert res.verdict == "fail"
+    assert res.failures == {"lateral": res.current.lateral.margin_text}
+    assert res.failures["lateral"].endswith("(required 3×): fail")
+    d = res.to_dict()
+    assert (d["verdict"], d["failed_checks"]) == ("fail", ["lateral"])
+
+
+def test_check_shaft_revs_per_cycle_gives_half_orders():
+    # a four-stroke cycle of 2 revolutions has half orders of the shaft speed (Ker Wilson,
+    # Practical Solution of Torsional Vibration Problems, vol. 2, from memory)
+    prof = parse_profile(_PROFILE, "press.toml")
+    d = check_shaft(prof, revs_per_cycle=2).to_dict()
+    assert d["options"]["revs_per_cycle"] == 2
+    assert d["torsional"]["orders_checked"] == [k / 2 for k in range(1, 21)]
+    with pytest.raises(UsageError, match=r"^revs per cycle must be a whole number of 1 or "
+                                         r"more, got 0$"):
+        check_shaft(prof, revs_per_cycle=0)
 
 
 def test_check_shaft_errors():

@@ -651,7 +651,8 @@ class ShaftState:
 @dataclass(frozen=True, eq=False)
 class ShaftResult:
     """Shaft check before (and after, when parts are added). ``to_dict()`` is the JSON
-    contract; ``current`` is the after state when there is one, else the before."""
+    contract; ``current`` is the after state when there is one, else the before, and the
+    ``verdict`` is that of the current state."""
 
     before: ShaftState
     after: ShaftState | None
@@ -662,6 +663,19 @@ class ShaftResult:
     @property
     def current(self) -> ShaftState:
         return self.after if self.after is not None else self.before
+
+    @property
+    def failures(self) -> dict[str, str]:
+        """Failed checks of the current state: {"lateral" | "torsional": margin text}."""
+        checks = {"lateral": self.current.lateral, "torsional": self.current.torsional}
+        return {name: res.margin_text for name, res in checks.items()
+                if res is not None and res.verdict == "fail"}
+
+    @property
+    def verdict(self) -> str:
+        """"fail" when a check of the current state fails, else "pass" (a torsional
+        check that could not be made does not fail)."""
+        return "fail" if self.failures else "pass"
 
     def to_pandas(self) -> pd.DataFrame:
         """One row per frequency: ``state``, ``check``, ``estimate``, ``frequency_Hz``."""
@@ -684,6 +698,7 @@ class ShaftResult:
         return {"before": self.before.to_dict(),
                 "after": self.after.to_dict() if self.after else None,
                 "lateral": cur["lateral"], "torsional": cur["torsional"],
+                "verdict": self.verdict, "failed_checks": list(self.failures),
                 "cautions": list(self.cautions), "options": dict(self.options)}
 
 
@@ -692,7 +707,8 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
                 add_inertia: float | None = None, add_inertia_at: str | None = None,
                 required_ratio: float | None = None, band: float | None = None,
                 min_share: float | None = None, self_weight: bool | None = None,
-                material: str | None = None) -> ShaftResult:
+                material: str | None = None, revs_per_cycle: int | None = None
+                ) -> ShaftResult:
     """Check a machine's shaft, lateral and torsional, before and after adding parts.
 
     Parameters
@@ -719,6 +735,9 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         practice), 0.10 (common practice), 0.05 and False.
     material : str, optional
         Overrides ``[shaft] material``.
+    revs_per_cycle : int, optional
+        Shaft revolutions per machine cycle (steps of the assumed orders when no
+        spectrum is given); default the profile's ``[machine] revs_per_cycle``, else 1.
 
     Returns
     -------
@@ -737,7 +756,9 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     band = _pick(band, profile.torsional.get("band"), 0.10)
     min_share = _pick(min_share, profile.torsional.get("min_share"), 0.05)
     self_weight = bool(_pick(self_weight, profile.shaft.get("self_weight"), False))
-    revs = int(profile.machine.get("revs_per_cycle", 1))
+    revs = int(_pick(revs_per_cycle, profile.machine.get("revs_per_cycle"), 1))
+    if revs < 1:
+        raise UsageError(f"revs per cycle must be a whole number of 1 or more, got {revs}")
     at_name = add_inertia_at or "flywheel"
 
     o, _, orders_source = significant_orders(orders, min_share, revs)
