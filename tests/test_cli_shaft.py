@@ -51,7 +51,7 @@ def test_json_contract_and_values(tmp_path):
                "--format", "json")
     assert res.exit_code == 0, res.output
     d = json.loads(res.stdout)
-    assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed_checks",
+    assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed",
                       "cautions", "options"}
     assert d["options"]["speed_rpm"] == pytest.approx(45.0)
     assert d["options"]["add_mass_at_m"] == 1.40
@@ -238,7 +238,7 @@ def test_log_orders_flag_the_torsional_mode_on_order_3(tmp_path):
                        "order_hz": pytest.approx(30.0, rel=1e-6),
                        "share": pytest.approx(200 / rss, rel=1e-3),
                        "detune": pytest.approx(0.03, abs=1e-6)}
-    assert (d["verdict"], d["failed_checks"]) == ("fail", ["torsional"])
+    assert (d["verdict"], d["failed"]) == ("fail", ["torsional"])
     # lateral forcing: the highest significant order, 3 x 10 Hz
     assert d["lateral"]["forcing_hz"] == pytest.approx(30.0, rel=1e-6)
     assert d["log"]["running_speed_from"] == "log mean"
@@ -304,18 +304,17 @@ def test_strict_fails_with_exit_3_naming_the_check(tmp_path):
     res = _run("--profile", p, "--strict")
     assert res.exit_code == 3
     assert res.stdout.startswith("Shaft check: Test rig 2, Brindlemoor Works")
-    assert res.stderr == ("Error: the shaft failed the torsional check: torsional mode 50.3 Hz "
-                          "lies within 0.7 % of order 10 (50.00 Hz); band ±10 %\n")
+    assert res.stderr == ("Error: shaft check failed (torsional): torsional mode 50.3 Hz lies "
+                          "within 0.7 % of order 10 (50.00 Hz); band ±10 %\n")
 
 
 def test_strict_names_both_failed_checks(tmp_path):
     # the thin SIMPLE shaft fails both: first lateral mode near 40 Hz against 10 x 5 Hz
     p = _write(tmp_path, SIMPLE)
     d = json.loads(_run("--profile", p, "--format", "json").stdout)
-    assert d["failed_checks"] == ["lateral", "torsional"]
+    assert d["failed"] == ["lateral", "torsional"]
     res = _run("--profile", p, "--strict", "--format", "json")
     assert res.exit_code == 3
     lat = d["lateral"]["margin_text"].removesuffix(": fail")
     tor = d["torsional"]["margin_text"].removesuffix(": fail")
-    assert res.stderr == (f"Error: the shaft failed the lateral and torsional checks: {lat}; "
-                          f"{tor}\n")
+    assert res.stderr == f"Error: shaft check failed (lateral, torsional): {lat}; {tor}\n"

@@ -209,9 +209,9 @@ def test_check_shaft_before_after_contract():
     prof = parse_profile(_PROFILE, "press.toml")
     res = check_shaft(prof, add_mass=600.0, add_inertia=150.0)
     d = res.to_dict()
-    assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed_checks",
+    assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed",
                       "cautions", "options"}
-    assert (d["verdict"], d["failed_checks"]) == ("pass", [])
+    assert (d["verdict"], d["failed"]) == ("pass", [])
     assert set(d["lateral"]) >= {"rayleigh_hz", "dunkerley_hz", "fe_hz",
                                  "static_deflection_max_mm", "forcing_hz", "ratio",
                                  "required_ratio", "verdict", "margin_text"}
@@ -244,7 +244,7 @@ def test_check_shaft_verdict_names_failed_checks():
     assert res.failures == {"lateral": res.current.lateral.margin_text}
     assert res.failures["lateral"].endswith("(required 3×): fail")
     d = res.to_dict()
-    assert (d["verdict"], d["failed_checks"]) == ("fail", ["lateral"])
+    assert (d["verdict"], d["failed"]) == ("fail", ["lateral"])
 
 
 def test_check_shaft_revs_per_cycle_gives_half_orders():

@@ -439,7 +439,7 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
                              f"{hit['detune'] * 100:+.1f} %)")
     state = "after" if d["after"] is not None else "current"
     lines.append(f"\nVerdict ({state}): {d['verdict']}"
-                 + (f" (failed: {', '.join(d['failed_checks'])})" if d["failed_checks"] else ""))
+                 + (f" (failed: {', '.join(d['failed'])})" if d["failed"] else ""))
     lines.append("\nCautions:")
     lines += [f"  - {c}" for c in d["cautions"]]
     return "\n".join(lines) + "\n"
@@ -552,7 +552,5 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
     emit(data, result.to_pandas(), fmt, output,
          text=_shaft_text(data, profile.machine.get("name", "")))
     if strict and result.failures:
-        checks = " and ".join(result.failures)
         reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
-        raise CheckFailed(f"the shaft failed the {checks} "
-                          f"check{'s' if len(result.failures) > 1 else ''}: {reasons}")
+        raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")

@@ -698,7 +698,7 @@ class ShaftResult:
         return {"before": self.before.to_dict(),
                 "after": self.after.to_dict() if self.after else None,
                 "lateral": cur["lateral"], "torsional": cur["torsional"],
-                "verdict": self.verdict, "failed_checks": list(self.failures),
+                "verdict": self.verdict, "failed": list(self.failures),
                 "cautions": list(self.cautions), "options": dict(self.options)}
 
 
