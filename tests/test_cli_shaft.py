@@ -10,6 +10,7 @@ import json
 import math
 from pathlib import Path
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
 
@@ -50,7 +51,8 @@ def test_json_contract_and_values(tmp_path):
                "--format", "json")
     assert res.exit_code == 0, res.output
     d = json.loads(res.stdout)
-    assert set(d) == {"before", "after", "lateral", "torsional", "cautions", "options"}
+    assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed",
+                      "cautions", "options"}
     assert d["options"]["speed_rpm"] == pytest.approx(45.0)
     assert d["options"]["add_mass_at_m"] == 1.40
     assert d["after"]["lateral"]["fe_hz"][0] < d["before"]["lateral"]["fe_hz"][0]
@@ -177,3 +179,144 @@ def test_unknown_inertia_element():
     assert res.exit_code == 2
     assert res.stderr == ("Error: no element 'rim' in the torsional chain; valid: motor, "
                           "flywheel, crank\n")
+
+
+# ----------------------------------------------------------------- --log
+RIG = """\
+[machine]
+name = "Compressor 3, Brindlemoor Works"
+speed_rpm = 450.0
+
+[shaft]
+bearings_m = [0.0, 1.0]
+segments = [ { length_m = 1.0, diameter_m = 0.1 } ]
+masses = [ { name = "flywheel", mass_kg = 50.0, at_m = 0.5 } ]
+
+[torsional]
+names = ["motor", "flywheel"]
+inertias_kgm2 = [2.0, 2.0]
+stiffness_Nm_per_rad = [STIFFNESS]
+"""
+
+
+def _rig(stiffness):
+    return RIG.replace("STIFFNESS", repr(float(stiffness)))
+
+
+def _write_log(path, rpm=600.0, rate=3600.0, seconds=2.0, torque=True):
+    """A constant-speed log whose torque holds orders 1 and 3 strongly and 7 weakly."""
+    t = np.arange(int(rate * seconds)) / rate
+    theta = 2 * np.pi * rpm / 60 * t
+    cols = {"time_s": t}
+    if torque:
+        cols["torque_Nm"] = (1000 + 300 * np.cos(theta) + 200 * np.cos(3 * theta + 0.4)
+                             + 10 * np.cos(7 * theta))
+    cols["speed_rpm"] = np.full_like(t, rpm)
+    np.savetxt(path, np.column_stack(list(cols.values())), delimiter=",",
+               header=",".join(cols), comments="", fmt="%.6f")
+    return path
+
+
+def test_log_orders_flag_the_torsional_mode_on_order_3(tmp_path):
+    # Two equal discs: f = (1/2 pi) sqrt(k (J1 + J2) / (J1 J2)) (Den Hartog, Mechanical
+    # Vibrations, from memory); k is chosen to put the mode 3 % above order 3 of 600 rpm
+    # (30 Hz). The order shares are the written amplitudes over their root-sum-square
+    # (single-sided DFT amplitudes, Brigham 1988): order 7 (share 0.028) is below 0.05.
+    f_mode = 1.03 * 30.0
+    k = (2 * math.pi * f_mode) ** 2 * (2.0 * 2.0) / (2.0 + 2.0)
+    prof = _write(tmp_path, _rig(k))
+    log = _write_log(tmp_path / "log.csv")
+    png = tmp_path / "shaft.png"
+    res = _run("--profile", prof, "--log", log, "--plot", png, "--format", "json")
+    assert res.exit_code == 0, res.output
+    d = json.loads(res.stdout)
+    rss = math.sqrt(300**2 + 200**2 + 10**2)
+    assert d["options"]["speed_rpm"] == pytest.approx(600.0, rel=1e-6)  # the log's, not 450
+    assert d["options"]["orders_source"] == "spectrum"
+    assert d["torsional"]["orders_checked"] == [1.0, 3.0]
+    near = d["torsional"]["near_orders"]
+    assert len(near) == 1
+    assert near[0] == {"mode_hz": pytest.approx(f_mode, rel=1e-9), "order": 3.0,
+                       "order_hz": pytest.approx(30.0, rel=1e-6),
+                       "share": pytest.approx(200 / rss, rel=1e-3),
+                       "detune": pytest.approx(0.03, abs=1e-6)}
+    assert (d["verdict"], d["failed"]) == ("fail", ["torsional"])
+    # lateral forcing: the highest significant order, 3 x 10 Hz
+    assert d["lateral"]["forcing_hz"] == pytest.approx(30.0, rel=1e-6)
+    assert d["log"]["running_speed_from"] == "log mean"
+    assert d["log"]["orders"]["order"] == [1.0, 3.0]
+    np.testing.assert_allclose(d["log"]["orders"]["amplitude_Nm"], [300.0, 200.0], rtol=1e-3)
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    # --speed-rpm overrides the log's mean speed: at 450 rpm order 3 is 22.5 Hz, and order
+    # 3 no longer lies within 10 % of the mode
+    res = _run("--profile", prof, "--log", log, "--speed-rpm", 450, "--format", "json")
+    assert res.exit_code == 0, res.output
+    d = json.loads(res.stdout)
+    assert d["options"]["speed_rpm"] == pytest.approx(450.0, rel=1e-12)
+    assert d["log"]["running_speed_from"] == "--speed-rpm"
+    assert d["torsional"]["near_orders"] == []
+
+
+def test_log_table_text(tmp_path):
+    prof = _write(tmp_path, _rig(1.0e5))
+    log = _write_log(tmp_path / "log.csv")
+    res = _run("--profile", prof, "--log", log)
+    assert res.exit_code == 0, res.output
+    assert (f"Orders from {log}: mean of 19 clean cycles (cycle source speed, 1 rev/cycle); "
+            f"running speed from log mean; significant orders (share ≥ 0.05): 1 (0.83), "
+            f"3 (0.55)\n") in res.stdout
+
+
+def test_log_without_torque(tmp_path):
+    prof = _write(tmp_path, _rig(1.0e5))
+    log = _write_log(tmp_path / "speed_only.csv", torque=False)
+    res = _run("--profile", prof, "--log", log)
+    assert res.exit_code == 1
+    assert res.stderr == (f"Error: {log}: no torque channel, so no order spectrum of the "
+                          f"torque; name the torque column with --torque COL, or leave out "
+                          f"--log to assume every order significant\n")
+
+
+def test_log_options_need_a_log():
+    res = _run("--profile", PROFILE, "--cycle-source", "speed")
+    assert res.exit_code == 2
+    assert res.stderr == ("Error: --cycle-source only applies with --log: it says how to "
+                          "read a log and find its cycles\n")
+    res = _run("--profile", PROFILE, "--torque", "T", "--no-despike")
+    assert res.exit_code == 2
+    assert res.stderr == ("Error: --torque, --no-despike only apply with --log: they say how "
+                          "to read a log and find its cycles\n")
+
+
+# ----------------------------------------------------------------- --strict
+def test_strict_passes_with_exit_0():
+    res = _run("--profile", PROFILE, "--strict")
+    assert res.exit_code == 0, res.output
+    assert "\nVerdict (current): pass\n" in res.stdout
+
+
+def test_strict_fails_with_exit_3_naming_the_check(tmp_path):
+    # A stiff shaft (d = 0.2 m) keeps the lateral check clear; the two-disc torsional mode
+    # sqrt(1e5) / (2 pi) = 50.33 Hz (Den Hartog, from memory) lies 0.7 % above order 10 of
+    # 300 rpm (50 Hz), within the +-10 % band (common practice).
+    p = _write(tmp_path, SIMPLE.replace("diameter_m = 0.05", "diameter_m = 0.2"))
+    res = _run("--profile", p)
+    assert res.exit_code == 0, res.output
+    assert "\nVerdict (current): fail (failed: torsional)\n" in res.stdout
+    res = _run("--profile", p, "--strict")
+    assert res.exit_code == 3
+    assert res.stdout.startswith("Shaft check: Test rig 2, Brindlemoor Works")
+    assert res.stderr == ("Error: shaft check failed (torsional): torsional mode 50.3 Hz lies "
+                          "within 0.7 % of order 10 (50.00 Hz); band ±10 %\n")
+
+
+def test_strict_names_both_failed_checks(tmp_path):
+    # the thin SIMPLE shaft fails both: first lateral mode near 40 Hz against 10 x 5 Hz
+    p = _write(tmp_path, SIMPLE)
+    d = json.loads(_run("--profile", p, "--format", "json").stdout)
+    assert d["failed"] == ["lateral", "torsional"]
+    res = _run("--profile", p, "--strict", "--format", "json")
+    assert res.exit_code == 3
+    lat = d["lateral"]["margin_text"].removesuffix(": fail")
+    tor = d["torsional"]["margin_text"].removesuffix(": fail")
+    assert res.stderr == f"Error: shaft check failed (lateral, torsional): {lat}; {tor}\n"

@@ -19,7 +19,6 @@ from torqlog.shaft import (
     PointMass,
     ShaftModel,
     ShaftSegment,
-    TorsionalChain,
     check_shaft,
     dunkerley,
     fe_modes,
@@ -27,9 +26,6 @@ from torqlog.shaft import (
     rayleigh,
     shaft_mesh,
     static_deflection,
-    torsional_check,
-    torsional_modes,
-    torsional_stiffness,
 )
 
 E = 207e9
@@ -195,58 +191,6 @@ def test_model_errors():
         ShaftModel([ShaftSegment(1.0, 0.05, 0.05)], [0.0, 1.0], [], E, RHO)
 
 
-# ----------------------------------------------------------------- torsional
-def test_torsional_stiffness_hollow():
-    # Gere & Timoshenko, torsion of circular bars: k = G J / L, J = pi (d^4 - di^4) / 32
-    seg = ShaftSegment(0.8, 0.1, 0.05)
-    assert torsional_stiffness(seg, 80e9) == pytest.approx(
-        80e9 * math.pi * (0.1**4 - 0.05**4) / 32 / 0.8, rel=1e-12)
-
-
-def test_two_inertia_chain():
-    # Den Hartog, Mechanical Vibrations (two discs on a shaft), from memory:
-    # f = (1/2 pi) sqrt(k (J1 + J2) / (J1 J2)); the other mode is the rigid body at 0 Hz.
-    j1, j2, k = 0.35, 310.0, 2.1e6
-    modes = torsional_modes(TorsionalChain(("motor", "flywheel"), (j1, j2), (k,)))
-    assert modes.freqs[0] == 0.0
-    assert modes.rigid_body.tolist() == [True, False]
-    assert modes.freqs[1] == pytest.approx(_hz(k * (j1 + j2) / (j1 * j2)), rel=1e-3)
-    # nodal ratio of the elastic mode: J1 theta1 = -J2 theta2
-    s = modes.shapes[1]
-    assert j1 * s[0] == pytest.approx(-j2 * s[1], rel=1e-9)
-
-
-def test_three_inertia_chain_against_scipy_eigvals():
-    # Independent solver: eigenvalues of the dynamic matrix J^-1 K (scipy.linalg.eigvals).
-    j = np.array([0.35, 310.0, 40.0])
-    k = np.array([2.1e6, 8.5e6])
-    K = np.array([[k[0], -k[0], 0.0], [-k[0], k[0] + k[1], -k[1]], [0.0, -k[1], k[1]]])
-    w2 = np.sort(scipy.linalg.eigvals(np.diag(1 / j) @ K).real)
-    expected = np.sqrt(np.clip(w2, 0, None)) / (2 * np.pi)
-    modes = torsional_modes(TorsionalChain(("motor", "flywheel", "crank"), j, k))
-    assert modes.freqs[0] == 0.0
-    np.testing.assert_allclose(modes.freqs[1:], expected[1:], rtol=1e-9)
-    assert modes.shapes.shape == (3, 3)
-
-
-def test_torsional_check_flags_mode_near_significant_order():
-    j1, j2, k = 2.0, 2.0, 1.0e5
-    chain = TorsionalChain(("a", "b"), (j1, j2), (k,))
-    f = _hz(k * (j1 + j2) / (j1 * j2))  # Den Hartog two-disc formula
-    speed = 2 * math.pi * f / 4.0 * 1.05  # order 4 lies 5 % above the mode
-    res = torsional_check(chain, {4.0: 0.3, 2.0: 0.01}, speed, band=0.10, min_share=0.05)
-    d = res.to_dict()
-    assert d["verdict"] == "fail"
-    assert len(d["near_orders"]) == 1
-    hit = d["near_orders"][0]
-    assert hit["order"] == 4.0 and hit["share"] == 0.3
-    assert hit["detune"] == pytest.approx(1 / 1.05 - 1, rel=1e-9)
-    # the same order with a share below min_share is not significant
-    assert torsional_check(chain, {4.0: 0.01}, speed).verdict == "pass"
-    assert torsional_check(chain, [4.0], speed, band=0.04).verdict == "pass"
-    assert torsional_check(chain).verdict == "not checked"  # no speed: modes only
-
-
 # ----------------------------------------------------------------- the check
 _PROFILE = {
     "machine": {"speed_rpm": 45.0},
@@ -265,7 +209,9 @@ def test_check_shaft_before_after_contract():
     prof = parse_profile(_PROFILE, "press.toml")
     res = check_shaft(prof, add_mass=600.0, add_inertia=150.0)
     d = res.to_dict()
-    assert set(d) == {"before", "after", "lateral", "torsional", "cautions", "options"}
+    assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed",
+                      "cautions", "options"}
+    assert (d["verdict"], d["failed"]) == ("pass", [])
     assert set(d["lateral"]) >= {"rayleigh_hz", "dunkerley_hz", "fe_hz",
                                  "static_deflection_max_mm", "forcing_hz", "ratio",
                                  "required_ratio", "verdict", "margin_text"}
@@ -285,6 +231,32 @@ def test_check_shaft_before_after_contract():
     assert d["torsional"]["rigid_body"] == [True, False, False]
     assert any("qualified, licensed engineer" in c for c in d["cautions"])
     assert check_shaft(prof).to_dict()["after"] is None
+
+
+def test_check_shaft_verdict_names_failed_checks():
+    # 150 rpm with ten assumed orders: highest forcing 10 x 2.5 Hz = 25 Hz. The first lateral
+    # mode of this shaft (about 59 Hz) is then below the 3x required (common practice), while
+    # the torsional modes (78 and 390 Hz) lie far above every order up to 25 Hz.
+    prof = parse_profile(_PROFILE, "press.toml")
+    res = check_shaft(prof, speed=150.0 * 2 * math.pi / 60)
+    assert res.current.lateral.forcing_hz == pytest.approx(25.0, rel=1e-12)
+    assert res.verdict == "fail"
+    assert res.failures == {"lateral": res.current.lateral.margin_text}
+    assert res.failures["lateral"].endswith("(required 3×): fail")
+    d = res.to_dict()
+    assert (d["verdict"], d["failed"]) == ("fail", ["lateral"])
+
+
+def test_check_shaft_revs_per_cycle_gives_half_orders():
+    # a four-stroke cycle of 2 revolutions has half orders of the shaft speed (Ker Wilson,
+    # Practical Solution of Torsional Vibration Problems, vol. 2, from memory)
+    prof = parse_profile(_PROFILE, "press.toml")
+    d = check_shaft(prof, revs_per_cycle=2).to_dict()
+    assert d["options"]["revs_per_cycle"] == 2
+    assert d["torsional"]["orders_checked"] == [k / 2 for k in range(1, 21)]
+    with pytest.raises(UsageError, match=r"^revs per cycle must be a whole number of 1 or "
+                                         r"more, got 0$"):
+        check_shaft(prof, revs_per_cycle=0)
 
 
 def test_check_shaft_errors():

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from torqlog.errors import DataError
-from torqlog.spectrum import order_spectrum
+from torqlog.spectrum import mean_cycle_spectrum, order_spectrum
 
 
 def _synth(orders_amps, revs_per_cycle, n=720, mean=1500.0, phase_seed=1):
@@ -85,3 +85,42 @@ def test_bad_input_messages():
         order_spectrum(np.ones(10), n_cycles=3)
     with pytest.raises(DataError, match="^torque contains NaN or infinite values"):
         order_spectrum(np.array([1.0, np.nan, 2.0, 3.0]))
+
+
+def _engine_log(path, rpm=1200.0, rate=7200.0, seconds=1.5, torque=True):
+    """Constant-speed log of a four-stroke-like torque: orders 0.5, 1.5 and 2."""
+    t = np.arange(int(rate * seconds)) / rate
+    theta = 2 * np.pi * rpm / 60 * t  # shaft angle [rad]
+    cols = {"time_s": t}
+    if torque:
+        cols["torque_Nm"] = (400 + 220 * np.cos(0.5 * theta) + 400 * np.cos(1.5 * theta + 1.0)
+                             + 150 * np.cos(2 * theta))
+    cols["speed_rpm"] = np.full_like(t, rpm)
+    np.savetxt(path, np.column_stack(list(cols.values())), delimiter=",",
+               header=",".join(cols), comments="", fmt="%.6f")
+    return path
+
+
+def test_mean_cycle_spectrum_of_a_log_recovers_half_orders(tmp_path):
+    from torqlog.cycles import CycleOptions, analyse_cycles
+
+    cycles = analyse_cycles(_engine_log(tmp_path / "engine.csv"), CycleOptions(revs_per_cycle=2))
+    spec = mean_cycle_spectrum(cycles, max_order=4)
+    assert spec.revs_per_cycle == 2
+    assert spec.order.tolist() == [k / 2 for k in range(1, 9)]
+    for order, amp in {0.5: 220.0, 1.5: 400.0, 2.0: 150.0}.items():
+        assert _amp(spec, order) == pytest.approx(amp, rel=0.01)
+    assert _amp(spec, 1.0) == pytest.approx(0.0, abs=1.0)
+    assert spec.mean == pytest.approx(400.0, rel=0.01)
+
+
+def test_mean_cycle_spectrum_needs_torque(tmp_path):
+    from torqlog.cycles import CycleOptions, analyse_cycles
+
+    log = _engine_log(tmp_path / "speed_only.csv", torque=False)
+    cycles = analyse_cycles(log, CycleOptions(revs_per_cycle=2))
+    with pytest.raises(DataError) as err:
+        mean_cycle_spectrum(cycles)
+    assert str(err.value) == (f"{log}: no torque channel, so no order spectrum of the torque; "
+                              f"name the torque column with --torque COL, or leave out --log "
+                              f"to assume every order significant")

@@ -18,6 +18,7 @@ from typing import Any
 import click
 import numpy as np
 import pandas as pd
+from click.core import ParameterSource
 
 from torqlog import __version__
 from torqlog.errors import TorqlogError
@@ -201,11 +202,18 @@ def read_kwargs(kw: dict[str, Any]) -> dict[str, Any]:
     }
 
 
-def cycle_options(f: Callable) -> Callable:
-    """Options of the cycle stage (shared by cycles, size, shaft, trend, report)."""
+_NOMINAL_SPEED_HELP = "Nominal shaft speed [rpm] (cycle source 'nominal')."
+
+
+def _profile_option() -> Callable:
+    return click.option("--profile", type=click.Path(dir_okay=False), default=None,
+                        help="Machine profile (TOML); options given here override it.")
+
+
+def _cycle_stage(leading: list[Callable], speed_help: str) -> Callable[[Callable], Callable]:
+    """Decorator: ``leading`` options, the cycle-stage options, then the log options."""
     opts = [
-        click.option("--profile", type=click.Path(dir_okay=False), default=None,
-                     help="Machine profile (TOML); options given here override it."),
+        *leading,
         click.option("--revs-per-cycle", type=click.IntRange(min=1), default=None,
                      help="Shaft revolutions per machine cycle (2 for a four-stroke engine)."
                           "  [default: 1, or the profile]"),
@@ -213,7 +221,7 @@ def cycle_options(f: Callable) -> Callable:
             ["angle", "index", "counts", "speed", "nominal", "period"]), default=None,
             help="Force how cycles are found (default: best the log allows)."),
         click.option("--speed-rpm", type=QuantityType("speed", "rpm"), default=None,
-                     help="Nominal shaft speed [rpm] (cycle source 'nominal')."),
+                     help=speed_help),
         click.option("--pulses-per-rev", type=float, default=360.0, show_default=True,
                      help="Encoder counts per revolution."),
         click.option("--inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
@@ -228,9 +236,27 @@ def cycle_options(f: Callable) -> Callable:
                      show_default=True, help="Mean speed in Cs: cycle mean, or (max+min)/2."),
         click.option("--no-despike", is_flag=True, help="Keep one-sample spikes as they are."),
     ]
-    for o in reversed(opts):
-        f = o(f)
-    return log_options(f)
+
+    def decorate(f: Callable) -> Callable:
+        for o in reversed(opts):
+            f = o(f)
+        return log_options(f)
+
+    return decorate
+
+
+def cycle_options(f: Callable) -> Callable:
+    """Options of the cycle stage (shared by cycles, size, shaft, trend, report)."""
+    return _cycle_stage([_profile_option()], _NOMINAL_SPEED_HELP)(f)
+
+
+def cycle_stage_options(speed_help: str = _NOMINAL_SPEED_HELP) -> Callable[[Callable], Callable]:
+    """Decorator adding the log options and the cycle-stage options, except ``--profile``.
+
+    For commands that declare their own ``--profile``; ``speed_help`` is the help text of
+    ``--speed-rpm``, whose meaning such a command may widen.
+    """
+    return _cycle_stage([], speed_help)
 
 
 def load_profile_opt(path: str | None) -> Any:
@@ -375,6 +401,16 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
     lines = [f"Shaft check{': ' + name if name else ''}  (running speed "
              f"{o['speed_rpm']:.1f} rpm = {o['speed_hz']:.3f} Hz; forcing up to order "
              f"{o['forcing_order']:g}, orders {o['orders_source']})"]
+    log = d.get("log")
+    if log is not None:
+        orders = log["orders"]
+        lines.append(
+            f"Orders from {log['source']}: mean of {log['cycles']} clean cycles (cycle source "
+            f"{log['cycle_source']}, {log['revs_per_cycle']} rev/cycle); running speed from "
+            f"{log['running_speed_from']}; significant orders (share ≥ {o['min_share']:g}): "
+            + (", ".join(f"{k:g} ({v:.2f})" for k, v in zip(orders["order"], orders["share"],
+                                                           strict=True)) or "none"))
+        lines += [f"note: {n}" for n in log["notes"]]
     for label in ("before", "after"):
         st = d[label]
         if st is None:
@@ -404,16 +440,38 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
                 lines.append(f"    ! mode {hit['mode_hz']:.1f} Hz near order {hit['order']:g} "
                              f"({hit['order_hz']:.2f} Hz, share {share}, detune "
                              f"{hit['detune'] * 100:+.1f} %)")
+    state = "after" if d["after"] is not None else "current"
+    lines.append(f"\nVerdict ({state}): {d['verdict']}"
+                 + (f" (failed: {', '.join(d['failed'])})" if d["failed"] else ""))
     lines.append("\nCautions:")
     lines += [f"  - {c}" for c in d["cautions"]]
     return "\n".join(lines) + "\n"
 
 
+_SHAFT_SPEED_HELP = ("Running shaft speed [rpm] (default: the log's mean speed with --log, "
+                     "else [machine] speed_rpm of the profile); with --log also the nominal "
+                     "speed for cycle source 'nominal'.")
+
+#: Options that say how to read a log or find its cycles: meaningless without --log.
+_LOG_ONLY = ("cycle_source", "pulses_per_rev", "inertia", "speed_cutoff_orders",
+             "torque_role", "cs_mean", "no_despike", "rate", "start",
+             *(f"{r}_col" for r in _ROLE_OPTS), *(f"{r}_unit" for r in _UNIT_OPTS))
+
+
+def _given_log_only(ctx: click.Context) -> list[str]:
+    """The log-reading options given on the command line (or environment)."""
+    return [p.opts[0] for p in ctx.command.params if p.name in _LOG_ONLY
+            and ctx.get_parameter_source(p.name) not in (None, ParameterSource.DEFAULT)]
+
+
 @cli.command("shaft")
 @click.option("--profile", "profile_path", required=True,
               type=click.Path(exists=True, dir_okay=False), help="Machine profile (TOML).")
-@click.option("--speed-rpm", "speed", type=QuantityType("speed", "rpm"), default=None,
-              help="Shaft speed (default: [machine] speed_rpm of the profile).")
+@click.option("--log", type=click.Path(dir_okay=True), default=None,
+              help="Torque log: the orders of its mean cycle torque are held against the "
+                   "torsional modes and set the lateral forcing; its mean speed is the "
+                   "running speed.")
+@cycle_stage_options(_SHAFT_SPEED_HELP)
 @click.option("--add-mass", type=QuantityType("mass", "kg"), default=None,
               help="Mass added to the shaft, e.g. a new flywheel.")
 @click.option("--at", "add_mass_at", type=QuantityType("length", "m"), default=None,
@@ -433,37 +491,72 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
               help="Smallest share of the dynamic torque that counts [default: 0.05].")
 @click.option("--self-weight", is_flag=True, default=None,
               help="Include the shaft's own weight in Rayleigh, Dunkerley and deflection.")
+@click.option("--strict", is_flag=True,
+              help="Exit with code 3 when a check fails (the result is still written).")
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
-              help="Write a PNG figure.")
+              help="Write a PNG figure (with --log, also the order spectrum).")
 @output_options
-def shaft_cmd(profile_path: str, speed: float | None, add_mass: float | None,
+@click.pass_context
+def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: float | None,
               add_mass_at: float | None, add_inertia: float | None, add_inertia_at: str | None,
               flywheel_file: str | None, required_ratio: float | None, band: float | None,
-              min_share: float | None, self_weight: bool | None, plot_path: str | None,
-              fmt: str, output: str | None) -> None:
+              min_share: float | None, self_weight: bool | None, strict: bool,
+              plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
     """Shaft natural frequencies, lateral and torsional, against the running speed."""
-    from torqlog.errors import UsageError
+    from torqlog.errors import CheckFailed, UsageError
     from torqlog.profile import load_profile
     from torqlog.shaft import check_shaft
+    from torqlog.spectrum import mean_cycle_spectrum
+    from torqlog.units import si_factor
 
     if flywheel_file is not None:
         if add_mass is not None or add_inertia is not None:
             raise UsageError("give either --from-flywheel or --add-mass/--add-inertia, "
                              "not both")
         add_mass, add_inertia = _flywheel_json(flywheel_file)
-    profile = load_profile(profile_path)
-    result = check_shaft(profile, speed=speed, add_mass=add_mass, add_mass_at=add_mass_at,
-                         add_inertia=add_inertia, add_inertia_at=add_inertia_at,
-                         required_ratio=required_ratio, band=band, min_share=min_share,
-                         self_weight=self_weight or None)
+    speed, revs = kw["speed_rpm"], kw["revs_per_cycle"]
+    spectrum, log_info = None, None
+    if log is None:
+        given = _given_log_only(ctx)
+        if given:
+            raise UsageError(f"{', '.join(given)} only "
+                             f"{'applies' if len(given) == 1 else 'apply'} with --log: "
+                             f"{'it says' if len(given) == 1 else 'they say'} how to read a "
+                             f"log and find its cycles")
+        profile = load_profile(profile_path)
+    else:
+        cycles, profile = run_cycles(log, {**kw, "profile": profile_path})
+        spectrum = mean_cycle_spectrum(cycles)
+        revs = cycles.options["revs_per_cycle"]
+        mean_rpm = cycles.summary["speed_mean_rpm"]
+        speed_from = "--speed-rpm" if speed is not None else "log mean"
+        if speed is None and mean_rpm is not None:
+            speed = mean_rpm * si_factor("rpm", "speed")
+        elif speed is None:
+            speed_from = "profile"
+        log_info = {"source": cycles.source, "cycles": cycles.summary["cycles"],
+                    "cycle_source": cycles.options["cycle_source"], "revs_per_cycle": revs,
+                    "speed_mean_rpm": mean_rpm, "running_speed_from": speed_from,
+                    "notes": list(cycles.notes)}
+    result = check_shaft(profile, speed=speed, orders=spectrum, add_mass=add_mass,
+                         add_mass_at=add_mass_at, add_inertia=add_inertia,
+                         add_inertia_at=add_inertia_at, required_ratio=required_ratio,
+                         band=band, min_share=min_share, self_weight=self_weight or None,
+                         revs_per_cycle=revs)
     data = result.to_dict()
+    if log_info is not None:
+        log_info["orders"] = spectrum.significant(data["options"]["min_share"]).to_dict()
+        data["log"] = log_info
     if plot_path:
         from torqlog.plots import plot_shaft
 
-        plot_shaft(result, plot_path)
+        plot_shaft(result, plot_path, spectrum=spectrum)
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, result.to_pandas(), fmt, output,
          text=_shaft_text(data, profile.machine.get("name", "")))
+    if strict and result.failures:
+        reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
+        raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")
 
 
 # --- flywheel

@@ -196,37 +196,38 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
         tor = result.current.torsional
         min_share = tor.min_share if tor is not None else 0.05
         sig = spectrum.share >= min_share
-        ax.vlines(freq, 0, spectrum.amplitude, color=PALETTE["data"], lw=2)
-        ax.plot(freq[sig], spectrum.amplitude[sig], "o", color=PALETTE["data"],
+        # the frequency axis ends past the highest significant order, torsional mode band
+        # and first lateral mode; minor orders beyond it are not drawn
+        elastic = [] if tor is None else [f for f, rigid in zip(tor.modes_hz, tor.rigid_body,
+                                                                  strict=True) if not rigid]
+        hi = freq[sig].max() if sig.any() else (freq.max() if len(freq) else 1.0)
+        hi = max([hi, *(f / (1 - tor.band) for f in elastic), *cur.fe_hz[:1]])
+        shown = freq <= hi * 1.3
+        freq, sig = freq[shown], sig[shown]
+        amplitude, orders = spectrum.amplitude[shown], spectrum.order[shown]
+        ax.vlines(freq, 0, amplitude, color=PALETTE["data"], lw=2)
+        ax.plot(freq[sig], amplitude[sig], "o", color=PALETTE["data"],
                 label=f"order, share ≥ {min_share:g}")
-        ax.plot(freq[~sig], spectrum.amplitude[~sig], "o", mfc="white",
+        ax.plot(freq[~sig], amplitude[~sig], "o", mfc="white",
                 color=PALETTE["data"], label="order, minor")
-        top = spectrum.amplitude.max() if len(spectrum.amplitude) else 1.0
-        for o, f, a in zip(spectrum.order[sig][:8], freq[sig][:8], spectrum.amplitude[sig][:8],
-                           strict=True):
+        top = amplitude.max() if len(amplitude) else 1.0
+        for o, f, a in zip(orders[sig][:8], freq[sig][:8], amplitude[sig][:8], strict=True):
             ax.annotate(f"{o:g}×", (f, a), textcoords="offset points", xytext=(0, 4),
                         ha="center", fontsize=8)
-        hi = freq.max() if len(freq) else 1.0
-        if tor is not None:
-            first = True
-            for f, rigid in zip(tor.modes_hz, tor.rigid_body, strict=True):
-                if rigid:
-                    continue
-                ax.axvspan(f / (1 + tor.band), f / (1 - tor.band), color=PALETTE["band"],
-                           alpha=0.5, lw=0,
-                           label=f"±{tor.band * 100:g} % band" if first else None)
-                ax.axvline(f, color=PALETTE["limit"], lw=1.5,
-                           label="torsional mode" if first else None)
-                ax.annotate(f"{f:.1f} Hz", (f, top * 0.7), textcoords="offset points",
-                            xytext=(3, 0), fontsize=8, color=PALETTE["limit"])
-                first = False
-                hi = max(hi, f / (1 - tor.band))
+        for i, f in enumerate(elastic):
+            ax.axvspan(f / (1 + tor.band), f / (1 - tor.band), color=PALETTE["band"],
+                       alpha=0.5, lw=0, label=f"±{tor.band * 100:g} % band" if i == 0 else None)
+            ax.axvline(f, color=PALETTE["limit"], lw=1.5,
+                       label="torsional mode" if i == 0 else None)
+            ax.annotate(f"{f:.1f} Hz", (f, top * 0.05), textcoords="offset points",
+                        xytext=(3, 0), fontsize=8, rotation=90, va="bottom",
+                        color=PALETTE["limit"])
         ax.axvline(cur.fe_hz[0] if cur.fe_hz else np.nan, color=PALETTE["mean"], ls="--",
                    lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz"
                    if cur.fe_hz else None)
         ax.set_xscale("log")
         lo = freq.min() if len(freq) else 0.1
-        ax.set_xlim(lo * 0.8, max(hi, cur.fe_hz[0] if cur.fe_hz else hi) * 1.3)
+        ax.set_xlim(lo * 0.8, hi * 1.3)
         ax.set_ylim(0, top * 1.6)
         ax.set_title(f"Torque orders at {speed_hz * 60:.0f} rpm vs torsional modes")
         ax.set_xlabel("frequency [Hz] (order × running speed)")

@@ -1,5 +1,6 @@
-"""Shaft natural frequencies: lateral (Rayleigh, Dunkerley, beam finite elements) and
-torsional (lumped inertia chain), held against the running speed and its orders.
+"""Shaft lateral natural frequencies (Rayleigh, Dunkerley, beam finite elements), and the
+shaft check that holds them, with the torsional modes of :mod:`torqlog.torsion`, against
+the running speed and its orders.
 
 Lateral model
 -------------
@@ -11,11 +12,8 @@ mass position. The shaft's own mass enters through the consistent element mass m
 the point masses are lumped at their nodes. Modes are those of the non-rotating shaft:
 gyroscopic stiffening, shear deformation and bearing flexibility are neglected.
 
-Torsional model
----------------
-A free-free chain of rigid inertias joined by torsional springs, as in the profile's
-``[torsional]`` section. Its first mode is the rigid-body rotation at 0 Hz, which is
-reported as such and never as a resonance.
+The torsional chain, its modes and their check against the orders live in
+:mod:`torqlog.torsion`; :func:`check_shaft` combines both for one machine profile.
 
 Every result here is a preliminary engineering estimate; see :data:`CAUTIONS`.
 
@@ -25,12 +23,10 @@ References
 .. [2] W. C. Young and R. G. Budynas, *Roark's Formulas for Stress and Strain*, 7th ed.,
    Table 8.1 (beams: shear, moment and deflection formulas).
 .. [3] W. T. Thomson and M. D. Dahleh, *Theory of Vibration with Applications*, 5th ed.:
-   Rayleigh's method, Dunkerley's equation, torsional systems.
+   Rayleigh's method, Dunkerley's equation.
 .. [4] R. D. Blevins, *Formulas for Natural Frequency and Mode Shape*, Table 8-1.
 .. [5] J. S. Przemieniecki, *Theory of Matrix Structural Analysis*, 1968: beam element
    stiffness and consistent mass matrices.
-.. [6] J. P. Den Hartog, *Mechanical Vibrations*, 4th ed., torsional vibration of
-   multi-disc shafts.
 """
 
 from __future__ import annotations
@@ -47,6 +43,14 @@ import scipy.linalg
 
 from torqlog.errors import DataError, UsageError
 from torqlog.profile import MachineProfile
+from torqlog.torsion import (
+    ASSUMED_MAX_ORDER,
+    TorsionalChain,
+    TorsionalResult,
+    significant_orders,
+    torsional_chain_from_profile,
+    torsional_check,
+)
 
 #: Standard acceleration of gravity [m/s^2] (CGPM 1901; NIST SP 811).
 GRAVITY = 9.80665
@@ -54,10 +58,6 @@ GRAVITY = 9.80665
 #: Carbon steel (E [Pa], rho [kg/m^3], nu [-]), used only when ``torqlog.materials`` is
 #: not available. Typical handbook values for carbon steel, quoted from memory.
 _STEEL = (207e9, 7850.0, 0.3)
-
-#: Orders assumed significant when no spectrum is given: k / revs_per_cycle up to this
-#: order of the shaft speed. A stated default of this program, not a standard.
-ASSUMED_MAX_ORDER = 10.0
 
 #: Cautions carried by every shaft result.
 CAUTIONS: tuple[str, ...] = (
@@ -635,251 +635,6 @@ def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
                          float(required_ratio), verdict, text, method, model, x, y, shapes)
 
 
-# --------------------------------------------------------------------------- torsional
-def torsional_stiffness(segment: ShaftSegment, shear_modulus: float) -> float:
-    """Torsional stiffness k = G J / L of a shaft segment [N*m/rad].
-
-    Parameters
-    ----------
-    segment : ShaftSegment
-    shear_modulus : float [Pa]
-
-    References
-    ----------
-    Gere and Timoshenko, *Mechanics of Materials*, torsion of circular bars
-    (J = pi (d^4 - d_i^4) / 32).
-    """
-    return shear_modulus * segment.polar_moment / segment.length
-
-
-@dataclass(frozen=True)
-class TorsionalChain:
-    """Free-free chain of inertias joined by torsional springs.
-
-    Attributes
-    ----------
-    names : tuple of str
-    inertias : tuple of float [kg*m^2]
-        Referred to the logged shaft.
-    stiffnesses : tuple of float [N*m/rad]
-        Between neighbours (one fewer than inertias).
-    """
-
-    names: tuple[str, ...]
-    inertias: tuple[float, ...]
-    stiffnesses: tuple[float, ...]
-
-    def __post_init__(self) -> None:
-        for name in ("names", "inertias", "stiffnesses"):
-            object.__setattr__(self, name, tuple(getattr(self, name)))
-        n = len(self.inertias)
-        if n < 1 or len(self.names) != n:
-            raise DataError(f"torsional chain needs one name per inertia "
-                            f"({len(self.names)} names, {n} inertias)")
-        if len(self.stiffnesses) != n - 1:
-            raise DataError(f"torsional chain of {n} inertias needs {n - 1} stiffnesses, "
-                            f"got {len(self.stiffnesses)}")
-        if not all(v > 0 for v in (*self.inertias, *self.stiffnesses)):
-            raise DataError("torsional chain inertias and stiffnesses must be positive")
-
-    def add_inertia(self, inertia: float, at: str) -> TorsionalChain:
-        """A copy with ``inertia`` [kg*m^2] added to the element named ``at``."""
-        if at not in self.names:
-            raise UsageError(f"no element {at!r} in the torsional chain; valid: "
-                             f"{', '.join(self.names)}")
-        i = self.names.index(at)
-        new = list(self.inertias)
-        new[i] += inertia
-        return dataclasses.replace(self, inertias=tuple(new))
-
-
-def torsional_chain_from_profile(profile: MachineProfile) -> TorsionalChain | None:
-    """The profile's ``[torsional]`` chain, or None when the section is absent."""
-    sec = profile.torsional
-    if not sec or "inertias_kgm2" not in sec:
-        return None
-    src = profile.source or "<profile>"
-    inertias = sec["inertias_kgm2"]
-    names = sec.get("names", [f"J{i + 1}" for i in range(len(inertias))])
-    stiff = sec.get("stiffness_Nm_per_rad", [])
-    for key, values in (("inertias_kgm2", inertias), ("stiffness_Nm_per_rad", stiff)):
-        if any(isinstance(v, bool) or not isinstance(v, int | float) for v in values):
-            raise DataError(f"{src}: [torsional] {key} must be a list of numbers")
-    try:
-        return TorsionalChain(tuple(str(n) for n in names), tuple(map(float, inertias)),
-                              tuple(map(float, stiff)))
-    except DataError as exc:
-        raise DataError(f"{src}: [torsional] {exc}") from None
-
-
-class TorsionalModes(NamedTuple):
-    """Torsional modes: ``freqs`` [Hz] ascending, ``shapes`` (n_modes, n_inertias)."""
-
-    freqs: np.ndarray
-    shapes: np.ndarray
-
-    @property
-    def rigid_body(self) -> np.ndarray:
-        """True for the rigid-body rotation (frequency exactly 0), not a resonance."""
-        return self.freqs == 0.0
-
-
-def torsional_modes(chain: TorsionalChain) -> TorsionalModes:
-    """Natural frequencies and mode shapes of a free-free torsional chain.
-
-    Solves K phi = omega^2 J phi with ``scipy.linalg.eigh(K, J)``, K the tridiagonal
-    spring matrix and J the diagonal inertia matrix. The rigid-body mode (omega^2 within
-    1e-9 of the largest) is set to exactly 0 Hz.
-
-    Returns
-    -------
-    TorsionalModes
-        ``freqs`` [Hz], ``shapes`` scaled to a peak of +1, ``rigid_body`` flags.
-
-    References
-    ----------
-    Den Hartog, *Mechanical Vibrations*; Thomson and Dahleh, torsional systems.
-    """
-    n = len(chain.inertias)
-    k = np.asarray(chain.stiffnesses, float)
-    K = np.zeros((n, n))
-    i = np.arange(n - 1)
-    np.add.at(K, (i, i), k)
-    np.add.at(K, (i + 1, i + 1), k)
-    np.add.at(K, (i, i + 1), -k)
-    np.add.at(K, (i + 1, i), -k)
-    w2, vecs = scipy.linalg.eigh(K, np.diag(chain.inertias))
-    w2 = np.where(w2 <= 1e-9 * max(w2.max(), 0.0), 0.0, w2)
-    shapes = vecs.T
-    peak = shapes[np.arange(n), np.abs(shapes).argmax(axis=1)]
-    shapes = shapes / peak[:, None]
-    shapes[w2 == 0.0] = 1.0
-    return TorsionalModes(np.sqrt(w2) / (2 * math.pi), shapes)
-
-
-def _orders(orders: Any, min_share: float, revs_per_cycle: int
-            ) -> tuple[np.ndarray, np.ndarray, str]:
-    """(order, share or NaN when assumed, source text) of the orders to check."""
-    if orders is None:
-        step = 1.0 / revs_per_cycle
-        o = np.arange(1, int(round(ASSUMED_MAX_ORDER / step)) + 1) * step
-        return o, np.full(len(o), np.nan), (f"assumed: every order up to "
-                                            f"{ASSUMED_MAX_ORDER:g} in steps of {step:g}")
-    if hasattr(orders, "order") and hasattr(orders, "share"):
-        o, s = np.asarray(orders.order, float), np.asarray(orders.share, float)
-        src = "spectrum"
-    elif isinstance(orders, Mapping):
-        o = np.array(list(orders.keys()), float)
-        s = np.array(list(orders.values()), float)
-        src = "given with shares"
-    else:
-        o = np.atleast_1d(np.asarray(orders, float))
-        s = np.full(len(o), np.nan)
-        src = "given, all assumed significant"
-    if np.any(~(o > 0)):
-        raise UsageError("orders must be positive multiples of the shaft speed")
-    keep = np.isnan(s) | (s >= min_share)
-    return o[keep], s[keep], src
-
-
-@dataclass(frozen=True, eq=False)
-class TorsionalResult:
-    """Torsional modes held against the significant orders. ``to_dict()`` is the JSON
-    contract; ``near_orders`` lists each elastic mode within the band of an order."""
-
-    names: tuple[str, ...]
-    modes_hz: tuple[float, ...]
-    rigid_body: tuple[bool, ...]
-    mode_shapes: np.ndarray
-    near_orders: tuple[dict[str, Any], ...]
-    orders_checked: tuple[float, ...]
-    band: float
-    min_share: float
-    verdict: str
-    margin_text: str
-
-    def to_dict(self) -> dict[str, Any]:
-        """The JSON contract (frequencies in Hz)."""
-        return {
-            "names": list(self.names),
-            "modes_hz": list(self.modes_hz),
-            "rigid_body": list(self.rigid_body),
-            "mode_shapes": self.mode_shapes.tolist(),
-            "near_orders": [dict(d) for d in self.near_orders],
-            "orders_checked": list(self.orders_checked),
-            "band": self.band,
-            "min_share": self.min_share,
-            "verdict": self.verdict,
-            "margin_text": self.margin_text,
-        }
-
-
-def torsional_check(chain: TorsionalChain, orders: Any = None, speed: float | None = None,
-                    band: float = 0.10, min_share: float = 0.05, *,
-                    revs_per_cycle: int = 1) -> TorsionalResult:
-    """Flag elastic torsional modes that lie near a significant order of the speed.
-
-    A mode at f is flagged when |f - f_o| <= band * f_o for an order o whose frequency is
-    f_o = o * speed / (2 pi) and whose share of the dynamic torque is at least
-    ``min_share``.
-
-    Parameters
-    ----------
-    chain : TorsionalChain
-    orders : OrderSpectrum, mapping {order: share}, sequence of orders, or None
-        Orders of the shaft speed. A plain sequence is taken as all significant; None
-        assumes every order k / revs_per_cycle up to :data:`ASSUMED_MAX_ORDER`.
-    speed : float, optional [rad/s]
-        Shaft speed. Without it only the modes are reported (verdict "not checked").
-    band : float
-        Half-width of the band around each order, as a fraction (default ±10 %,
-        common practice).
-    min_share : float
-        Smallest share of the dynamic torque that makes an order significant.
-    revs_per_cycle : int
-        Shaft revolutions per machine cycle (for the assumed orders).
-
-    Returns
-    -------
-    TorsionalResult
-        ``detune`` in ``near_orders`` is (f - f_o) / f_o.
-    """
-    if not 0 < band < 1:
-        raise UsageError(f"band must be a fraction between 0 and 1, got {band:g}")
-    modes = torsional_modes(chain)
-    o, s, _ = _orders(orders, min_share, revs_per_cycle)
-    near: list[dict[str, Any]] = []
-    elastic = modes.freqs[~modes.rigid_body]
-    if speed is None:
-        verdict, text = "not checked", "no running speed given: torsional modes only"
-    else:
-        f_o = o * speed / (2 * math.pi)
-        detune = elastic[:, None] / f_o[None, :] - 1.0
-        hit_mode, hit_order = np.nonzero(np.abs(detune) <= band)
-        near = [{"mode_hz": float(elastic[i]), "order": float(o[j]), "order_hz": float(f_o[j]),
-                 "share": None if np.isnan(s[j]) else float(s[j]),
-                 "detune": float(detune[i, j])} for i, j in zip(hit_mode, hit_order,
-                                                                strict=True)]
-        verdict = "fail" if near else "pass"
-        if near:
-            worst = min(near, key=lambda d: abs(d["detune"]))
-            text = (f"torsional mode {worst['mode_hz']:.1f} Hz lies within "
-                    f"{abs(worst['detune']) * 100:.1f} % of order {worst['order']:g} "
-                    f"({worst['order_hz']:.2f} Hz); band ±{band * 100:g} %: fail")
-        elif len(elastic) == 0:
-            text = "torsional chain has no elastic mode: pass"
-        elif len(f_o) == 0:
-            text = "no significant order to check: pass"
-        else:
-            i, j = np.unravel_index(np.abs(detune).argmin(), detune.shape)
-            text = (f"no elastic torsional mode within ±{band * 100:g} % of a significant "
-                    f"order (nearest: mode {elastic[i]:.1f} Hz vs order {o[j]:g} at "
-                    f"{f_o[j]:.2f} Hz, {detune[i, j] * 100:+.0f} %): pass")
-    return TorsionalResult(chain.names, tuple(float(f) for f in modes.freqs),
-                           tuple(bool(r) for r in modes.rigid_body), modes.shapes, tuple(near),
-                           tuple(float(v) for v in o), band, min_share, verdict, text)
-
-
 # --------------------------------------------------------------------------- the check
 @dataclass(frozen=True, eq=False)
 class ShaftState:
@@ -896,7 +651,8 @@ class ShaftState:
 @dataclass(frozen=True, eq=False)
 class ShaftResult:
     """Shaft check before (and after, when parts are added). ``to_dict()`` is the JSON
-    contract; ``current`` is the after state when there is one, else the before."""
+    contract; ``current`` is the after state when there is one, else the before, and the
+    ``verdict`` is that of the current state."""
 
     before: ShaftState
     after: ShaftState | None
@@ -907,6 +663,19 @@ class ShaftResult:
     @property
     def current(self) -> ShaftState:
         return self.after if self.after is not None else self.before
+
+    @property
+    def failures(self) -> dict[str, str]:
+        """Failed checks of the current state: {"lateral" | "torsional": margin text}."""
+        checks = {"lateral": self.current.lateral, "torsional": self.current.torsional}
+        return {name: res.margin_text for name, res in checks.items()
+                if res is not None and res.verdict == "fail"}
+
+    @property
+    def verdict(self) -> str:
+        """"fail" when a check of the current state fails, else "pass" (a torsional
+        check that could not be made does not fail)."""
+        return "fail" if self.failures else "pass"
 
     def to_pandas(self) -> pd.DataFrame:
         """One row per frequency: ``state``, ``check``, ``estimate``, ``frequency_Hz``."""
@@ -929,6 +698,7 @@ class ShaftResult:
         return {"before": self.before.to_dict(),
                 "after": self.after.to_dict() if self.after else None,
                 "lateral": cur["lateral"], "torsional": cur["torsional"],
+                "verdict": self.verdict, "failed": list(self.failures),
                 "cautions": list(self.cautions), "options": dict(self.options)}
 
 
@@ -937,7 +707,8 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
                 add_inertia: float | None = None, add_inertia_at: str | None = None,
                 required_ratio: float | None = None, band: float | None = None,
                 min_share: float | None = None, self_weight: bool | None = None,
-                material: str | None = None) -> ShaftResult:
+                material: str | None = None, revs_per_cycle: int | None = None
+                ) -> ShaftResult:
     """Check a machine's shaft, lateral and torsional, before and after adding parts.
 
     Parameters
@@ -947,7 +718,8 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     speed : float, optional [rad/s]
         Shaft speed; default the profile's ``[machine] speed_rpm``.
     orders : OrderSpectrum, mapping, sequence or None
-        Orders of the shaft speed present in the torque (see :func:`torsional_check`).
+        Orders of the shaft speed present in the torque (see
+        :func:`torqlog.torsion.torsional_check`).
         The lateral forcing is the highest significant order times the speed, at least
         the speed itself (1×, unbalance).
     add_mass : float, optional [kg]
@@ -963,6 +735,9 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         practice), 0.10 (common practice), 0.05 and False.
     material : str, optional
         Overrides ``[shaft] material``.
+    revs_per_cycle : int, optional
+        Shaft revolutions per machine cycle (steps of the assumed orders when no
+        spectrum is given); default the profile's ``[machine] revs_per_cycle``, else 1.
 
     Returns
     -------
@@ -981,10 +756,12 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     band = _pick(band, profile.torsional.get("band"), 0.10)
     min_share = _pick(min_share, profile.torsional.get("min_share"), 0.05)
     self_weight = bool(_pick(self_weight, profile.shaft.get("self_weight"), False))
-    revs = int(profile.machine.get("revs_per_cycle", 1))
+    revs = int(_pick(revs_per_cycle, profile.machine.get("revs_per_cycle"), 1))
+    if revs < 1:
+        raise UsageError(f"revs per cycle must be a whole number of 1 or more, got {revs}")
     at_name = add_inertia_at or "flywheel"
 
-    o, s, orders_source = _orders(orders, min_share, revs)
+    o, _, orders_source = significant_orders(orders, min_share, revs)
     forcing_order = float(max(1.0, o.max() if len(o) else 1.0))
     speed_hz = speed / (2 * math.pi)
 
@@ -1051,10 +828,8 @@ def _pick(given: Any, from_profile: Any, default: Any) -> Any:
 
 
 __all__ = [
-    "CAUTIONS", "GRAVITY", "LateralResult", "PointMass", "ShaftModel", "ShaftResult",
-    "ShaftSegment", "ShaftState", "TorsionalChain", "TorsionalModes",
-    "TorsionalResult", "check_shaft", "dunkerley", "fe_modes", "lateral_check",
-    "material_properties", "rayleigh", "shaft_mesh", "shaft_model_from_profile",
-    "static_deflection", "torsional_chain_from_profile", "torsional_check",
-    "torsional_modes", "torsional_stiffness",
+    "CAUTIONS", "GRAVITY", "LATERAL_METHODS", "LateralResult", "PointMass", "ShaftModel",
+    "ShaftResult", "ShaftSegment", "ShaftState", "check_shaft", "dunkerley", "fe_modes",
+    "lateral_check", "material_properties", "rayleigh", "shaft_mesh",
+    "shaft_model_from_profile", "static_deflection",
 ]

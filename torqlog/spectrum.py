@@ -17,12 +17,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
 
 from torqlog.errors import DataError, UsageError
+
+if TYPE_CHECKING:
+    from torqlog.cycles import CycleResult
 
 
 @dataclass(frozen=True, eq=False)
@@ -140,3 +143,43 @@ def order_spectrum(torque: np.ndarray, revs_per_cycle: int = 1,
         order, dyn, share = order[keep], dyn[keep], share[keep]
     return OrderSpectrum(order, dyn, share, float(X[0].real / n), int(revs_per_cycle),
                          int(t.shape[0]))
+
+
+def mean_cycle_spectrum(cycles: CycleResult, max_order: float | None = None) -> OrderSpectrum:
+    """Order spectrum of the mean cycle torque of a log.
+
+    Parameters
+    ----------
+    cycles : CycleResult
+        From :func:`torqlog.cycles.analyse_cycles`; its ``mean_cycle`` holds
+        ``torque_mean`` [N*m] on a uniform angle grid over one cycle of
+        ``options["revs_per_cycle"]`` shaft revolutions.
+    max_order : float, optional
+        Highest order reported (default: up to the Nyquist order of the grid).
+
+    Returns
+    -------
+    OrderSpectrum
+        Orders of the shaft speed, from :func:`order_spectrum`.
+
+    Notes
+    -----
+    The mean cycle is an average over clean cycles in the angle domain, so torque content
+    not locked to the cycle (a resonance ringing at its own frequency, noise) is reduced
+    or averaged out; only the cycle's orders remain.
+
+    Raises
+    ------
+    DataError
+        When the log has no torque channel (or its mean cycle has no torque).
+
+    References
+    ----------
+    Brigham, *The Fast Fourier Transform and its Applications* (1988).
+    """
+    torque = cycles.mean_cycle["torque_mean"].to_numpy(dtype=float)
+    if "torque" not in cycles.layout.roles or np.isnan(torque).all():
+        raise DataError(f"{cycles.source}: no torque channel, so no order spectrum of the "
+                        f"torque; name the torque column with --torque COL, or leave out "
+                        f"--log to assume every order significant")
+    return order_spectrum(torque, int(cycles.options["revs_per_cycle"]), max_order)
