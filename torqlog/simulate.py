@@ -1223,7 +1223,7 @@ _PROFILE_PARTS: Mapping[str, Mapping[str, Any]] = MappingProxyType({
         "target_cs": 0.10,
         "flywheel_speed_ratio": 32.0,
         "flywheel": ('shape = "annular-disc"\nmaterial = "steel"\n'
-                     "outer_diameter_m = 0.90\nbore_m = 0.075\nmax_width_m = 0.12\n"
+                     "outer_diameter_m = 0.70\nbore_m = 0.075\nmax_width_m = 0.12\n"
                      "interference_m = 0.00006\n"),
         "shaft": ('material = "steel"\nbearings_m = [0.0, 0.52]\n'
                   "segments = [ { length_m = 0.14, diameter_m = 0.065 },\n"
