@@ -16,10 +16,12 @@ from __future__ import annotations
 import functools
 import math
 import re
-
-import pint
+from typing import TYPE_CHECKING
 
 from torqlog.errors import UsageError
+
+if TYPE_CHECKING:
+    import pint
 
 #: SI unit of each physical kind used in torqlog, as pint understands it.
 SI_UNITS: dict[str, str] = {
@@ -75,6 +77,8 @@ _ALIASES: dict[str, str] = {
 @functools.lru_cache(maxsize=1)
 def registry() -> pint.UnitRegistry:
     """Return the (cached, read-only in use) pint unit registry torqlog uses."""
+    import pint
+
     try:  # pint's own definition cache makes start-up ~15x faster after the first run
         ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=":auto:")
     except Exception:  # noqa: BLE001 - an unwritable cache folder must not stop us
@@ -93,6 +97,22 @@ def _normalise(text: str) -> str:
     if t.lower() in _ALIASES:
         return _ALIASES[t.lower()]
     return t
+
+
+# SI factors of the spellings nearly every logger export uses, so reading a log does not
+# have to load pint's unit definitions (~0.3 s of start-up). They are the values pint
+# gives (tests/test_units.py checks every entry against pint); any other unit goes to pint.
+_COMMON: dict[tuple[str, str], float] = {
+    ("s", "time"): 1.0,
+    ("ms", "time"): 1e-3,
+    ("us", "time"): 1e-6,
+    ("N*m", "torque"): 1.0,
+    ("kN*m", "torque"): 1e3,
+    ("rpm", "speed"): 2.0 * math.pi / 60.0,
+    ("rad/s", "speed"): 1.0,
+    ("degree", "angle"): math.pi / 180.0,
+    ("rad", "angle"): 1.0,
+}
 
 
 @functools.lru_cache(maxsize=256)
@@ -129,6 +149,10 @@ def si_factor(unit: str, kind: str) -> float:
     norm = _normalise(unit)
     if norm == "":
         return 1.0
+    if (norm, kind) in _COMMON:
+        return _COMMON[(norm, kind)]
+    import pint
+
     ureg = registry()
     try:
         q = ureg.Quantity(1.0, norm)
