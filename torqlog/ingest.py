@@ -243,8 +243,12 @@ def _read_head(path: Path) -> tuple[str, str]:
             text, enc = raw.decode("latin-1"), "latin1"
     if text.startswith("\ufeff"):
         text = text[1:]
-    bad = sum(1 for ch in text[:4096] if ord(ch) < 32 and ch not in "\r\n\t")
-    if bad > 8:
+    head = text[:4096]
+    bad = sum(1 for ch in head if ord(ch) < 32 and ch not in "\r\n\t")
+    # bytes 0x80-0x9f read as Latin-1 are control characters: a few are cp1252 text
+    # (€, …, quotes), many are binary
+    c1 = sum(1 for ch in head if 0x80 <= ord(ch) < 0xA0) if enc == "latin1" else 0
+    if bad > 8 or c1 > max(8, len(head) // 50):
         raise DataError(f"{path}: binary content, not a text export; give a CSV, CSV.gz or "
                         "Parquet file")
     return text, enc
