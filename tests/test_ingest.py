@@ -402,6 +402,25 @@ def test_text_in_a_numeric_column_names_line_and_column(tmp_path, where, line):
                               "fix the value or remove the row")
 
 
+def test_unit_row_with_a_dimensionless_1(tmp_path):
+    text = "time,torque,speed,pulse\ns,kN*m,rpm,1\n0,1,100,0\n0.1,2,100,1\n0.2,3,100,0\n"
+    rec = read_log(write(tmp_path, "u1.csv", text))
+    assert [(c.role, c.unit, c.unit_source) for c in rec.layout.columns] == [
+        ("time", "s", "unit row"), ("torque", "kN*m", "unit row"), ("speed", "rpm", "unit row"),
+        ("index", "1", "unit row")]
+    np.testing.assert_allclose(rec.channels["torque"], [1e3, 2e3, 3e3], rtol=1e-12)
+    np.testing.assert_array_equal(rec.channels["index"], [0, 1, 0])
+
+
+def test_text_in_the_first_row_under_a_unit_row(tmp_path):
+    text = "time,torque,speed,pulse\ns,kN*m,rpm,1\n0,abc,100,0\n0.1,2,100,1\n0.2,3,100,0\n"
+    p = write(tmp_path, "u2.csv", text)
+    with pytest.raises(DataError) as err:
+        read_log(p)
+    assert str(err.value) == (f"{p}: line 3, column 'torque': 'abc' is not a number; fix the "
+                              "value or remove the row")
+
+
 def test_bad_timestamp_names_line(tmp_path):
     text = ("timestamp,torque_Nm\n2026-03-02T06:00:00.000,1\n2026-03-02T06:00:00.001,2\n"
             "later,3\n2026-03-02T06:00:00.003,4\n")

@@ -423,9 +423,10 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
 
 def _looks_like_units(fields: list[str]) -> bool:
     nonblank = [f for f in fields if f]
-    if not nonblank or any(_NUM.match(f) for f in nonblank):
+    # "1" is the unit of a pulse or count column; other numbers mean a data row
+    if not nonblank or any(_NUM.match(f) and f != "1" for f in nonblank):
         return False
-    ok = 0
+    ok = real = 0
     for f in nonblank:
         t = f.strip("[]() ")
         if t in ("-", "", "#", "V", "1"):
@@ -435,9 +436,12 @@ def _looks_like_units(fields: list[str]) -> bool:
             try:
                 si_factor(t, kind)
                 ok += 1
+                real += 1
                 break
             except UsageError:
                 pass
+    if "1" in nonblank and not real:
+        return False
     return ok >= max(1, len(nonblank) - 1)
 
 
