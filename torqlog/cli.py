@@ -312,7 +312,7 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 
     s = survey_log(log, nominal_speed=speed_rpm, **read_kwargs(kw))
     d = s.to_dict()
-    cols = pd.DataFrame(d["columns"]).rename(columns={"si_factor": "SI factor"})
+    cols = pd.DataFrame(d["columns"])  # csv keeps the JSON key names
     lines = [
         f"file        {d['source']}",
         f"format      {d['format']}"
@@ -334,7 +334,8 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
     ]
     if d["preamble"]:
         lines.append("preamble    " + "; ".join(f"{k}: {v}" for k, v in d["preamble"].items()))
-    emit(d, cols if fmt == "csv" else cols, fmt, output, text="\n".join(lines) + "\n")
+    emit(d, cols if fmt == "csv" else cols.rename(columns={"si_factor": "SI factor"}), fmt,
+         output, text="\n".join(lines) + "\n")
 
 
 # --------------------------------------------------------------------------- cycles

@@ -15,6 +15,7 @@ References
 
 from __future__ import annotations
 
+import datetime
 import gzip
 import math
 import queue
@@ -243,8 +244,12 @@ def _read_head(path: Path) -> tuple[str, str, bool]:
             text, enc = raw.decode("latin-1"), "latin1"
     if text.startswith("\ufeff"):
         text = text[1:]
-    bad = sum(1 for ch in text[:4096] if ord(ch) < 32 and ch not in "\r\n\t")
-    if bad > 8:
+    head = text[:4096]
+    bad = sum(1 for ch in head if ord(ch) < 32 and ch not in "\r\n\t")
+    # bytes 0x80-0x9f read as Latin-1 are control characters: a few are cp1252 text
+    # (€, …, quotes), many are binary
+    c1 = sum(1 for ch in head if 0x80 <= ord(ch) < 0xA0) if enc == "latin1" else 0
+    if bad > 8 or c1 > max(8, len(head) // 50):
         raise DataError(f"{path}: binary content, not a text export; give a CSV, CSV.gz or "
                         "Parquet file")
     return text, enc, len(raw) >= _SNIFF_BYTES
@@ -358,26 +363,39 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
     if p.suffix.lower() in (".parquet", ".pq"):
         return _sniff_parquet(p, roles, units, rate, start)
     text, enc, cut = _read_head(p)
-    lines = text.splitlines()
+    # pyarrow ends lines at \n, \r and \r\n only; str.splitlines() would also split at
+    # \x85, \x0c, \u2028 ... and shift every line number (and skip_rows) after them
+    lines = re.split(r"\r\n|\r|\n", text)
+    if lines and not lines[-1]:
+        lines.pop()
     if cut and len(lines) > 1:
         lines = lines[:-1]  # the last line may be cut by the sniff window
     delim = _choose_delimiter(lines)
     decimal = "."
-    # Locate the header: the last non-numeric line before the numeric block.
-    n_fields = None
-    data_start = None
-    for i in range(len(lines) - 1, -1, -1):
-        f = _split(lines[i], delim)
-        if len(f) >= 1 and lines[i].strip() and all(_is_value(x, ",") for x in f):
-            data_start = i
-            n_fields = n_fields or len(f)
-        elif data_start is not None:
-            break
-    if data_start is None:
+    # Locate the data: the first row of numbers as wide as most numeric rows; the header
+    # is the line before it (a unit row may sit between). Scanning forward keeps a row
+    # with text in a numeric column from being taken for the header.
+    fields = [_split(ln, delim) for ln in lines]
+    numeric = [i for i, (ln, f) in enumerate(zip(lines, fields, strict=True))
+               if ln.strip() and all(_is_value(x, ",") for x in f)]
+    if not numeric:
         if len(lines) <= 2:
             raise DataError(f"{p}: has a header but no data rows; export the log with data")
         raise DataError(f"{p}: no rows of numbers found; is this a logger export? "
                         "(expected a header line followed by numeric rows)")
+    widths = [len(fields[i]) for i in numeric[-50:]]
+    n_fields = max(set(widths), key=widths.count)
+    data_start = first = next(i for i in numeric if len(fields[i]) == n_fields)
+    # A first data row holding a bad value is still a data row (the reader then names it):
+    # step back over rows as wide as the data that hold numbers and are not a unit row.
+    while data_start > 1:
+        j = data_start - 1
+        f = fields[j]
+        if not lines[j].strip() or len(f) != n_fields or _looks_like_units(f) or \
+                not any(_is_num(x, ",") or _ISO.match(x) for x in f) or \
+                len(fields[j - 1]) != n_fields:
+            break
+        data_start = j
     sample = [_split(ln, delim) for ln in lines[data_start:data_start + 50] if ln.strip()]
     if delim == ";" and any("," in x for row in sample for x in row):
         decimal = ","
@@ -401,14 +419,15 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
     preamble = _parse_preamble(lines[:header_idx])
     skip = data_start
     return _build_layout(p, "csv", delim, decimal, enc, skip, header, unit_row, preamble,
-                         roles, units, rate, start, first_values=sample[0])
+                         roles, units, rate, start, first_values=fields[first])
 
 
 def _looks_like_units(fields: list[str]) -> bool:
     nonblank = [f for f in fields if f]
-    if not nonblank or any(_NUM.match(f) for f in nonblank):
+    # "1" is the unit of a pulse or count column; other numbers mean a data row
+    if not nonblank or any(_NUM.match(f) and f != "1" for f in nonblank):
         return False
-    ok = 0
+    ok = real = 0
     for f in nonblank:
         t = f.strip("[]() ")
         if t in ("-", "", "#", "V", "1"):
@@ -418,9 +437,12 @@ def _looks_like_units(fields: list[str]) -> bool:
             try:
                 si_factor(t, kind)
                 ok += 1
+                real += 1
                 break
             except UsageError:
                 pass
+    if "1" in nonblank and not real:
+        return False
     return ok >= max(1, len(nonblank) - 1)
 
 
@@ -471,10 +493,15 @@ def _build_layout(p: Path, kind: str, delim: str, decimal: str, enc: str, skip: 
     bare = [_name_and_unit(n) for n in names]
     assigned: dict[int, str] = {}
     for role, col in roles.items():
-        if col not in names:
+        if col in names:
+            assigned[names.index(col)] = role
+            continue
+        # the name without its unit also selects a column: --torque Drehmoment
+        same = [i for i, (base, _) in enumerate(bare) if base.casefold() == col.casefold()]
+        if len(same) != 1:
             raise UsageError(f"--{role} {col!r}: no such column in {p}; columns are: "
                              f"{', '.join(names)}")
-        assigned[names.index(col)] = role
+        assigned[same[0]] = role
     for i, (base, unit) in enumerate(bare):
         if i in assigned:
             continue
@@ -499,6 +526,8 @@ def _build_layout(p: Path, kind: str, delim: str, decimal: str, enc: str, skip: 
             try:
                 factor = si_factor(unit, ROLES[role])
             except UsageError as exc:
+                if source == "option":
+                    raise UsageError(f"--{role}-unit: {exc}") from None
                 raise DataError(f"{p}: column {name!r}: {exc}; fix the header or give "
                                 f"--{role}-unit") from None
         cols.append(Column(name, role, unit if role else unit, source if unit else "", factor))
@@ -517,7 +546,7 @@ def _build_layout(p: Path, kind: str, delim: str, decimal: str, enc: str, skip: 
         words = _words(_name_and_unit(tcol.name)[0])
         if isinstance(v, str) and _ISO.match(v):
             time_kind = "timestamp"
-        elif isinstance(v, pd.Timestamp | np.datetime64):
+        elif isinstance(v, pd.Timestamp | np.datetime64 | datetime.datetime):
             time_kind = "timestamp"
         elif "sample" in words or "samples" in words or tcol.unit in ("-", "#"):
             if rate is None:
@@ -574,7 +603,8 @@ class LogReader:
     path : str or Path
         The file.
     block_rows : int
-        Approximate rows per chunk (memory is bounded by this, not the file length).
+        Rows per chunk (the last may be shorter); memory is bounded by this and by
+        pyarrow's read block, not by the file length.
     **sniff_options
         Passed to :func:`sniff_layout` (``roles``, ``units``, ``rate``, ``start``).
 
@@ -587,6 +617,8 @@ class LogReader:
 
     def __init__(self, path: str | Path, block_rows: int = 500_000,
                  **sniff_options: Any) -> None:
+        if int(block_rows) < 1:
+            raise UsageError(f"block_rows must be at least 1, got {block_rows}")
         self.layout = sniff_layout(path, **sniff_options)
         self.block_rows = int(block_rows)
 
@@ -607,7 +639,7 @@ class LogReader:
                 if c.role == "time":
                     time = self._time(arr, row, n)
                 else:
-                    values = _to_float(arr)
+                    values = self._values(arr, c, row)
                     chans[c.role] = values * c.factor if c.factor != 1.0 else values
             if time is None:
                 time = (row + np.arange(n, dtype=np.float64)) / lay.rate
@@ -626,6 +658,26 @@ class LogReader:
         if row == 0:
             raise DataError(f"{lay.path}: has a header but no data rows; export the log with "
                             "data")
+
+    def _values(self, arr: pa.Array | pa.ChunkedArray, col: Column, row: int) -> np.ndarray:
+        """A channel as float64; a Parquet column holding text is refused, naming the row."""
+        if isinstance(arr, pa.ChunkedArray):
+            arr = arr.combine_chunks()
+        if not (pa.types.is_floating(arr.type) or pa.types.is_integer(arr.type)
+                or pa.types.is_boolean(arr.type) or pa.types.is_null(arr.type)):
+            try:
+                arr = arr.cast(pa.float64())
+            except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+                for i, v in enumerate(arr.to_pylist()):  # error path only: find the row
+                    try:
+                        float(v if v is not None else "nan")
+                    except (TypeError, ValueError):
+                        raise DataError(f"{self.layout.path}: row {row + i + 1}, column "
+                                        f"{col.name!r}: {v!r} is not a number; fix the value "
+                                        "or remove the row") from None
+                raise DataError(f"{self.layout.path}: column {col.name!r} of type {arr.type} "
+                                "is not numeric; give a numeric column") from None
+        return _to_float(arr)
 
     def _time(self, arr: pa.Array, row: int, n: int) -> np.ndarray:
         lay = self.layout
@@ -681,11 +733,17 @@ class LogReader:
                 for batch in self._batches(wanted):
                     if stop.is_set():
                         return
-                    group.append(batch)
-                    rows += batch.num_rows
-                    if rows >= self.block_rows:
-                        q.put(pa.Table.from_batches(group))
-                        group, rows = [], 0
+                    # pyarrow's blocks can hold more rows than a chunk: cut them
+                    # (zero-copy slices) so no chunk exceeds block_rows
+                    at = 0
+                    while at < batch.num_rows:
+                        take = min(batch.num_rows - at, self.block_rows - rows)
+                        group.append(batch.slice(at, take))
+                        rows += take
+                        at += take
+                        if rows >= self.block_rows:
+                            q.put(pa.Table.from_batches(group))
+                            group, rows = [], 0
                 if group:
                     q.put(pa.Table.from_batches(group))
                 q.put(None)

@@ -101,11 +101,11 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
     t_end = 0.0
     for ch in reader:
         t = ch.time
-        if step is None:
-            step = float(np.median(np.diff(t))) if len(t) > 1 else 1.0
         tt = t if last_t is None else np.concatenate(([last_t], t))
         d = np.diff(tt)
-        big = d > cond.GAP_FACTOR * step
+        if step is None and d.size:  # (one sample so far: no time step to judge yet)
+            step = float(np.median(d))
+        big = d > cond.GAP_FACTOR * step if step is not None else np.zeros(d.size, bool)
         if big.any():
             k = np.flatnonzero(big)
             gap_idx.append(ch.row0 + k + (0 if last_t is not None else 1))
