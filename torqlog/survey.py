@@ -134,7 +134,8 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
     for role, parts in flats.items():
         v = np.concatenate(parts)
         lo, hi = extremes[role]
-        clipped[role] = int(np.sum((v == lo) | (v == hi)))
+        if hi > lo:  # a constant channel is flat, not clipped
+            clipped[role] = int(np.sum((v == lo) | (v == hi)))
     gi = np.concatenate(gap_idx) if gap_idx else np.empty(0, int)
     gd = np.concatenate(gap_dur) if gap_dur else np.empty(0)
     gt = np.concatenate(gap_time) if gap_time else np.empty(0)
