@@ -438,6 +438,10 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                         f"are needed — record a longer log (cycle source {source!r}, "
                         f"{o.revs_per_cycle} rev per cycle)")
     table = _table(st, lay, o)
+    for col in lay.columns:
+        if col.role in ("time", "torque", "speed", "angle") and col.unit_source == "assumed":
+            notes.append(f"column {col.name!r} states no unit: {col.role} taken as "
+                         f"{col.unit}; if that is wrong give --{col.role}-unit")
     if "torque" not in has:
         notes.append("no torque channel: energy swing " + (
             "from ½·I·(ω_max² − ω_min²) with the given inertia" if o.inertia else

@@ -381,7 +381,8 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
     if not numeric:
         if len(lines) <= 2:
             raise DataError(f"{p}: has a header but no data rows; export the log with data")
-        raise DataError(f"{p}: no rows of numbers found; is this a logger export? "
+        raise DataError(f"{p}: no rows of numbers found with a comma, semicolon or tab "
+                        "delimiter; is this a logger export? "
                         "(expected a header line followed by numeric rows)")
     widths = [len(fields[i]) for i in numeric[-50:]]
     n_fields = max(set(widths), key=widths.count)
