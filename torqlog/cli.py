@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import math
+import sys
 import textwrap
 from collections.abc import Callable
 from pathlib import Path
@@ -289,13 +290,23 @@ def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
 
 
 def run_cycles(log: str, kw: dict[str, Any]) -> Any:
-    """Run the cycle stage for a CLI command; pops the options it uses from ``kw``."""
+    """Run the cycle stage for a CLI command; pops the options it uses from ``kw``.
+
+    On a terminal a progress bar (on stderr) follows the bytes read; elsewhere it is quiet.
+    """
     from torqlog.cycles import analyse_cycles
 
     profile = load_profile_opt(kw.pop("profile", None))
     read = read_kwargs(kw)
     opts = make_cycle_options(kw, profile)
-    return analyse_cycles(log, opts, **read), profile
+    if not sys.stderr.isatty():
+        return analyse_cycles(log, opts, **read), profile
+    with click.progressbar(length=1000, label=f"reading {Path(log).name}",
+                           file=sys.stderr) as bar:
+        def step(fraction: float) -> None:
+            bar.update(int(1000 * fraction) - bar.pos)
+
+        return analyse_cycles(log, opts, progress=step, **read), profile
 
 
 # --------------------------------------------------------------------------- inspect

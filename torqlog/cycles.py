@@ -16,6 +16,7 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 from itertools import chain
 from pathlib import Path
@@ -384,7 +385,8 @@ def _tracker_for(source: str, opts: CycleOptions, first: Chunk, path: str
 
 def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                    roles: dict[str, str] | None = None, units: dict[str, str] | None = None,
-                   rate: float | None = None, start: str | None = None) -> CycleResult:
+                   rate: float | None = None, start: str | None = None,
+                   progress: Callable[[float], None] | None = None) -> CycleResult:
     """Split a log into cycles and compute the per-cycle figures, streaming.
 
     Parameters
@@ -395,6 +397,8 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         Cycle-stage options (defaults stated in :class:`CycleOptions`).
     roles, units, rate, start
         Reading options, as for :func:`torqlog.ingest.sniff_layout`.
+    progress : callable, optional
+        Called after each chunk with the share of the file read (0 to 1).
 
     Returns
     -------
@@ -433,6 +437,8 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     for chunk in chain(it, [None]):
         st.feed(pending, final=chunk is None)
         pending = chunk
+        if progress is not None:
+            progress(reader.fraction_read())
     if st.cycle_no < 2:
         raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
                         f"are needed — record a longer log (cycle source {source!r}, "

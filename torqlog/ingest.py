@@ -622,6 +622,16 @@ class LogReader:
             raise UsageError(f"block_rows must be at least 1, got {block_rows}")
         self.layout = sniff_layout(path, **sniff_options)
         self.block_rows = int(block_rows)
+        self._raw: pa.NativeFile | None = None
+        self._size = max(Path(self.layout.path).stat().st_size, 1)
+
+    def fraction_read(self) -> float:
+        """Share of the file's bytes read so far (0 to 1), for progress bars."""
+        raw = self._raw
+        try:
+            return min(1.0, raw.tell() / self._size) if raw is not None else 0.0
+        except (OSError, ValueError):  # closed
+            return 1.0
 
     def __iter__(self) -> Iterator[Chunk]:
         lay = self.layout
@@ -796,8 +806,9 @@ class LogReader:
                                     null_values=["", "NaN", "nan", "NA", "null", "-nan", "#N/A"],
                                     strings_can_be_null=True)
         try:
-            reader = pacsv.open_csv(pa.OSFile(lay.path, "rb") if not lay.path.lower().endswith(
-                ".gz") else pa.CompressedInputStream(pa.OSFile(lay.path, "rb"), "gzip"),
+            self._raw = pa.OSFile(lay.path, "rb")
+            reader = pacsv.open_csv(self._raw if not lay.path.lower().endswith(
+                ".gz") else pa.CompressedInputStream(self._raw, "gzip"),
                 read_options=read, parse_options=parse,
                                     convert_options=conv)
             yield from reader
