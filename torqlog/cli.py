@@ -244,19 +244,17 @@ def load_profile_opt(path: str | None) -> Any:
 
 def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
     """Build :class:`torqlog.cycles.CycleOptions` from CLI keywords and a profile."""
-    from torqlog.cycles import CycleOptions
+    from torqlog.cycles import options_from_profile
 
-    machine = profile.machine if profile is not None else {}
-    rpc = kw.pop("revs_per_cycle", None) or machine.get("revs_per_cycle", 1)
-    inertia = kw.pop("inertia", None) or machine.get("inertia")
-    return CycleOptions(
-        revs_per_cycle=int(rpc),
+    return options_from_profile(
+        profile,
+        revs_per_cycle=kw.pop("revs_per_cycle", None),
         cycle_source=kw.pop("cycle_source", None),
-        nominal_speed=kw.pop("speed_rpm", None) or machine.get("speed"),
+        nominal_speed=kw.pop("speed_rpm", None),
         pulses_per_rev=kw.pop("pulses_per_rev", 360.0),
-        inertia=inertia,
+        inertia=kw.pop("inertia", None),
         speed_cutoff_orders=kw.pop("speed_cutoff_orders", 20.0),
-        torque_role=kw.pop("torque_role", None) or machine.get("torque_role", "load"),
+        torque_role=kw.pop("torque_role", None),
         cs_mean=kw.pop("cs_mean", "cycle"),
         despike=not kw.pop("no_despike", False),
     )
@@ -561,73 +559,28 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
     and exits 0 (3 with --strict).
     """
     from torqlog.errors import CheckFailed, DataError, UsageError
-    from torqlog.flywheel import check_flywheel, design_flywheel, requirement_from_size
-    from torqlog.materials import custom_material, get_material
+    from torqlog.flywheel import flywheel_from_profile
     from torqlog.profile import load_profile
 
-    fw: dict[str, Any] = {}
-    mach: dict[str, Any] = {}
-    if profile_path:
-        prof = load_profile(profile_path)
-        fw, mach = prof.flywheel, prof.machine
-    ratio = mach.get("flywheel_speed_ratio")
-    size_info: dict[str, Any] = {}
+    prof = load_profile(profile_path) if profile_path else None
+    size = None
     if size_path:
         p = Path(size_path)
         if not p.is_file():
             raise UsageError(f"{p}: size result file does not exist")
         try:
-            data = json.loads(p.read_text(encoding="utf-8"))
+            size = json.loads(p.read_text(encoding="utf-8"))
         except (json.JSONDecodeError, UnicodeDecodeError) as exc:
             raise DataError(f"{p}: not a JSON file from 'torqlog size --format json' "
                             f"({exc})") from None
-        size_inertia, size_speed, size_info = requirement_from_size(data, str(p), ratio)
-        inertia = inertia if inertia is not None else size_inertia
-        speed = speed if speed is not None else size_speed
-    if speed is None and "speed" in mach:
-        speed = mach["speed"] * (ratio if ratio is not None else 1.0)
-    if speed is None:
-        raise UsageError("give --speed-rpm (or a --profile with [machine] speed_rpm, or "
-                         "--from-size)")
-
-    def pick(value: Any, key: str, default: Any = None) -> Any:
-        return value if value is not None else fw.get(key, default)
-
-    material = pick(material, "material")
-    if material is None:
-        raise UsageError(f"give --material; known: {', '.join(_material_names())}")
-    mat = get_material(material)
-    if any(v is not None for v in (density, strength, poisson, modulus)):
-        mat = custom_material(mat, density=density, modulus=modulus, poisson=poisson,
-                              strength=strength)
-    shape = pick(shape, "shape", "annular-disc")
-    outer_diameter = pick(outer_diameter, "outer_diameter")
-    bore = pick(bore, "bore", 0.0)
-    width = pick(width, "width")
-    max_width = pick(max_width, "max_width")
-    interference = pick(interference, "interference")
-    overspeed = pick(overspeed, "overspeed", 1.2)
-    common = dict(overspeed=overspeed, slowdown=slowdown, interference=interference,
-                  material_factor=material_factor)
-    if inertia is None:
-        if outer_diameter is None or width is None:
-            raise UsageError("give --inertia or --from-size to size a flywheel, or both "
-                             "--outer-diameter and --width to check a given one")
-        from torqlog.flywheel import DiscGeometry
-
-        rid = rim_inner_diameter
-        if shape == "rim" and rid is None and rim_depth is not None:
-            rid = outer_diameter - 2.0 * rim_depth
-        geometry = DiscGeometry(shape, outer_diameter, bore, width,
-                                rim_inner_diameter=rid, web_width=web_width)
-        result = check_flywheel(geometry, mat, speed, **common)
-    else:
-        result = design_flywheel(inertia, speed, mat, shape, outer_diameter, bore, width,
-                                 max_width, max_outer_diameter=max_outer_diameter,
-                                 rim_depth=rim_depth, rim_inner_diameter=rim_inner_diameter,
-                                 web_width=web_width, **common)
+    result = flywheel_from_profile(
+        prof, inertia=inertia, speed=speed, size=size, size_source=str(size_path),
+        material=material, shape=shape, outer_diameter=outer_diameter, bore=bore,
+        width=width, max_width=max_width, max_outer_diameter=max_outer_diameter,
+        rim_inner_diameter=rim_inner_diameter, rim_depth=rim_depth, web_width=web_width,
+        overspeed=overspeed, slowdown=slowdown, interference=interference, density=density,
+        strength=strength, poisson=poisson, modulus=modulus, material_factor=material_factor)
     data = result.to_dict()
-    data["options"].update(size_info)
     if profile_path:
         data["options"]["profile"] = profile_path
     if plot_path:
@@ -641,12 +594,6 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
             click.echo(f"flywheel check: FAIL ({', '.join(data['failed'])})", err=True)
         if strict:
             raise CheckFailed(f"flywheel check failed: {', '.join(data['failed'])}")
-
-
-def _material_names() -> list[str]:
-    from torqlog.materials import MATERIALS
-
-    return list(MATERIALS)
 
 
 # --- size
@@ -712,40 +659,22 @@ def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quant
              motor_ratio: float | None, flywheel_speed_ratio: float | None, seed: int,
              plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
     """Flywheel inertia to reach a target Cs, with its interval and the motor's view."""
-    from torqlog.drive import MotorModel
     from torqlog.errors import UsageError
-    from torqlog.inertia import size_from_cycles, target_cs_for
+    from torqlog.inertia import size_log, size_log_dict
 
     res, profile = run_cycles(log, kw)
-    machine = profile.machine if profile is not None else {}
-    if target_cs is None and machine_class:
-        target_cs = target_cs_for(machine_class)
-    if target_cs is None:
-        target_cs = machine.get("target_cs")
-    if target_cs is None:
-        raise UsageError("give --target-cs X, --machine-class NAME or [machine] target_cs in "
-                         "the profile")
     try:
         q: float | str = "max" if quantile.strip().lower() == "max" else float(quantile)
     except ValueError:
         raise UsageError(f"--quantile: {quantile!r} is not a number in (0, 1] or 'max'") \
             from None
-    motor_kw = dict(profile.motor) if profile is not None else {}
-    for key, value in (("power", motor_power), ("sync", sync_rpm), ("rated", rated_rpm),
-                       ("speed_ratio", motor_ratio)):
-        if value is not None:
-            motor_kw[key] = value
-    motor = MotorModel.from_profile(motor_kw) if motor_kw else None
-    ratio = flywheel_speed_ratio or machine.get("flywheel_speed_ratio", 1.0)
-    result = size_from_cycles(res.table, res.mean_cycle, target_cs=target_cs, quantile=q,
-                              existing_inertia=res.options["inertia"],
-                              flywheel_speed_ratio=ratio, motor=motor,
-                              revs_per_cycle=res.options["revs_per_cycle"], seed=seed,
-                              torque_role=res.options["torque_role"],
-                              speed=res.options.get("nominal_speed"))
-    data = result.to_dict()
-    data["source"] = res.source
-    data["cycle_options"] = res.options
+    motor = {"power": motor_power, "sync": sync_rpm, "rated": rated_rpm,
+             "speed_ratio": motor_ratio}
+    result = size_log(res, profile, target_cs=target_cs, machine_class=machine_class,
+                      quantile=q, motor=motor, flywheel_speed_ratio=flywheel_speed_ratio,
+                      seed=seed)
+    data = size_log_dict(result, res)
+    target_cs = result.target_cs
     if plot_path:
         from torqlog.plots import plot_drive_curve
 
