@@ -597,6 +597,17 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
 
 
 # --- size
+def parse_quantile(text: str) -> float | str:
+    """The ``--quantile`` option: a number, or ``"max"``."""
+    from torqlog.errors import UsageError
+
+    try:
+        return "max" if text.strip().lower() == "max" else float(text)
+    except ValueError:
+        raise UsageError(f"--quantile: {text!r} is not a number in (0, 1] or 'max'") \
+            from None
+
+
 def _size_text(d: dict[str, Any], source: str) -> str:
     """Readable summary of a sizing result."""
     def kg(x: float | None) -> str:
@@ -663,11 +674,7 @@ def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quant
     from torqlog.inertia import size_log, size_log_dict
 
     res, profile = run_cycles(log, kw)
-    try:
-        q: float | str = "max" if quantile.strip().lower() == "max" else float(quantile)
-    except ValueError:
-        raise UsageError(f"--quantile: {quantile!r} is not a number in (0, 1] or 'max'") \
-            from None
+    q = parse_quantile(quantile)
     motor = {"power": motor_power, "sync": sync_rpm, "rated": rated_rpm,
              "speed_ratio": motor_ratio}
     result = size_log(res, profile, target_cs=target_cs, machine_class=machine_class,
@@ -735,3 +742,82 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
         Path(profile_out).write_text(demo_profile(log.machine), encoding="utf-8")
         line += f"; profile {profile_out}"
     click.echo(line)
+
+
+# --- report
+@cli.command("report")
+@click.argument("logs", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@cycle_options
+@click.option("--target-cs", type=float, default=None,
+              help="Target coefficient of speed fluctuation [default: the profile's].")
+@click.option("--quantile", default="0.95", show_default=True,
+              help="Design quantile of the per-cycle energy swing, or 'max'.")
+@click.option("-o", "--output", "output", type=click.Path(dir_okay=False),
+              default="report.html", show_default=True, help="HTML report to write.")
+@click.option("--pdf", "pdf_path", type=click.Path(dir_okay=False), default=None,
+              help="Also write the report as PDF (matplotlib; no browser needed).")
+@click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
+              help="Also keep the PNG figures in this folder.")
+def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, output: str,
+               pdf_path: str | None, figure_dir: str | None, **kw: Any) -> None:
+    """One self-contained HTML report from LOG(s) of one machine: inputs, measured state,
+    inertia recommendation, flywheel proposal, shaft checks, trends and cautions.
+
+    The first LOG is the design log (recommendation, flywheel, shaft); several logs with
+    start times also give the shift trend.
+    """
+    from torqlog.errors import UsageError
+    from torqlog.report import build_report, write_report
+
+    profile_path = kw.pop("profile", None)
+    if not profile_path:
+        raise UsageError("give --profile FILE: the report needs the machine profile")
+    profile = load_profile_opt(profile_path)
+    read = read_kwargs(kw)
+    opts = make_cycle_options(kw, profile)
+    data = build_report(list(logs), profile_path, cycle_options=opts, read=read,
+                        target_cs=target_cs, quantile=parse_quantile(quantile),
+                        figure_dir=figure_dir)
+    for why in data.skipped.values():
+        click.echo(f"note: {why}", err=True)
+    for path in write_report(data, output, pdf_path):
+        click.echo(f"wrote {path}", err=True)
+    click.echo(output)
+
+
+# --- demo
+@cli.command("demo")
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), default="torqlog-demo",
+              show_default=True, help="Folder to write the demo into.")
+def demo_cmd(out_dir: str) -> None:
+    """Run the whole chain on the invented Brindlemoor Works demo machines.
+
+    Writes their logs and profiles, each stage's JSON (inspect, cycles, size, flywheel,
+    shaft, trend), the figures and a report per machine into OUT, and prints the path of
+    the press report last.
+    """
+    from torqlog.demo import write_demo_inputs
+    from torqlog.report import build_report, write_report
+
+    reports = []
+    for run in write_demo_inputs(out_dir):
+        data = build_report(list(run.logs), run.profile, figure_dir=run.folder)
+        stages = data.stage_json()
+        for name in ("inspect", "cycles"):
+            for log, d in zip(run.logs, stages.pop(name), strict=True):
+                (run.folder / f"{name}_{log.stem}.json").write_text(to_json(d) + "\n",
+                                                                   encoding="utf-8")
+        for name, d in stages.items():
+            (run.folder / f"{name}.json").write_text(to_json(d) + "\n", encoding="utf-8")
+        html = run.folder / "report.html"
+        write_report(data, html, run.folder / "report.pdf" if run.key == "press" else None)
+        verdicts = ", ".join(f"{v['check']} {v['verdict']}" for v in data.verdicts())
+        click.echo(f"{data.machine} ({run.key}, {len(run.logs)} log(s), {run.dialect} "
+                   f"dialect): {verdicts or 'no checks'}", err=True)
+        for why in data.skipped.values():
+            click.echo(f"  note: {why}", err=True)
+        reports.append(html)
+    first = reports.pop(0)
+    for html in reports:
+        click.echo(f"report: {html}")
+    click.echo(f"report: {first}")
