@@ -271,19 +271,17 @@ def load_profile_opt(path: str | None) -> Any:
 
 def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
     """Build :class:`torqlog.cycles.CycleOptions` from CLI keywords and a profile."""
-    from torqlog.cycles import CycleOptions
+    from torqlog.cycles import options_from_profile
 
-    machine = profile.machine if profile is not None else {}
-    rpc = kw.pop("revs_per_cycle", None) or machine.get("revs_per_cycle", 1)
-    inertia = kw.pop("inertia", None) or machine.get("inertia")
-    return CycleOptions(
-        revs_per_cycle=int(rpc),
+    return options_from_profile(
+        profile,
+        revs_per_cycle=kw.pop("revs_per_cycle", None),
         cycle_source=kw.pop("cycle_source", None),
-        nominal_speed=kw.pop("speed_rpm", None) or machine.get("speed"),
+        nominal_speed=kw.pop("speed_rpm", None),
         pulses_per_rev=kw.pop("pulses_per_rev", 360.0),
-        inertia=inertia,
+        inertia=kw.pop("inertia", None),
         speed_cutoff_orders=kw.pop("speed_cutoff_orders", 20.0),
-        torque_role=kw.pop("torque_role", None) or machine.get("torque_role", "load"),
+        torque_role=kw.pop("torque_role", None),
         cs_mean=kw.pop("cs_mean", "cycle"),
         despike=not kw.pop("no_despike", False),
     )
@@ -666,73 +664,28 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
     and exits 0 (3 with --strict).
     """
     from torqlog.errors import CheckFailed, DataError, UsageError
-    from torqlog.flywheel import check_flywheel, design_flywheel, requirement_from_size
-    from torqlog.materials import custom_material, get_material
+    from torqlog.flywheel import flywheel_from_profile
     from torqlog.profile import load_profile
 
-    fw: dict[str, Any] = {}
-    mach: dict[str, Any] = {}
-    if profile_path:
-        prof = load_profile(profile_path)
-        fw, mach = prof.flywheel, prof.machine
-    ratio = mach.get("flywheel_speed_ratio")
-    size_info: dict[str, Any] = {}
+    prof = load_profile(profile_path) if profile_path else None
+    size = None
     if size_path:
         p = Path(size_path)
         if not p.is_file():
             raise UsageError(f"{p}: size result file does not exist")
         try:
-            data = json.loads(p.read_text(encoding="utf-8"))
+            size = json.loads(p.read_text(encoding="utf-8"))
         except (json.JSONDecodeError, UnicodeDecodeError) as exc:
             raise DataError(f"{p}: not a JSON file from 'torqlog size --format json' "
                             f"({exc})") from None
-        size_inertia, size_speed, size_info = requirement_from_size(data, str(p), ratio)
-        inertia = inertia if inertia is not None else size_inertia
-        speed = speed if speed is not None else size_speed
-    if speed is None and "speed" in mach:
-        speed = mach["speed"] * (ratio if ratio is not None else 1.0)
-    if speed is None:
-        raise UsageError("give --speed-rpm (or a --profile with [machine] speed_rpm, or "
-                         "--from-size)")
-
-    def pick(value: Any, key: str, default: Any = None) -> Any:
-        return value if value is not None else fw.get(key, default)
-
-    material = pick(material, "material")
-    if material is None:
-        raise UsageError(f"give --material; known: {', '.join(_material_names())}")
-    mat = get_material(material)
-    if any(v is not None for v in (density, strength, poisson, modulus)):
-        mat = custom_material(mat, density=density, modulus=modulus, poisson=poisson,
-                              strength=strength)
-    shape = pick(shape, "shape", "annular-disc")
-    outer_diameter = pick(outer_diameter, "outer_diameter")
-    bore = pick(bore, "bore", 0.0)
-    width = pick(width, "width")
-    max_width = pick(max_width, "max_width")
-    interference = pick(interference, "interference")
-    overspeed = pick(overspeed, "overspeed", 1.2)
-    common = dict(overspeed=overspeed, slowdown=slowdown, interference=interference,
-                  material_factor=material_factor)
-    if inertia is None:
-        if outer_diameter is None or width is None:
-            raise UsageError("give --inertia or --from-size to size a flywheel, or both "
-                             "--outer-diameter and --width to check a given one")
-        from torqlog.flywheel import DiscGeometry
-
-        rid = rim_inner_diameter
-        if shape == "rim" and rid is None and rim_depth is not None:
-            rid = outer_diameter - 2.0 * rim_depth
-        geometry = DiscGeometry(shape, outer_diameter, bore, width,
-                                rim_inner_diameter=rid, web_width=web_width)
-        result = check_flywheel(geometry, mat, speed, **common)
-    else:
-        result = design_flywheel(inertia, speed, mat, shape, outer_diameter, bore, width,
-                                 max_width, max_outer_diameter=max_outer_diameter,
-                                 rim_depth=rim_depth, rim_inner_diameter=rim_inner_diameter,
-                                 web_width=web_width, **common)
+    result = flywheel_from_profile(
+        prof, inertia=inertia, speed=speed, size=size, size_source=str(size_path),
+        material=material, shape=shape, outer_diameter=outer_diameter, bore=bore,
+        width=width, max_width=max_width, max_outer_diameter=max_outer_diameter,
+        rim_inner_diameter=rim_inner_diameter, rim_depth=rim_depth, web_width=web_width,
+        overspeed=overspeed, slowdown=slowdown, interference=interference, density=density,
+        strength=strength, poisson=poisson, modulus=modulus, material_factor=material_factor)
     data = result.to_dict()
-    data["options"].update(size_info)
     if profile_path:
         data["options"]["profile"] = profile_path
     if plot_path:
@@ -748,13 +701,18 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
             raise CheckFailed(f"flywheel check failed: {', '.join(data['failed'])}")
 
 
-def _material_names() -> list[str]:
-    from torqlog.materials import MATERIALS
-
-    return list(MATERIALS)
-
-
 # --- size
+def parse_quantile(text: str) -> float | str:
+    """The ``--quantile`` option: a number, or ``"max"``."""
+    from torqlog.errors import UsageError
+
+    try:
+        return "max" if text.strip().lower() == "max" else float(text)
+    except ValueError:
+        raise UsageError(f"--quantile: {text!r} is not a number in (0, 1] or 'max'") \
+            from None
+
+
 def _size_text(d: dict[str, Any], source: str) -> str:
     """Readable summary of a sizing result."""
     def kg(x: float | None) -> str:
@@ -817,40 +775,18 @@ def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quant
              motor_ratio: float | None, flywheel_speed_ratio: float | None, seed: int,
              plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
     """Flywheel inertia to reach a target Cs, with its interval and the motor's view."""
-    from torqlog.drive import MotorModel
     from torqlog.errors import UsageError
-    from torqlog.inertia import size_from_cycles, target_cs_for
+    from torqlog.inertia import size_log, size_log_dict
 
     res, profile = run_cycles(log, kw)
-    machine = profile.machine if profile is not None else {}
-    if target_cs is None and machine_class:
-        target_cs = target_cs_for(machine_class)
-    if target_cs is None:
-        target_cs = machine.get("target_cs")
-    if target_cs is None:
-        raise UsageError("give --target-cs X, --machine-class NAME or [machine] target_cs in "
-                         "the profile")
-    try:
-        q: float | str = "max" if quantile.strip().lower() == "max" else float(quantile)
-    except ValueError:
-        raise UsageError(f"--quantile: {quantile!r} is not a number in (0, 1] or 'max'") \
-            from None
-    motor_kw = dict(profile.motor) if profile is not None else {}
-    for key, value in (("power", motor_power), ("sync", sync_rpm), ("rated", rated_rpm),
-                       ("speed_ratio", motor_ratio)):
-        if value is not None:
-            motor_kw[key] = value
-    motor = MotorModel.from_profile(motor_kw) if motor_kw else None
-    ratio = flywheel_speed_ratio or machine.get("flywheel_speed_ratio", 1.0)
-    result = size_from_cycles(res.table, res.mean_cycle, target_cs=target_cs, quantile=q,
-                              existing_inertia=res.options["inertia"],
-                              flywheel_speed_ratio=ratio, motor=motor,
-                              revs_per_cycle=res.options["revs_per_cycle"], seed=seed,
-                              torque_role=res.options["torque_role"],
-                              speed=res.options.get("nominal_speed"))
-    data = result.to_dict()
-    data["source"] = res.source
-    data["cycle_options"] = res.options
+    q = parse_quantile(quantile)
+    motor = {"power": motor_power, "sync": sync_rpm, "rated": rated_rpm,
+             "speed_ratio": motor_ratio}
+    result = size_log(res, profile, target_cs=target_cs, machine_class=machine_class,
+                      quantile=q, motor=motor, flywheel_speed_ratio=flywheel_speed_ratio,
+                      seed=seed)
+    data = size_log_dict(result, res)
+    target_cs = result.target_cs
     if plot_path:
         from torqlog.plots import plot_drive_curve
 
@@ -911,3 +847,82 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
         Path(profile_out).write_text(demo_profile(log.machine), encoding="utf-8")
         line += f"; profile {profile_out}"
     click.echo(line)
+
+
+# --- report
+@cli.command("report")
+@click.argument("logs", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@cycle_options
+@click.option("--target-cs", type=float, default=None,
+              help="Target coefficient of speed fluctuation [default: the profile's].")
+@click.option("--quantile", default="0.95", show_default=True,
+              help="Design quantile of the per-cycle energy swing, or 'max'.")
+@click.option("-o", "--output", "output", type=click.Path(dir_okay=False),
+              default="report.html", show_default=True, help="HTML report to write.")
+@click.option("--pdf", "pdf_path", type=click.Path(dir_okay=False), default=None,
+              help="Also write the report as PDF (matplotlib; no browser needed).")
+@click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
+              help="Also keep the PNG figures in this folder.")
+def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, output: str,
+               pdf_path: str | None, figure_dir: str | None, **kw: Any) -> None:
+    """One self-contained HTML report from LOG(s) of one machine: inputs, measured state,
+    inertia recommendation, flywheel proposal, shaft checks, trends and cautions.
+
+    The first LOG is the design log (recommendation, flywheel, shaft); several logs with
+    start times also give the shift trend.
+    """
+    from torqlog.errors import UsageError
+    from torqlog.report import build_report, write_report
+
+    profile_path = kw.pop("profile", None)
+    if not profile_path:
+        raise UsageError("give --profile FILE: the report needs the machine profile")
+    profile = load_profile_opt(profile_path)
+    read = read_kwargs(kw)
+    opts = make_cycle_options(kw, profile)
+    data = build_report(list(logs), profile_path, cycle_options=opts, read=read,
+                        target_cs=target_cs, quantile=parse_quantile(quantile),
+                        figure_dir=figure_dir)
+    for why in data.skipped.values():
+        click.echo(f"note: {why}", err=True)
+    for path in write_report(data, output, pdf_path):
+        click.echo(f"wrote {path}", err=True)
+    click.echo(output)
+
+
+# --- demo
+@cli.command("demo")
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), default="torqlog-demo",
+              show_default=True, help="Folder to write the demo into.")
+def demo_cmd(out_dir: str) -> None:
+    """Run the whole chain on the invented Brindlemoor Works demo machines.
+
+    Writes their logs and profiles, each stage's JSON (inspect, cycles, size, flywheel,
+    shaft, trend), the figures and a report per machine into OUT, and prints the path of
+    the press report last.
+    """
+    from torqlog.demo import write_demo_inputs
+    from torqlog.report import build_report, write_report
+
+    reports = []
+    for run in write_demo_inputs(out_dir):
+        data = build_report(list(run.logs), run.profile, figure_dir=run.folder)
+        stages = data.stage_json()
+        for name in ("inspect", "cycles"):
+            for log, d in zip(run.logs, stages.pop(name), strict=True):
+                (run.folder / f"{name}_{log.stem}.json").write_text(to_json(d) + "\n",
+                                                                   encoding="utf-8")
+        for name, d in stages.items():
+            (run.folder / f"{name}.json").write_text(to_json(d) + "\n", encoding="utf-8")
+        html = run.folder / "report.html"
+        write_report(data, html, run.folder / "report.pdf" if run.key == "press" else None)
+        verdicts = ", ".join(f"{v['check']} {v['verdict']}" for v in data.verdicts())
+        click.echo(f"{data.machine} ({run.key}, {len(run.logs)} log(s), {run.dialect} "
+                   f"dialect): {verdicts or 'no checks'}", err=True)
+        for why in data.skipped.values():
+            click.echo(f"  note: {why}", err=True)
+        reports.append(html)
+    first = reports.pop(0)
+    for html in reports:
+        click.echo(f"report: {html}")
+    click.echo(f"report: {first}")

@@ -106,6 +106,49 @@ class CycleOptions:
             raise UsageError("pulses per rev must be positive")
 
 
+def options_from_profile(profile: Any = None, *, revs_per_cycle: int | None = None,
+                         cycle_source: str | None = None, nominal_speed: float | None = None,
+                         pulses_per_rev: float = 360.0, inertia: float | None = None,
+                         speed_cutoff_orders: float = DEFAULT_SPEED_CUTOFF_ORDERS,
+                         torque_role: str | None = None, cs_mean: str = "cycle",
+                         despike: bool = True) -> CycleOptions:
+    """Cycle options from given values, falling back on a machine profile's ``[machine]``.
+
+    A value given here wins; None takes the profile's (``revs_per_cycle``, ``speed_rpm``
+    as the nominal speed, ``inertia_kgm2``, ``torque_role``), then the default of
+    :class:`CycleOptions`. The CLI commands and the report build their options here.
+
+    Parameters
+    ----------
+    profile : MachineProfile, optional
+    revs_per_cycle : int, optional
+    cycle_source : str, optional
+    nominal_speed : float, optional [rad/s]
+    pulses_per_rev : float
+    inertia : float, optional [kg*m^2]
+    speed_cutoff_orders : float
+    torque_role : {"load", "drive"}, optional
+    cs_mean : {"cycle", "midrange"}
+    despike : bool
+
+    Returns
+    -------
+    CycleOptions
+    """
+    machine = profile.machine if profile is not None else {}
+    return CycleOptions(
+        revs_per_cycle=int(revs_per_cycle or machine.get("revs_per_cycle", 1)),
+        cycle_source=cycle_source,
+        nominal_speed=nominal_speed or machine.get("speed"),
+        pulses_per_rev=pulses_per_rev,
+        inertia=inertia or machine.get("inertia"),
+        speed_cutoff_orders=speed_cutoff_orders,
+        torque_role=torque_role or machine.get("torque_role", "load"),
+        cs_mean=cs_mean,
+        despike=despike,
+    )
+
+
 @dataclass(frozen=True)
 class CycleResult:
     """Everything the cycle stage found in one log.

@@ -976,3 +976,115 @@ def requirement_from_size(data: dict[str, Any], source: str = "<size result>",
     speed = number("speed_mean_rpm") * _RPM * ratio
     return required, speed, {"from_size": source, "inertia_key": key,
                              "flywheel_speed_ratio": float(ratio)}
+
+
+def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
+                          speed: float | None = None, size: dict[str, Any] | None = None,
+                          size_source: str = "<size result>", material: str | None = None,
+                          shape: str | None = None, outer_diameter: float | None = None,
+                          bore: float | None = None, width: float | None = None,
+                          max_width: float | None = None,
+                          max_outer_diameter: float | None = None,
+                          rim_inner_diameter: float | None = None,
+                          rim_depth: float | None = None, web_width: float | None = None,
+                          overspeed: float | None = None, slowdown: float | None = None,
+                          interference: float | None = None, density: float | None = None,
+                          strength: float | None = None, poisson: float | None = None,
+                          modulus: float | None = None,
+                          material_factor: float | None = None) -> FlywheelResult:
+    """Size or check a flywheel from given values over a profile and a sizing result.
+
+    What ``torqlog flywheel`` and the report both run. A value given here wins; None
+    takes the profile's ``[flywheel]`` value, then the default. The inertia and speed come
+    from the arguments, else from ``size`` (see :func:`requirement_from_size`), the speed
+    else from ``[machine] speed_rpm`` × ``flywheel_speed_ratio``. Without an inertia the
+    given geometry (``outer_diameter`` and ``width``) is checked.
+
+    Parameters
+    ----------
+    profile : MachineProfile, optional
+    inertia : float, optional [kg*m^2]
+        Required inertia at the flywheel shaft.
+    speed : float, optional [rad/s]
+        Operating speed of the flywheel shaft.
+    size : dict, optional
+        The JSON contract of ``torqlog size`` (:func:`torqlog.inertia.size_log_dict`).
+    size_source : str
+        Where ``size`` came from, for messages and ``options["from_size"]``.
+    material : str, optional
+        A name of :data:`torqlog.materials.MATERIALS`.
+    shape, outer_diameter, bore, width, max_width, max_outer_diameter,
+    rim_inner_diameter, rim_depth, web_width : [m] for lengths
+        See :func:`design_flywheel`.
+    overspeed, slowdown, interference, material_factor
+        See :func:`check_flywheel` (overspeed default 1.2).
+    density [kg/m^3], strength [Pa], poisson, modulus [Pa] : float, optional
+        Override the material's values.
+
+    Returns
+    -------
+    FlywheelResult
+        ``options`` also records where the inertia and speed came from.
+
+    Raises
+    ------
+    UsageError
+        No speed, no material, or neither an inertia nor a full geometry.
+
+    References
+    ----------
+    Timoshenko & Goodier, *Theory of Elasticity*, 3rd ed., section 32.
+    """
+    from torqlog.materials import MATERIALS, custom_material
+
+    fw = profile.flywheel if profile is not None else {}
+    mach = profile.machine if profile is not None else {}
+    ratio = mach.get("flywheel_speed_ratio")
+    size_info: dict[str, Any] = {}
+    if size is not None:
+        size_inertia, size_speed, size_info = requirement_from_size(size, size_source, ratio)
+        inertia = inertia if inertia is not None else size_inertia
+        speed = speed if speed is not None else size_speed
+    if speed is None and "speed" in mach:
+        speed = mach["speed"] * (ratio if ratio is not None else 1.0)
+    if speed is None:
+        raise UsageError("give --speed-rpm (or a --profile with [machine] speed_rpm, or "
+                         "--from-size)")
+
+    def pick(value: Any, key: str, default: Any = None) -> Any:
+        return value if value is not None else fw.get(key, default)
+
+    material = pick(material, "material")
+    if material is None:
+        raise UsageError(f"give --material; known: {', '.join(MATERIALS)}")
+    mat = get_material(material)
+    if any(v is not None for v in (density, strength, poisson, modulus)):
+        mat = custom_material(mat, density=density, modulus=modulus, poisson=poisson,
+                              strength=strength)
+    shape = pick(shape, "shape", "annular-disc")
+    outer_diameter = pick(outer_diameter, "outer_diameter")
+    bore = pick(bore, "bore", 0.0)
+    width = pick(width, "width")
+    max_width = pick(max_width, "max_width")
+    interference = pick(interference, "interference")
+    overspeed = pick(overspeed, "overspeed", 1.2)
+    common = dict(overspeed=overspeed, slowdown=slowdown, interference=interference,
+                  material_factor=material_factor)
+    if inertia is None:
+        if outer_diameter is None or width is None:
+            raise UsageError("give --inertia or --from-size to size a flywheel, or both "
+                             "--outer-diameter and --width to check a given one")
+        rid = rim_inner_diameter
+        if shape == "rim" and rid is None and rim_depth is not None:
+            rid = outer_diameter - 2.0 * rim_depth
+        geometry = DiscGeometry(shape, outer_diameter, bore, width,
+                                rim_inner_diameter=rid, web_width=web_width)
+        result = check_flywheel(geometry, mat, speed, **common)
+    else:
+        result = design_flywheel(inertia, speed, mat, shape, outer_diameter, bore, width,
+                                 max_width, max_outer_diameter=max_outer_diameter,
+                                 rim_depth=rim_depth, rim_inner_diameter=rim_inner_diameter,
+                                 web_width=web_width, **common)
+    if size_info:
+        result = replace(result, options={**result.options, **size_info})
+    return result

@@ -610,3 +610,87 @@ def _drive_block(mean_cycle: pd.DataFrame | None, motor: MotorModel,
         "curve": curve.to_dict(orient="records"),
     }
     return drive, curve
+
+
+def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None,
+             machine_class: str | None = None, quantile: float | str = 0.95,
+             motor: Mapping[str, float] | None = None,
+             flywheel_speed_ratio: float | None = None, seed: int = 0) -> SizeResult:
+    """Size a flywheel from the cycles of one log and a machine profile.
+
+    The values given here win over the profile's; this is what ``torqlog size`` and the
+    report both run, so their numbers agree.
+
+    Parameters
+    ----------
+    cycles : CycleResult
+        From :func:`torqlog.cycles.analyse_cycles`; its options give the existing inertia,
+        revs per cycle, torque role and nominal speed.
+    profile : MachineProfile, optional
+        ``[machine] target_cs`` and ``flywheel_speed_ratio``, and ``[motor]``.
+    target_cs : float, optional
+        Target coefficient of speed fluctuation; else from ``machine_class``, else the
+        profile.
+    machine_class : str, optional
+        A key of :data:`MACHINE_CLASSES` for the target.
+    quantile : float or "max"
+        Design quantile of the per-cycle energy swing.
+    motor : mapping, optional
+        Motor values over the profile's ``[motor]`` (SI keys ``power`` [W], ``sync``,
+        ``rated`` [rad/s], ``speed_ratio``); the drive is simulated when a motor results.
+    flywheel_speed_ratio : float, optional
+        Flywheel shaft speed / logged shaft speed (default: profile, else 1).
+    seed : int
+        Bootstrap seed.
+
+    Returns
+    -------
+    SizeResult
+
+    Raises
+    ------
+    UsageError
+        No target Cs anywhere; see also :func:`size_from_cycles`.
+
+    References
+    ----------
+    Shigley & Mischke, *Mechanical Engineering Design*, flywheel section.
+    """
+    machine = profile.machine if profile is not None else {}
+    if target_cs is None and machine_class:
+        target_cs = target_cs_for(machine_class)
+    if target_cs is None:
+        target_cs = machine.get("target_cs")
+    if target_cs is None:
+        raise UsageError("give --target-cs X, --machine-class NAME or [machine] target_cs in "
+                         "the profile")
+    motor_kw = dict(profile.motor) if profile is not None else {}
+    motor_kw.update({k: v for k, v in (motor or {}).items() if v is not None})
+    model = MotorModel.from_profile(motor_kw) if motor_kw else None
+    ratio = flywheel_speed_ratio or machine.get("flywheel_speed_ratio", 1.0)
+    o = cycles.options
+    return size_from_cycles(cycles.table, cycles.mean_cycle, target_cs=target_cs,
+                            quantile=quantile, existing_inertia=o["inertia"],
+                            flywheel_speed_ratio=ratio, motor=model,
+                            revs_per_cycle=o["revs_per_cycle"], seed=seed,
+                            torque_role=o["torque_role"], speed=o.get("nominal_speed"))
+
+
+def size_log_dict(result: SizeResult, cycles: Any) -> dict[str, Any]:
+    """The JSON contract of ``torqlog size``: the sizing plus the log and its cycle options.
+
+    Parameters
+    ----------
+    result : SizeResult
+        From :func:`size_log`.
+    cycles : CycleResult
+        The cycles it was sized from.
+
+    Returns
+    -------
+    dict
+    """
+    data = result.to_dict()
+    data["source"] = cycles.source
+    data["cycle_options"] = cycles.options
+    return data

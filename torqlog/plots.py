@@ -361,3 +361,136 @@ def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None
         ax.set_title("Speed fluctuation and motor torque against added flywheel inertia")
         fig.legend(handles=handles, loc="outside lower center", ncols=2)
     return save(fig, path)
+
+
+# --- report
+def plot_distributions(table: pd.DataFrame, path: str | Path, *,
+                       target_cs: float | None = None, quantile: float | str = 0.95,
+                       title: str | None = None) -> Path:
+    """Histograms of the per-cycle energy swing ΔE and coefficient of speed fluctuation
+    Cs over the clean cycles of a log, with the median and the design quantile marked.
+
+    Parameters
+    ----------
+    table : DataFrame
+        Per-cycle table of :func:`torqlog.cycles.analyse_cycles` (``energy_swing_J``,
+        ``cs``, ``flag``).
+    path : str or Path
+        PNG file to write.
+    target_cs : float, optional
+        Target Cs, drawn as a limit line on the Cs panel.
+    quantile : float or "max"
+        Design quantile of ΔE (marked on the ΔE panel).
+    title : str, optional
+        Figure title.
+    """
+    import numpy as np
+
+    clean = table[table["flag"] == ""]
+    panels = (("energy_swing_J", 1e-3, "energy swing ΔE per cycle [kJ]", "Energy swing ΔE",
+               "no energy swing: the log has no torque (and no inertia was given)"),
+              ("cs", 1.0, "coefficient of speed fluctuation Cs per cycle [–]",
+               "Speed fluctuation Cs", "no Cs: the log has no speed, angle or encoder"))
+    fig, axes = new_figure(1, 2, height=3.6, width=10.0)
+    if title:
+        fig.suptitle(title, fontweight="bold")
+    for ax, (col, scale, xlabel, name, missing) in zip(axes, panels, strict=True):
+        x = clean[col].to_numpy(dtype=float) * scale
+        x = x[np.isfinite(x)]
+        ax.set_xlabel(xlabel)
+        ax.set_ylabel("cycles [count]")
+        if x.size == 0:
+            ax.text(0.5, 0.5, missing, transform=ax.transAxes, ha="center", va="center",
+                    color=PALETTE["reference"], wrap=True)
+            ax.set_yticks([])
+            ax.set_xticks([])
+            ax.set_title(name)
+            continue
+        spread = float(np.ptp(x))
+        bins = max(5, min(40, int(np.sqrt(x.size)) * 2))
+        rng = None if spread > 1e-9 * max(abs(float(x.mean())), 1e-300) else \
+            (float(x[0]) * 0.99, float(x[0]) * 1.01 + 1e-12)
+        ax.hist(x, bins=bins, range=rng, color=PALETTE["band"], edgecolor=PALETTE["data"],
+                lw=0.6, label=f"{x.size} clean cycles")
+        med = float(np.median(x))
+        ax.axvline(med, color=PALETTE["data"], lw=1.8, label=f"median {med:.4g}")
+        if col == "energy_swing_J":
+            qv = float(np.max(x)) if quantile == "max" else float(np.quantile(x, float(quantile)))
+            qlabel = "max" if quantile == "max" else f"p{100 * float(quantile):g}"
+            ax.axvline(qv, color=PALETTE["mean"], lw=1.8, ls="--",
+                       label=f"design {qlabel} {qv:.4g}")
+        elif target_cs is not None:
+            span = max(spread, 1e-3 * abs(med))
+            if x.min() - 3 * span <= target_cs <= x.max() + 3 * span:
+                ax.axvline(target_cs, color=PALETTE["limit"], lw=1.5, ls="--",
+                           label=f"target Cs {target_cs:g}")
+            else:  # far off: say so rather than squash the histogram
+                side = "left" if target_cs < x.min() else "right"
+                ax.plot([], [], color=PALETTE["limit"], lw=1.5, ls="--",
+                        label=f"target Cs {target_cs:g} (off scale, {side})")
+                ax.annotate("", xy=(0.0 if side == "left" else 1.0, 0.5),
+                            xytext=(0.1 if side == "left" else 0.9, 0.5),
+                            xycoords="axes fraction",
+                            arrowprops={"arrowstyle": "->", "color": PALETTE["limit"],
+                                        "lw": 1.5})
+        ax.set_title(f"{name} over the clean cycles")
+        ax.legend(loc="upper left", frameon=True, framealpha=0.9, edgecolor=PALETTE["grid"])
+        ax.set_ylim(top=ax.get_ylim()[1] * 1.35)
+    return save(fig, path)
+
+
+def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float = 0.05,
+                        speed_rpm: float | None = None, max_order: float = 24.0,
+                        title: str | None = None) -> Path:
+    """Bar chart of the torque's order spectrum (amplitude by order of the shaft speed).
+
+    Parameters
+    ----------
+    spectrum : OrderSpectrum
+        From :func:`torqlog.spectrum.order_spectrum`.
+    path : str or Path
+        PNG file to write.
+    min_share : float
+        Orders with at least this share of the dynamic torque are drawn in full colour
+        (the ones the shaft check holds against the torsional modes).
+    speed_rpm : float, optional
+        Shaft speed, to label the top axis in Hz.
+    max_order : float
+        Highest order drawn.
+    title : str, optional
+    """
+    import numpy as np
+
+    visible = spectrum.order[spectrum.share >= 0.01]
+    top_order = min(max_order, float(visible.max()) * 1.25 if visible.size else max_order)
+    keep = spectrum.order <= top_order
+    order, amp, share = spectrum.order[keep], spectrum.amplitude[keep], spectrum.share[keep]
+    sig = share >= min_share
+    fig, ax = new_figure(height=3.6, width=10.0)
+    width = 0.35 / max(1, spectrum.revs_per_cycle) * 2
+    ax.bar(order[sig], amp[sig] / 1e3, width=width, color=PALETTE["data"],
+           label=f"significant (share ≥ {min_share:g} of the dynamic torque)")
+    ax.bar(order[~sig], amp[~sig] / 1e3, width=width, color=PALETTE["band"],
+           label="minor")
+    for o, a, s in zip(order[sig][:16], amp[sig][:16], share[sig][:16], strict=True):
+        ax.annotate(f"{s:.2f}", (o, a / 1e3), textcoords="offset points", xytext=(0, 3),
+                    ha="center", fontsize=7, rotation=90 if len(order) > 16 else 0,
+                    va="bottom", color=PALETTE["data"])
+    ax.set_xlabel("order of the shaft speed [–]")
+    ax.set_ylabel("torque amplitude [kN·m]")
+    step = 1.0 / spectrum.revs_per_cycle
+    ax.set_xlim(0, (order.max() if order.size else 1.0) + step)
+    top = float(amp.max()) / 1e3 if amp.size else 1.0
+    ax.set_ylim(0, top * 1.3 if top > 0 else 1.0)
+    ax.set_title(title or f"Order spectrum of the mean-cycle torque (mean torque "
+                 f"{spectrum.mean / 1e3:.3g} kN·m)")
+    ax.plot([], [], ls="none", label="numbers on bars: share of the dynamic torque")
+    if speed_rpm:
+        hz = speed_rpm / 60.0
+        sec = ax.secondary_xaxis("top", functions=(lambda o: o * hz, lambda f: f / hz))
+        sec.set_xlabel(f"frequency at {speed_rpm:.4g} rpm [Hz]")
+    ax.legend(loc="upper right")
+    if np.all(~sig):
+        ax.text(0.5, 0.5, "no significant order", transform=ax.transAxes, ha="center",
+                color=PALETTE["reference"])
+    return save(fig, path)
