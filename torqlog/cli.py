@@ -548,6 +548,10 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
                     "cycle_source": cycles.options["cycle_source"], "revs_per_cycle": revs,
                     "speed_mean_rpm": mean_rpm, "running_speed_from": speed_from,
                     "notes": list(cycles.notes)}
+    if flywheel_file is not None and add_inertia is not None:
+        # the flywheel JSON gives the inertia on its own shaft; the torsional chain is
+        # referred to the logged shaft: I·r² (kinetic energy kept)
+        add_inertia *= float(profile.machine.get("flywheel_speed_ratio", 1.0)) ** 2
     result = check_shaft(profile, speed=speed, orders=spectrum, add_mass=add_mass,
                          add_mass_at=add_mass_at, add_inertia=add_inertia,
                          add_inertia_at=add_inertia_at, required_ratio=required_ratio,

@@ -279,7 +279,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
     from torqlog.inertia import size_log, size_log_dict
     from torqlog.profile import load_profile
     from torqlog.shaft import check_shaft
-    from torqlog.spectrum import order_spectrum
+    from torqlog.spectrum import mean_cycle_spectrum
     from torqlog.survey import survey_log
 
     prof = load_profile(profile_path)
@@ -320,8 +320,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
     has_torque = "torque" in design.layout.roles and \
         bool(np.isfinite(design.mean_cycle["torque_mean"].to_numpy(float)).all())
     if has_torque:
-        spectrum = order_spectrum(design.mean_cycle["torque_mean"].to_numpy(float),
-                                  int(design.options["revs_per_cycle"]))
+        spectrum = mean_cycle_spectrum(design)
         min_share = prof.torsional.get("min_share", 0.05)
         figures.append(_figure(
             "spectrum", "measured", "Order spectrum of the torque",

@@ -721,7 +721,9 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         Orders of the shaft speed present in the torque (see
         :func:`torqlog.torsion.torsional_check`).
         The lateral forcing is the highest significant order times the speed, at least
-        the speed itself (1×, unbalance).
+        the running speed of the ``[shaft]`` itself (1×, unbalance), which turns at
+        ``[machine] flywheel_speed_ratio`` × ``speed`` (the shaft described is the one that
+        carries the flywheel).
     add_mass : float, optional [kg]
         A part added to the shaft (e.g. a flywheel).
     add_mass_at : float, optional [m]
@@ -764,9 +766,13 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     o, _, orders_source = significant_orders(orders, min_share, revs)
     forcing_order = float(max(1.0, o.max() if len(o) else 1.0))
     speed_hz = speed / (2 * math.pi)
+    # [shaft] describes the shaft that carries the flywheel, turning at
+    # flywheel_speed_ratio × the logged speed: its own 1× (unbalance) is a forcing too
+    shaft_ratio = float(profile.machine.get("flywheel_speed_ratio", 1.0))
+    lateral_forcing_hz = max(forcing_order, shaft_ratio) * speed_hz
 
     def state(m: ShaftModel, c: TorsionalChain | None) -> ShaftState:
-        lat = lateral_check(m, forcing_order * speed_hz, required_ratio,
+        lat = lateral_check(m, lateral_forcing_hz, required_ratio,
                             include_self_weight=self_weight)
         tor = (torsional_check(c, orders, speed, band, min_share, revs_per_cycle=revs)
                if c is not None else None)
@@ -812,6 +818,7 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         "revs_per_cycle": revs, "required_ratio": required_ratio, "band": band,
         "min_share": min_share, "self_weight": self_weight,
         "orders_source": orders_source, "forcing_order": forcing_order,
+        "shaft_speed_ratio": shaft_ratio,
         "material": material or profile.shaft.get("material", "steel"),
         "modulus_GPa": model.modulus / 1e9, "density_kg_per_m3": model.density,
         "supports": "simple (rigid)", "lateral_mass": "consistent shaft mass + point masses",
