@@ -19,21 +19,28 @@ from torqlog.cli import cli
 DATA = Path(__file__).parent / "data"
 PROFILE = DATA / "shaft_profile.toml"
 
-SIMPLE = """\
+
+def _two_disc_rig(name, speed_rpm, diameter, part, stiffness):
+    """Profile of a 1 m steel shaft on two end bearings with a 50 kg part at mid-span,
+    and a two-disc torsional chain (motor and part, 2 kg*m^2 each)."""
+    return f"""\
 [machine]
-name = "Test rig 2, Brindlemoor Works"
-speed_rpm = 300.0
+name = "{name}"
+speed_rpm = {speed_rpm!r}
 
 [shaft]
 bearings_m = [0.0, 1.0]
-segments = [ { length_m = 1.0, diameter_m = 0.05 } ]
-masses = [ { name = "disc", mass_kg = 50.0, at_m = 0.5 } ]
+segments = [ {{ length_m = 1.0, diameter_m = {diameter!r} }} ]
+masses = [ {{ name = "{part}", mass_kg = 50.0, at_m = 0.5 }} ]
 
 [torsional]
-names = ["motor", "disc"]
+names = ["motor", "{part}"]
 inertias_kgm2 = [2.0, 2.0]
-stiffness_Nm_per_rad = [1.0e5]
+stiffness_Nm_per_rad = [{stiffness!r}]
 """
+
+
+SIMPLE = _two_disc_rig("Test rig 2, Brindlemoor Works", 300.0, 0.05, "disc", 1.0e5)
 
 
 def _run(*args):
@@ -182,25 +189,9 @@ def test_unknown_inertia_element():
 
 
 # ----------------------------------------------------------------- --log
-RIG = """\
-[machine]
-name = "Compressor 3, Brindlemoor Works"
-speed_rpm = 450.0
-
-[shaft]
-bearings_m = [0.0, 1.0]
-segments = [ { length_m = 1.0, diameter_m = 0.1 } ]
-masses = [ { name = "flywheel", mass_kg = 50.0, at_m = 0.5 } ]
-
-[torsional]
-names = ["motor", "flywheel"]
-inertias_kgm2 = [2.0, 2.0]
-stiffness_Nm_per_rad = [STIFFNESS]
-"""
-
-
 def _rig(stiffness):
-    return RIG.replace("STIFFNESS", repr(float(stiffness)))
+    return _two_disc_rig("Compressor 3, Brindlemoor Works", 450.0, 0.1, "flywheel",
+                         float(stiffness))
 
 
 def _write_log(path, rpm=600.0, rate=3600.0, seconds=2.0, torque=True):

@@ -14,19 +14,17 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_bvp
 
+from torqlog.discs import disc_stresses, rim_hoop_stress, stepped_disc_stresses
 from torqlog.errors import DataError, UsageError
 from torqlog.flywheel import (
     CAUTIONS,
     DiscGeometry,
     check_flywheel,
     design_flywheel,
-    disc_stresses,
     inertia,
     mass,
     requirement_from_size,
-    rim_hoop_stress,
     solve_geometry,
-    stepped_disc_stresses,
 )
 from torqlog.materials import get_material
 

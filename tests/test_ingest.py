@@ -47,6 +47,15 @@ def write(tmp_path, name, text, encoding="utf-8"):
     return p
 
 
+def read_error(tmp_path, name, text, error=DataError, **options):
+    """Write ``text`` to ``name`` and read it; the file and the message of the ``error``
+    the reader raises."""
+    p = write(tmp_path, name, text)
+    with pytest.raises(error) as err:
+        read_log(p, **options)
+    return p, str(err.value)
+
+
 def rows(delim=",", decimal=".", t=T, tq=TQ, sp=SP):
     out = []
     for a, b, c in zip(t, tq, sp, strict=True):
@@ -173,10 +182,8 @@ def test_units_in_header(tmp_path, header, role, values, si):
 
 def test_foreign_names_need_the_role_option(tmp_path):
     text = "Zeit [s];Drehmoment [kN·m];Drehzahl [1/min]\n0;1,5;100\n0,001;2,5;101\n"
-    p = write(tmp_path, "de.csv", text)
-    with pytest.raises(DataError) as err:
-        read_log(p)
-    assert str(err.value) == (
+    p, msg = read_error(tmp_path, "de.csv", text)
+    assert msg == (
         f"{p}: no torque, speed, angle, index or counts column found among Zeit [s], "
         "Drehmoment [kN·m], Drehzahl [1/min]; name them with --torque COL, --speed COL, ...")
     # the full header text, or the name without its unit, selects the column
@@ -189,11 +196,9 @@ def test_foreign_names_need_the_role_option(tmp_path):
 
 
 def test_role_option_naming_a_missing_column(tmp_path):
-    p = write(tmp_path, "de.csv", "Zeit [s];Drehmoment\n0;1\n1;2\n")
-    with pytest.raises(UsageError) as err:
-        read_log(p, roles={"torque": "Moment"})
-    assert str(err.value) == (f"--torque 'Moment': no such column in {p}; columns are: "
-                              "Zeit [s], Drehmoment")
+    p, msg = read_error(tmp_path, "de.csv", "Zeit [s];Drehmoment\n0;1\n1;2\n", UsageError,
+                        roles={"torque": "Moment"})
+    assert msg == f"--torque 'Moment': no such column in {p}; columns are: Zeit [s], Drehmoment"
 
 
 # ----------------------------------------------------------------------- time bases
@@ -245,11 +250,9 @@ def test_iso_timestamps_with_offset_in_a_later_column(tmp_path):
 
 
 def test_sample_index_with_rate_option(tmp_path):
-    p = write(tmp_path, "idx.csv", "sample,torque_Nm\n0,1\n1,2\n2,3\n")
-    with pytest.raises(DataError) as err:
-        read_log(p)
-    assert str(err.value) == (f"{p}: time column 'sample' is a sample number and no rate is "
-                              "given; give --rate HZ or a 'Rate: ... Hz' line")
+    p, msg = read_error(tmp_path, "idx.csv", "sample,torque_Nm\n0,1\n1,2\n2,3\n")
+    assert msg == (f"{p}: time column 'sample' is a sample number and no rate is given; "
+                   "give --rate HZ or a 'Rate: ... Hz' line")
     rec = read_log(p, rate=2000.0)
     np.testing.assert_allclose(rec.time, [0.0, 0.0005, 0.001], rtol=1e-12)
     assert rec.rate == 2000.0
@@ -320,12 +323,9 @@ def test_unknown_role_and_bad_unit_option(tmp_path):
 
 
 def test_unknown_unit_in_header_names_it(tmp_path):
-    p = write(tmp_path, "bad.csv", "time [s],torque [blorp]\n0,1\n1,2\n")
-    with pytest.raises(DataError) as err:
-        read_log(p)
-    assert str(err.value) == (f"{p}: column 'torque [blorp]': unknown unit 'blorp' for "
-                              "torque; write it as e.g. 'kN*m'; fix the header or give "
-                              "--torque-unit")
+    p, msg = read_error(tmp_path, "bad.csv", "time [s],torque [blorp]\n0,1\n1,2\n")
+    assert msg == (f"{p}: column 'torque [blorp]': unknown unit 'blorp' for torque; write it "
+                   "as e.g. 'kN*m'; fix the header or give --torque-unit")
 
 
 # ----------------------------------------------------------------------- containers, encodings
@@ -395,11 +395,10 @@ def test_missing_values_become_nan(tmp_path):
 def test_text_in_a_numeric_column_names_line_and_column(tmp_path, where, line):
     data = [f"{k / 1000},{k % 17},{60 + k % 3}" for k in range(300)]
     data[where] = f"{where / 1000},oops,60"
-    p = write(tmp_path, "txt.csv", "time_s,torque_Nm,speed_rpm\n" + "\n".join(data) + "\n")
-    with pytest.raises(DataError) as err:
-        read_log(p)
-    assert str(err.value) == (f"{p}: line {line}, column 'torque_Nm': 'oops' is not a number; "
-                              "fix the value or remove the row")
+    p, msg = read_error(tmp_path, "txt.csv",
+                        "time_s,torque_Nm,speed_rpm\n" + "\n".join(data) + "\n")
+    assert msg == (f"{p}: line {line}, column 'torque_Nm': 'oops' is not a number; fix the "
+                   "value or remove the row")
 
 
 def test_unit_row_with_a_dimensionless_1(tmp_path):
@@ -414,29 +413,24 @@ def test_unit_row_with_a_dimensionless_1(tmp_path):
 
 def test_text_in_the_first_row_under_a_unit_row(tmp_path):
     text = "time,torque,speed,pulse\ns,kN*m,rpm,1\n0,abc,100,0\n0.1,2,100,1\n0.2,3,100,0\n"
-    p = write(tmp_path, "u2.csv", text)
-    with pytest.raises(DataError) as err:
-        read_log(p)
-    assert str(err.value) == (f"{p}: line 3, column 'torque': 'abc' is not a number; fix the "
-                              "value or remove the row")
+    p, msg = read_error(tmp_path, "u2.csv", text)
+    assert msg == (f"{p}: line 3, column 'torque': 'abc' is not a number; fix the value or "
+                   "remove the row")
 
 
 def test_bad_timestamp_names_line(tmp_path):
     text = ("timestamp,torque_Nm\n2026-03-02T06:00:00.000,1\n2026-03-02T06:00:00.001,2\n"
             "later,3\n2026-03-02T06:00:00.003,4\n")
-    p = write(tmp_path, "ts.csv", text)
-    with pytest.raises(DataError) as err:
-        read_log(p)
-    assert str(err.value) == (f"{p}: line 4, column 'timestamp': 'later' is not an ISO-8601 "
-                              "timestamp; fix the value or remove the row")
+    p, msg = read_error(tmp_path, "ts.csv", text)
+    assert msg == (f"{p}: line 4, column 'timestamp': 'later' is not an ISO-8601 timestamp; "
+                   "fix the value or remove the row")
 
 
 def test_row_with_too_few_fields(tmp_path):
-    p = write(tmp_path, "short.csv", "time_s,torque_Nm,speed_rpm\n0,1,60\n0.1,2\n0.2,3,60\n")
-    with pytest.raises(DataError) as err:
-        read_log(p)
-    assert str(err.value) == (f"{p}: a row has 2 fields where the header has 3: '0.1,2'; "
-                              "fix or remove that row")
+    p, msg = read_error(tmp_path, "short.csv",
+                        "time_s,torque_Nm,speed_rpm\n0,1,60\n0.1,2\n0.2,3,60\n")
+    assert msg == (f"{p}: a row has 2 fields where the header has 3: '0.1,2'; fix or remove "
+                   "that row")
 
 
 # ----------------------------------------------------------------------- chunked reading

@@ -21,15 +21,13 @@ from scipy.signal import correlate
 
 from torqlog.cli import cli
 from torqlog.errors import UsageError
+from torqlog.machines import MACHINES, get_machine, slider_crank
 from torqlog.profile import load_profile
 from torqlog.simulate import (
-    MACHINES,
     SimulatedLog,
     demo_profile,
-    get_machine,
     motion_table,
     simulate,
-    slider_crank,
     write_log,
 )
 

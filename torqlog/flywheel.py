@@ -1,4 +1,6 @@
-"""Flywheel geometry, rotating-disc stresses, burst margin and shrink-fit check.
+"""Flywheel geometry, burst margin, rim speed and shrink-fit check, and flywheel design.
+
+The rotating-disc stress theory these checks use lives in :mod:`torqlog.discs`.
 
 Model
 -----
@@ -54,6 +56,14 @@ import numpy as np
 import pandas as pd
 from scipy.optimize import brentq
 
+from torqlog.discs import (
+    max_principal,
+    profile_radii,
+    rim_hoop_stress,
+    step_constants,
+    step_stresses,
+    von_mises,
+)
 from torqlog.errors import DataError, UsageError
 from torqlog.materials import Material, get_material
 
@@ -337,171 +347,6 @@ def solve_geometry(required_inertia: float, material: Material | str, shape: str
     return make(od, width)
 
 
-# --------------------------------------------------------------------------- stresses
-def disc_stresses(radius: np.ndarray | float, speed: float, outer_radius: float,
-                  inner_radius: float, density: float,
-                  poisson: float) -> tuple[np.ndarray, np.ndarray]:
-    """Radial and tangential stress in a rotating disc of uniform thickness.
-
-    Plane stress, free outer edge and free bore; a solid disc when ``inner_radius == 0``:
-
-    * solid:   s_r = (3+nu)/8 rho w^2 (b^2 - r^2),
-      s_t = (3+nu)/8 rho w^2 b^2 - (1+3nu)/8 rho w^2 r^2
-    * annulus: s_r = (3+nu)/8 rho w^2 (a^2 + b^2 - a^2 b^2 / r^2 - r^2),
-      s_t = (3+nu)/8 rho w^2 (a^2 + b^2 + a^2 b^2 / r^2) - (1+3nu)/8 rho w^2 r^2
-
-    Parameters
-    ----------
-    radius : array [m]
-        Radii to evaluate, within ``[inner_radius, outer_radius]``.
-    speed : float [rad/s]
-    outer_radius, inner_radius : float [m]
-    density : float [kg/m^3]
-    poisson : float [-]
-
-    Returns
-    -------
-    (radial, tangential) : arrays [Pa]
-
-    References
-    ----------
-    .. [1] Timoshenko & Goodier, Theory of Elasticity, 3rd ed., section 32, eqs. for the
-       rotating solid disk and the disk with a central hole.
-    .. [2] Roark's Formulas for Stress and Strain, 7th ed., Table 16.2, cases 1 and 2.
-    """
-    r = np.asarray(radius, dtype=float)
-    a, b = float(inner_radius), float(outer_radius)
-    if not 0 <= a < b:
-        raise UsageError(f"inner radius ({a:g} m) must be at least 0 and smaller than the "
-                         f"outer radius ({b:g} m)")
-    if np.any(r < a * (1 - 1e-12)) or np.any(r > b * (1 + 1e-12)):
-        raise UsageError(f"radius must lie between {a:g} m and {b:g} m")
-    k = density * speed ** 2
-    c = (3.0 + poisson) / 8.0 * k
-    d = (1.0 + 3.0 * poisson) / 8.0 * k
-    if a == 0.0:
-        return c * (b ** 2 - r ** 2), c * b ** 2 - d * r ** 2
-    return (c * (a ** 2 + b ** 2 - a ** 2 * b ** 2 / r ** 2 - r ** 2),
-            c * (a ** 2 + b ** 2 + a ** 2 * b ** 2 / r ** 2) - d * r ** 2)
-
-
-def rim_hoop_stress(density: float, rim_speed: float) -> float:
-    """Hoop stress of a thin rotating ring, s = rho v^2.
-
-    Parameters
-    ----------
-    density : float [kg/m^3]
-    rim_speed : float [m/s]
-
-    Returns
-    -------
-    float [Pa]
-
-    References
-    ----------
-    .. [1] Timoshenko, Strength of Materials Part I, rotating ring (hoop stress rho v^2).
-    """
-    return density * rim_speed ** 2
-
-
-def _step_constants(edges: np.ndarray, widths: np.ndarray, speed: float, density: float,
-                    poisson: float, bore_pressure: float) -> tuple[np.ndarray, np.ndarray]:
-    """Constants (A_j, B_j) of s_r = A - B/r^2 - (3+nu) k r^2/8 in each uniform step."""
-    n = len(widths)
-    k = density * speed ** 2
-    nu = poisson
-    scale = edges[-1] ** 2  # B_j = Bs_j * scale, keeps the system well scaled
-
-    def rows(r: float) -> tuple[np.ndarray, float, np.ndarray, float]:
-        # coefficient rows on (A, Bs) and constant part of s_r and s_t at radius r
-        return (np.array([1.0, -scale / r ** 2]), -(3.0 + nu) * k * r ** 2 / 8.0,
-                np.array([1.0, scale / r ** 2]), -(1.0 + 3.0 * nu) * k * r ** 2 / 8.0)
-
-    m = np.zeros((2 * n, 2 * n))
-    rhs = np.zeros(2 * n)
-    if edges[0] == 0.0:
-        m[0, 1] = 1.0  # solid centre: B = 0 keeps the stresses finite
-    else:
-        sr, sr0, _, _ = rows(edges[0])
-        m[0, 0:2] = sr
-        rhs[0] = -bore_pressure - sr0
-    for j in range(1, n):  # interfaces: radial force and displacement continuous
-        c = edges[j]
-        sr, sr0, st, st0 = rows(c)
-        row = 2 * j - 1
-        m[row, 2 * j - 2:2 * j] = widths[j - 1] * sr
-        m[row, 2 * j:2 * j + 2] = -widths[j] * sr
-        rhs[row] = -(widths[j - 1] - widths[j]) * sr0
-        m[row + 1, 2 * j - 2:2 * j] = st - nu * sr
-        m[row + 1, 2 * j:2 * j + 2] = -(st - nu * sr)
-    sr, sr0, _, _ = rows(edges[-1])
-    m[-1, -2:] = sr
-    rhs[-1] = -sr0
-    x = np.linalg.solve(m, rhs)
-    return x[0::2], x[1::2] * scale
-
-
-def stepped_disc_stresses(radius: np.ndarray | float, speed: float, edges: np.ndarray,
-                          widths: np.ndarray, density: float, poisson: float,
-                          bore_pressure: float = 0.0) -> tuple[np.ndarray, np.ndarray]:
-    """Stresses in a rotating disc made of uniform-thickness steps.
-
-    In each step s_r = A - B/r^2 - (3+nu) rho w^2 r^2 / 8 and
-    s_t = A + B/r^2 - (1+3nu) rho w^2 r^2 / 8 (the general uniform-disc solution); the
-    constants follow from a free outer edge, the bore pressure (or a finite centre) and,
-    at each step, continuity of the radial force per unit circumference (width x s_r) and
-    of the radial displacement u = r (s_t - nu s_r) / E. One material throughout.
-
-    Parameters
-    ----------
-    radius : array [m]
-        Radii; a radius on a step boundary takes the outer step's values.
-    speed : float [rad/s]
-    edges : array [m]
-        Step boundaries, increasing, from the bore (0 for a solid centre) to the outside.
-    widths : array [m]
-        Axial thickness of each step (``len(edges) - 1`` values).
-    density : float [kg/m^3]
-    poisson : float [-]
-    bore_pressure : float [Pa]
-        Pressure on the bore (shrink fit), compressive positive.
-
-    Returns
-    -------
-    (radial, tangential) : arrays [Pa]
-
-    References
-    ----------
-    .. [1] Timoshenko, Strength of Materials Part II, 3rd ed., rotating disks of variable
-       thickness (stepped approximation).
-    .. [2] Timoshenko & Goodier, Theory of Elasticity, 3rd ed., section 32.
-    """
-    edges = np.asarray(edges, dtype=float)
-    widths = np.asarray(widths, dtype=float)
-    a_c, b_c = _step_constants(edges, widths, speed, density, poisson, bore_pressure)
-    r = np.asarray(radius, dtype=float)
-    j = np.clip(np.searchsorted(edges, r, side="right") - 1, 0, len(widths) - 1)
-    return _stress_at(r, a_c[j], b_c[j], density * speed ** 2, poisson)
-
-
-def _stress_at(r: np.ndarray, a_c: np.ndarray, b_c: np.ndarray, k: float,
-               nu: float) -> tuple[np.ndarray, np.ndarray]:
-    with np.errstate(divide="ignore", invalid="ignore"):
-        inv = np.where(r > 0, b_c / np.where(r > 0, r, 1.0) ** 2, 0.0)
-    return (a_c - inv - (3.0 + nu) * k * r ** 2 / 8.0,
-            a_c + inv - (1.0 + 3.0 * nu) * k * r ** 2 / 8.0)
-
-
-def von_mises(radial: np.ndarray, tangential: np.ndarray) -> np.ndarray:
-    """Plane-stress von Mises stress sqrt(s_r^2 - s_r s_t + s_t^2) [Pa]."""
-    return np.sqrt(radial ** 2 - radial * tangential + tangential ** 2)
-
-
-def max_principal(radial: np.ndarray, tangential: np.ndarray) -> np.ndarray:
-    """Largest principal stress in plane stress, max(s_r, s_t, 0) [Pa]."""
-    return np.maximum(np.maximum(radial, tangential), 0.0)
-
-
 # --------------------------------------------------------------------------- result
 @dataclass(frozen=True)
 class Check:
@@ -639,21 +484,6 @@ class FlywheelResult:
 
 
 # --------------------------------------------------------------------------- checks
-def _profile_radii(edges: np.ndarray, a_c: np.ndarray, b_c: np.ndarray, k: float,
-                   nu: float, points: int = 241) -> tuple[np.ndarray, np.ndarray]:
-    """Radii per step (both ends included) plus the radial-stress maximum of each step."""
-    rs, js = [], []
-    for j in range(len(a_c)):
-        r = np.linspace(edges[j], edges[j + 1], points)
-        if b_c[j] > 0 and k > 0:  # d s_r / dr = 0 at r^4 = 8 B / ((3+nu) k)
-            r_star = (8.0 * b_c[j] / ((3.0 + nu) * k)) ** 0.25
-            if edges[j] < r_star < edges[j + 1]:
-                r = np.sort(np.append(r, r_star))
-        rs.append(r)
-        js.append(np.full(r.size, j))
-    return np.concatenate(rs), np.concatenate(js)
-
-
 def _validate_speed(speed: float) -> None:
     if not (math.isfinite(speed) and speed > 0):
         raise UsageError(f"speed must be positive, got {speed / _RPM:g} rpm "
@@ -728,12 +558,11 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
     rho, nu, e = mat.density, mat.poisson, mat.modulus
     crit_fn = von_mises if criterion == "von-mises" else max_principal
     edges, widths = geometry.steps()
-    k = rho * speed ** 2
 
     # rotational stresses at the operating speed
-    a_c, b_c = _step_constants(edges, widths, speed, rho, nu, 0.0)
-    radius, step = _profile_radii(edges, a_c, b_c, k, nu)
-    s_r, s_t = _stress_at(radius, a_c[step], b_c[step], k, nu)
+    a_c, b_c = step_constants(edges, widths, speed, rho, nu, 0.0)
+    radius, step = profile_radii(edges, a_c, b_c, speed, rho, nu)
+    s_r, s_t = step_stresses(radius, a_c[step], b_c[step], speed, rho, nu)
     crit = crit_fn(s_r, s_t)
     i_crit = int(np.argmax(crit))
     stress_critical = float(crit[i_crit])
@@ -781,8 +610,8 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
         a = geometry.inner_radius
         # hub: bore growth from rotation (free bore) and per unit bore pressure
         hub_rot = a * s_t[0] / e
-        a_p, b_p = _step_constants(edges, widths, 0.0, rho, nu, 1.0)
-        p_r, p_t = _stress_at(radius, a_p[step], b_p[step], 0.0, nu)
+        a_p, b_p = step_constants(edges, widths, 0.0, rho, nu, 1.0)
+        p_r, p_t = step_stresses(radius, a_p[step], b_p[step], 0.0, rho, nu)
         hub_per_p = a * (p_t[0] - nu * p_r[0]) / e
         # solid shaft: growth from rotation (solid disc at r = a) and per unit pressure
         shaft_rot = a * (1.0 - shaft.poisson) / 4.0 * shaft.density * speed ** 2 * a ** 2 / e_s

@@ -12,8 +12,10 @@ mass position. The shaft's own mass enters through the consistent element mass m
 the point masses are lumped at their nodes. Modes are those of the non-rotating shaft:
 gyroscopic stiffening, shear deformation and bearing flexibility are neglected.
 
-The torsional chain, its modes and their check against the orders live in
-:mod:`torqlog.torsion`; :func:`check_shaft` combines both for one machine profile.
+The beam finite elements (element matrices, assembly, supports, static and eigenvalue
+solution) live in :mod:`torqlog.beam`. The torsional chain, its modes and their check
+against the orders live in :mod:`torqlog.torsion`; :func:`check_shaft` combines both for
+one machine profile.
 
 Every result here is a preliminary engineering estimate; see :data:`CAUTIONS`.
 
@@ -35,12 +37,22 @@ import dataclasses
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any, NamedTuple
+from typing import Any
 
 import numpy as np
 import pandas as pd
 import scipy.linalg
 
+from torqlog.beam import (
+    BeamMesh,
+    assemble_beam,
+    load_vector,
+    mesh_nodes,
+    midpoint_deflection,
+    nearest_nodes,
+    solve_modes,
+    solve_static,
+)
 from torqlog.errors import DataError, UsageError
 from torqlog.profile import MachineProfile
 from torqlog.torsion import (
@@ -302,33 +314,12 @@ def shaft_model_from_profile(profile: MachineProfile, material: str | None = Non
 
 
 # --------------------------------------------------------------------------- beam FE
-class _Mesh(NamedTuple):
-    x: np.ndarray            # node positions [m]
-    K: np.ndarray            # full stiffness [N/m, N, N*m]
-    M: np.ndarray            # consistent shaft mass [kg, kg*m, kg*m^2]
-    le: np.ndarray           # element lengths [m]
-    me: np.ndarray           # element masses [kg]
-    mass_nodes: np.ndarray   # node index of each point mass
-    free: np.ndarray         # unconstrained dof indices
-    positive_mass: bool      # every element has mass (M positive definite)
-
-
-def _nearest(x: np.ndarray, points: np.ndarray) -> np.ndarray:
-    return np.abs(np.asarray(points, float)[:, None] - x[None, :]).argmin(axis=1)
-
-
-def _mesh(model: ShaftModel, max_element: float | None = None) -> _Mesh:
-    """Mesh and assemble the beam (Przemieniecki 1968, Euler-Bernoulli element)."""
-    length = model.length
-    h = max_element if max_element else length / 60.0
+def _mesh(model: ShaftModel, max_element: float | None = None) -> tuple[BeamMesh, np.ndarray]:
+    """The shaft as assembled beam elements (:mod:`torqlog.beam`), and the node of each
+    point mass; nodes at every segment end, bearing and mass."""
     ends = np.concatenate([[0.0], np.cumsum([s.length for s in model.segments])])
-    keys = np.sort(np.concatenate([ends, model.bearings, [m.at for m in model.masses]]))
-    keys = np.clip(keys, 0.0, length)
-    keys = keys[np.concatenate([[True], np.diff(keys) > 1e-9 * length])]
-    counts = np.maximum(1, np.ceil(np.diff(keys) / h - 1e-9)).astype(int)
-    x = np.concatenate([np.linspace(a, b, n, endpoint=False)
-                        for a, b, n in zip(keys[:-1], keys[1:], counts, strict=True)]
-                       + [keys[-1:]])
+    x = mesh_nodes(np.concatenate([ends, model.bearings, [m.at for m in model.masses]]),
+                   model.length, max_element)
     le = np.diff(x)
     seg = np.clip(np.searchsorted(ends, x[:-1] + le / 2, side="right") - 1,
                   0, len(model.segments) - 1)
@@ -337,60 +328,27 @@ def _mesh(model: ShaftModel, max_element: float | None = None) -> _Mesh:
     rho = np.array([s.density if s.density is not None else model.density for s in segs])[seg]
     area = np.array([s.area for s in segs])[seg]
     ei = e * np.array([s.second_moment for s in segs])[seg]
-
-    L = le[:, None, None]
-    k_unit = np.array([[12, 6, -12, 6], [6, 4, -6, 2], [-12, -6, 12, -6], [6, 2, -6, 4]], float)
-    m_unit = np.array([[156, 22, 54, -13], [22, 4, 13, -3], [54, 13, 156, -22],
-                       [-13, -3, -22, 4]], float)
-    # powers of L for entries (w,w)=0, (w,theta)=1, (theta,theta)=2
-    p = np.array([0, 1, 0, 1])
-    powers = p[:, None] + p[None, :]
-    ke = (ei / le**3)[:, None, None] * k_unit * L**powers
-    me_mat = (rho * area * le / 420.0)[:, None, None] * m_unit * L**powers
-    ndof = 2 * len(x)
-    dofs = 2 * np.arange(len(le))[:, None] + np.arange(4)[None, :]
-    rows, cols = dofs[:, :, None], dofs[:, None, :]
-    K = np.zeros((ndof, ndof))
-    M = np.zeros((ndof, ndof))
-    np.add.at(K, (np.broadcast_to(rows, ke.shape), np.broadcast_to(cols, ke.shape)), ke)
-    np.add.at(M, (np.broadcast_to(rows, ke.shape), np.broadcast_to(cols, ke.shape)), me_mat)
-    fixed = 2 * _nearest(x, np.array(model.bearings))
-    free = np.setdiff1d(np.arange(ndof), fixed)
-    mass_nodes = _nearest(x, np.array([m.at for m in model.masses]))
-    return _Mesh(x, K, M, le, rho * area * le, mass_nodes, free, bool(np.all(rho > 0)))
+    beam = assemble_beam(x, ei, rho * area, model.bearings)
+    return beam, nearest_nodes(x, np.array([m.at for m in model.masses]))
 
 
-def _point_mass_matrix(model: ShaftModel, mesh: _Mesh, rotary_inertia: bool) -> np.ndarray:
-    M = mesh.M.copy()
-    if model.masses:
-        idx = 2 * mesh.mass_nodes
-        np.add.at(M, (idx, idx), [m.mass for m in model.masses])
-        if rotary_inertia:  # thin disc: diametral inertia = polar / 2
-            np.add.at(M, (idx + 1, idx + 1), [m.inertia / 2.0 for m in model.masses])
-    return M
+def _static(model: ShaftModel, beam: BeamMesh, mass_nodes: np.ndarray,
+            include_self_weight: bool) -> np.ndarray:
+    """Displacements under the weights of the point masses (and of the shaft)."""
+    weights = GRAVITY * np.array([m.mass for m in model.masses])
+    line = beam.element_mass / beam.element_length * GRAVITY if include_self_weight else None
+    load = load_vector(len(beam.nodes), mass_nodes, weights, beam.element_length, line)
+    return solve_static(beam.stiffness, load, beam.free)
 
 
-def _static(model: ShaftModel, mesh: _Mesh, include_self_weight: bool) -> np.ndarray:
-    ndof = mesh.K.shape[0]
-    F = np.zeros(ndof)
-    if model.masses:
-        np.add.at(F, 2 * mesh.mass_nodes, GRAVITY * np.array([m.mass for m in model.masses]))
-    if include_self_weight:
-        w = mesh.me / mesh.le * GRAVITY  # line load [N/m], consistent nodal loads
-        i = 2 * np.arange(len(mesh.le))
-        np.add.at(F, i, w * mesh.le / 2)
-        np.add.at(F, i + 1, w * mesh.le**2 / 12)
-        np.add.at(F, i + 2, w * mesh.le / 2)
-        np.add.at(F, i + 3, -w * mesh.le**2 / 12)
-    u = np.zeros(ndof)
-    f = mesh.free
-    u[f] = scipy.linalg.solve(mesh.K[np.ix_(f, f)], F[f], assume_a="pos")
-    return u
+def _require_masses(model: ShaftModel, include_self_weight: bool, method: str) -> None:
+    if not model.masses and not include_self_weight:
+        raise UsageError(f"{method} needs masses on the shaft or its self weight")
 
 
 def shaft_mesh(model: ShaftModel, max_element: float | None = None) -> np.ndarray:
     """Node positions [m] of the finite-element mesh (rows of the mode shapes)."""
-    return _mesh(model, max_element).x
+    return _mesh(model, max_element)[0].nodes
 
 
 def static_deflection(model: ShaftModel, include_self_weight: bool = False, *,
@@ -417,8 +375,8 @@ def static_deflection(model: ShaftModel, include_self_weight: bool = False, *,
     ----------
     Gere and Timoshenko, *Mechanics of Materials* (elastic curve); Przemieniecki (1968).
     """
-    mesh = _mesh(model, max_element)
-    return mesh.x, _static(model, mesh, include_self_weight)[0::2]
+    beam, mass_nodes = _mesh(model, max_element)
+    return beam.nodes, _static(model, beam, mass_nodes, include_self_weight)[0::2]
 
 
 def rayleigh(model: ShaftModel, include_self_weight: bool = False, *,
@@ -445,16 +403,14 @@ def rayleigh(model: ShaftModel, include_self_weight: bool = False, *,
     ----------
     Thomson and Dahleh, *Theory of Vibration with Applications*, Rayleigh's method.
     """
-    if not model.masses and not include_self_weight:
-        raise UsageError("Rayleigh's method needs masses on the shaft or its self weight")
-    mesh = _mesh(model, max_element)
-    u = _static(model, mesh, include_self_weight)
-    y = u[2 * mesh.mass_nodes]
+    _require_masses(model, include_self_weight, "Rayleigh's method")
+    beam, mass_nodes = _mesh(model, max_element)
+    u = _static(model, beam, mass_nodes, include_self_weight)
+    y = u[2 * mass_nodes]
     m = np.array([pm.mass for pm in model.masses])
     if include_self_weight:
-        w, t = u[0::2], u[1::2]
-        y_mid = (w[:-1] + w[1:]) / 2 + mesh.le * (t[:-1] - t[1:]) / 8
-        y, m = np.concatenate([y, y_mid]), np.concatenate([m, mesh.me])
+        y_mid = midpoint_deflection(u, beam.element_length)
+        y, m = np.concatenate([y, y_mid]), np.concatenate([m, beam.element_mass])
     den = np.sum(m * y**2)
     if den == 0:  # every mass sits on a bearing: nothing deflects
         return math.inf
@@ -481,16 +437,15 @@ def dunkerley(model: ShaftModel, include_self_weight: bool = False, *,
     ----------
     Thomson and Dahleh, *Theory of Vibration with Applications*, Dunkerley's equation.
     """
-    if not model.masses and not include_self_weight:
-        raise UsageError("Dunkerley's equation needs masses on the shaft or its self weight")
+    _require_masses(model, include_self_weight, "Dunkerley's equation")
     inv = 0.0
     if model.masses:
-        mesh = _mesh(model, max_element)
-        f = mesh.free
-        pos = np.searchsorted(f, 2 * mesh.mass_nodes)
+        beam, mass_nodes = _mesh(model, max_element)
+        f = beam.free
+        pos = np.searchsorted(f, 2 * mass_nodes)
         unit = np.zeros((len(f), len(model.masses)))
         unit[pos, np.arange(len(model.masses))] = 1.0
-        flex = scipy.linalg.solve(mesh.K[np.ix_(f, f)], unit, assume_a="pos")
+        flex = scipy.linalg.solve(beam.stiffness[np.ix_(f, f)], unit, assume_a="pos")
         alpha = flex[pos, np.arange(len(model.masses))]
         inv += float(np.sum(alpha * np.array([m.mass for m in model.masses])))
     if include_self_weight:
@@ -531,23 +486,14 @@ def fe_modes(model: ShaftModel, n: int = 3, *, rotary_inertia: bool = False,
     ----------
     Przemieniecki (1968); Blevins, *Formulas for Natural Frequency and Mode Shape*.
     """
-    mesh = _mesh(model, max_element)
-    M = _point_mass_matrix(model, mesh, rotary_inertia)
-    f = mesh.free
-    Kf, Mf = mesh.K[np.ix_(f, f)], M[np.ix_(f, f)]
-    if mesh.positive_mass:
-        k = min(n, len(f))
-        w2, vecs = scipy.linalg.eigh(Kf, Mf, subset_by_index=[0, k - 1])
-    else:
-        lam, vecs = scipy.linalg.eigh(Mf, Kf)
-        keep = np.flatnonzero(lam > 1e-12 * max(lam.max(), 0.0))[::-1][:n]
-        w2, vecs = 1.0 / lam[keep], vecs[:, keep]
-    u = np.zeros((mesh.K.shape[0], vecs.shape[1]))
-    u[f] = vecs
-    shapes = u[0::2].T
-    peak = shapes[np.arange(len(shapes)), np.abs(shapes).argmax(axis=1)]
-    shapes = shapes / np.where(peak == 0, 1.0, peak)[:, None]
-    return np.sqrt(np.maximum(w2, 0.0)) / (2 * math.pi), shapes
+    beam, mass_nodes = _mesh(model, max_element)
+    M = beam.mass.copy()
+    if model.masses:
+        idx = 2 * mass_nodes
+        np.add.at(M, (idx, idx), [m.mass for m in model.masses])
+        if rotary_inertia:  # thin disc: diametral inertia = polar / 2
+            np.add.at(M, (idx + 1, idx + 1), [m.inertia / 2.0 for m in model.masses])
+    return solve_modes(beam.stiffness, M, beam.free, n, beam.mass_definite)
 
 
 @dataclass(frozen=True, eq=False)
