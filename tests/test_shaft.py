@@ -313,3 +313,19 @@ def test_materials_module_is_used_when_present(monkeypatch):
     assert model.modulus == 210e9
     assert model.segments[1].modulus == 70e9 and model.segments[1].density == 2700.0
     assert model.segments[0].modulus is None
+
+
+def test_dunkerley_ignores_a_mass_held_by_a_bearing():
+    # A mass on a bearing does not deflect, so it adds nothing to Dunkerley's sum
+    # (Thomson & Dahleh, Dunkerley's equation): with a 50 kg mass at mid-span of a 1 m,
+    # 50 mm massless steel shaft the answer is the single-mass √(k/m), k = 48EI/L³
+    # (Roark, simply supported beam, central load).
+    from torqlog.shaft import PointMass, ShaftModel, ShaftSegment, dunkerley
+
+    e = 210e9
+    seg = ShaftSegment(length=1.0, diameter=0.05)
+    model = ShaftModel(segments=(seg,), bearings=(0.0, 1.0),
+                       masses=(PointMass("on bearing", 100.0, 0.0),
+                               PointMass("middle", 50.0, 0.5)), modulus=e, density=0.0)
+    k = 48 * e * seg.second_moment / 1.0**3
+    assert dunkerley(model) == pytest.approx(math.sqrt(k / 50.0) / (2 * math.pi), rel=1e-3)

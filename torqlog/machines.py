@@ -785,7 +785,7 @@ PROFILE_PARTS: Mapping[str, Mapping[str, Any]] = MappingProxyType({
         "target_cs": 0.005,
         "flywheel_speed_ratio": 1.0,
         "flywheel": ('shape = "annular-disc"\nmaterial = "steel"\n'
-                     "outer_diameter_m = 0.55\nbore_m = 0.08\nmax_width_m = 0.10\n"),
+                     "outer_diameter_m = 0.55\nbore_m = 0.08\nmax_width_m = 0.18\n"),
         "shaft": ('material = "steel"\nbearings_m = [0.0, 0.36]\n'
                   "segments = [ { length_m = 0.10, diameter_m = 0.06 },\n"
                   "             { length_m = 0.26, diameter_m = 0.07 },\n"

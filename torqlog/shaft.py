@@ -442,12 +442,17 @@ def dunkerley(model: ShaftModel, include_self_weight: bool = False, *,
     if model.masses:
         beam, mass_nodes = _mesh(model, max_element)
         f = beam.free
-        pos = np.searchsorted(f, 2 * mass_nodes)
-        unit = np.zeros((len(f), len(model.masses)))
-        unit[pos, np.arange(len(model.masses))] = 1.0
-        flex = scipy.linalg.solve(beam.stiffness[np.ix_(f, f)], unit, assume_a="pos")
-        alpha = flex[pos, np.arange(len(model.masses))]
-        inv += float(np.sum(alpha * np.array([m.mass for m in model.masses])))
+        dof = 2 * np.asarray(mass_nodes)
+        free = np.isin(dof, f)  # a mass on a bearing does not deflect: no term
+        if free.any():
+            pos = np.searchsorted(f, dof[free])
+            k = int(free.sum())
+            unit = np.zeros((len(f), k))
+            unit[pos, np.arange(k)] = 1.0
+            flex = scipy.linalg.solve(beam.stiffness[np.ix_(f, f)], unit, assume_a="pos")
+            alpha = flex[pos, np.arange(k)]
+            masses = np.array([m.mass for m in model.masses])[free]
+            inv += float(np.sum(alpha * masses))
     if include_self_weight:
         f_bare = fe_modes(model.without_masses(), 1, max_element=max_element)[0]
         if len(f_bare):
