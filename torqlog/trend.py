@@ -30,7 +30,14 @@ import numpy as np
 import pandas as pd
 
 from torqlog.batch import FileJob, FileOutcome, run_files
-from torqlog.control import D2_MR2, RUN_RULES, ewma_chart, individuals_limits, run_rule
+from torqlog.control import (
+    D2_MR2,
+    RUN_RULES,
+    baseline_factors,
+    ewma_chart,
+    individuals_limits,
+    run_rule,
+)
 from torqlog.cycles import CycleOptions
 from torqlog.errors import DataError, UsageError
 
@@ -205,7 +212,10 @@ def combine(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
     parts, files, failed = [], [], []
     for o in outcomes:
         if not o.ok:
-            failed.append({"file": o.path, "reason": o.error})
+            reason = o.error or ""
+            if reason.startswith(f"{o.path}: "):
+                reason = reason[len(o.path) + 2:]
+            failed.append({"file": o.path, "reason": reason})
             continue
         start = pd.Timestamp(o.facts["start_time"])
         if start.tz is None:
@@ -325,6 +335,10 @@ class DriftOptions:
         Individuals limits at ±k sigma (3).
     run_rule : str
         A name from :data:`RUN_RULES` (default "western-electric-4": 8 in a row).
+    limits : {"prediction", "classic"}
+        ``prediction`` (default) widens the ±k·σ and EWMA limits for the size of the
+        baseline so a point has the nominal 0.27 % false-alarm probability; ``classic``
+        is the textbook mean ± k·σ̂ (see :func:`torqlog.control.baseline_factors`).
     """
 
     figures: tuple[str, ...] = DEFAULT_FIGURES
@@ -333,6 +347,7 @@ class DriftOptions:
     L: float = 3.0
     k: float = 3.0
     run_rule: str = "western-electric-4"
+    limits: str = "prediction"
 
     def __post_init__(self) -> None:
         bad = [f for f in self.figures if f not in GROUP_FIGURES]
@@ -346,6 +361,9 @@ class DriftOptions:
             raise UsageError("the baseline needs at least 2 groups (--baseline-shifts ≥ 2)")
         if not 0.0 < self.lam <= 1.0:
             raise UsageError(f"EWMA λ must be in (0, 1], got {self.lam}")
+        if self.limits not in ("prediction", "classic"):
+            raise UsageError(f"unknown limits method {self.limits!r}; valid: prediction, "
+                             "classic")
         if self.L <= 0 or self.k <= 0:
             raise UsageError("limit widths (L, k) must be positive")
 
@@ -401,8 +419,10 @@ def detect_drift(groups: pd.DataFrame, options: DriftOptions = DriftOptions(),
                                "baseline_groups": int(np.isfinite(bx).sum()),
                                "note": "too few baseline values: not charted"})
                 continue
-            centre, sigma, lcl, ucl = individuals_limits(bx, o.k)
-            z, zl, zu = ewma_chart(x, centre, sigma, o.lam, o.L)
+            m_base = int(np.isfinite(bx).sum())
+            k_eff, l_eff, c_var = baseline_factors(o.k, o.L, m_base, o.limits)
+            centre, sigma, lcl, ucl = individuals_limits(bx, k_eff)
+            z, zl, zu = ewma_chart(x, centre, sigma, o.lam, l_eff, c_var)
             hi_r, lo_r = run_rule(x, centre, run_len)
             marks = {"individuals_high": x > ucl, "individuals_low": x < lcl,
                      "ewma_high": z > zu, "ewma_low": z < zl,
@@ -412,18 +432,18 @@ def detect_drift(groups: pd.DataFrame, options: DriftOptions = DriftOptions(),
                     flags[idx[j]].append(f"{fig}:{name}")
                 hit |= m
             limits.append({"machine": machine, "figure": fig, "centre": centre,
-                           "sigma": sigma, "lcl": lcl, "ucl": ucl,
-                           "baseline_groups": int(np.isfinite(bx).sum()), "note": ""})
+                           "sigma": sigma, "lcl": lcl, "ucl": ucl, "k_eff": k_eff,
+                           "ewma_L_eff": l_eff, "baseline_groups": m_base, "note": ""})
             charts.append(pd.DataFrame({
                 "row": idx, "machine": machine, "figure": fig, "value": x,
-                "centre": centre, "lcl": lcl, "ucl": ucl, "ewma": z, "ewma_lcl": zl,
+                "centre": centre, "sigma": sigma, "lcl": lcl, "ucl": ucl, "ewma": z, "ewma_lcl": zl,
                 "ewma_ucl": zu, "baseline": in_base,
                 "flagged": np.any(np.column_stack(list(marks.values())), axis=1)}))
         after = np.flatnonzero(hit & ~in_base)
         onsets.append({"machine": machine,
                        "row": int(idx[after[0]]) if after.size else None})
     chart = pd.concat(charts, ignore_index=True) if charts else pd.DataFrame(
-        columns=["row", "machine", "figure", "value", "centre", "lcl", "ucl", "ewma",
+        columns=["row", "machine", "figure", "value", "centre", "sigma", "lcl", "ucl", "ewma",
                  "ewma_lcl", "ewma_ucl", "baseline", "flagged"])
     return flags, chart, limits, onsets
 
@@ -611,7 +631,8 @@ def trend_table(cycles: pd.DataFrame, calendar: ShiftCalendar, *, by: str = "shi
         "drift": {"figures": list(drift.figures),
                   "baseline": "table" if baseline is not None else
                   f"first {drift.baseline_groups} groups per machine",
-                  "individuals": f"mean ± {drift.k:g}·MR̄/{D2_MR2}",
+                  "individuals": f"mean ± {drift.k:g}·MR̄/{D2_MR2}", "k": drift.k,
+                  "limits": drift.limits,
                   "ewma_lambda": drift.lam, "ewma_L": drift.L,
                   "run_rule": drift.run_rule, "run_length": RUN_RULES[drift.run_rule]},
     })
