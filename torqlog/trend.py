@@ -423,7 +423,11 @@ def detect_drift(groups: pd.DataFrame, options: DriftOptions = DriftOptions(),
             k_eff, l_eff, c_var = baseline_factors(o.k, o.L, m_base, o.limits)
             centre, sigma, lcl, ucl = individuals_limits(bx, k_eff)
             z, zl, zu = ewma_chart(x, centre, sigma, o.lam, l_eff, c_var)
-            hi_r, lo_r = run_rule(x, centre, run_len)
+            # runs are counted afresh from the first group after the baseline: the
+            # baseline points set the centre line, so a run among them says little
+            hi_r, lo_r = np.zeros(x.size, bool), np.zeros(x.size, bool)
+            for part in (in_base, ~in_base):
+                hi_r[part], lo_r[part] = run_rule(x[part], centre, run_len)
             marks = {"individuals_high": x > ucl, "individuals_low": x < lcl,
                      "ewma_high": z > zu, "ewma_low": z < zl,
                      "run_high": hi_r, "run_low": lo_r}
@@ -673,7 +677,7 @@ def run_trend(jobs: Sequence[FileJob], calendar: ShiftCalendar, *, by: str = "sh
     cycles, files, failed = combine(outcomes, calendar)
     failed = list(missing) + failed
     if cycles.empty:
-        first = failed[0]["reason"] if failed else "no files given"
+        first = f"{failed[0]['file']}: {failed[0]['reason']}" if failed else "no files given"
         more = f" (and {len(failed) - 1} more)" if len(failed) > 1 else ""
         raise DataError(f"no file could be used: {first}{more}")
     o = jobs[0].options if jobs else CycleOptions()
