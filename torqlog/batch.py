@@ -13,8 +13,9 @@ from __future__ import annotations
 import glob
 import os
 import re
-from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
+from collections.abc import Callable, Iterator, Sequence
+from contextlib import contextmanager
+from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
 from typing import Any
@@ -124,6 +125,9 @@ class FileJob:
         Absolute start (overrides the file).
     name_time : str or None
         strftime pattern for a start time in the file name, used when the file states none.
+    threads : int or None
+        Threads pyarrow may use to parse this file (None: pyarrow's default, all cores);
+        :func:`run_files` sets it so that the workers together use ``workers`` cores.
     """
 
     path: str
@@ -132,6 +136,7 @@ class FileJob:
     read: dict[str, Any] = field(default_factory=dict)
     start: str | None = None
     name_time: str | None = None
+    threads: int | None = None
 
 
 @dataclass(frozen=True)
@@ -186,8 +191,13 @@ def process_file(job: FileJob) -> FileOutcome:
         ``start_time`` is absolute; ``facts``: start time and where it came from, cycles,
         duration [s], cycle source, sample rate [Hz], notes.
     """
+    import pyarrow as pa
+
     from torqlog.cycles import analyse_cycles
 
+    threads = pa.cpu_count()
+    if job.threads:
+        pa.set_cpu_count(job.threads)
     try:
         start, src = _file_start(job)
         res = analyse_cycles(job.path, job.options, start=start.isoformat(), **job.read)
@@ -196,6 +206,9 @@ def process_file(job: FileJob) -> FileOutcome:
     except Exception as exc:  # noqa: BLE001 - one bad file must not stop the batch
         return FileOutcome(job.path, job.machine, None, {},
                            f"{job.path}: unexpected {type(exc).__name__}: {exc}")
+    finally:
+        if job.threads:
+            pa.set_cpu_count(threads)
     tab = res.table
     facts = {
         "file": job.path, "machine": job.machine, "start_time": start,
@@ -224,27 +237,50 @@ def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: An
     ----------
     jobs : sequence of FileJob
     workers : int, optional
-        Processes (default: all cores); 1 runs in this process.
+        Cores to use (default: all): that many processes, each parsing with one thread
+        (fewer processes when there are fewer files, each with more threads); 1 runs in
+        this process, single-threaded.
     client : dask.distributed.Client, optional
         Run on this Dask cluster instead (``workers`` is then ignored).
     progress : callable, optional
         Called once per finished file (for a progress bar).
     """
     tick = progress or (lambda: None)
+    results: list[FileOutcome | None] = [None] * len(jobs)
+    n = workers or default_workers()
+    # a core budget: `workers` cores in all, shared by the processes that run at once
     if client is not None:
-        from distributed import as_completed
+        per = 1
+    elif n <= 1 or len(jobs) <= 1:
+        per = n
+    else:
+        per = max(1, n // min(n, len(jobs)))
+    jobs = [j if j.threads else replace(j, threads=per) for j in jobs]
+
+    def lost(i: int, exc: BaseException) -> FileOutcome:
+        j = jobs[i]
+        return FileOutcome(j.path, j.machine, None, {},
+                           f"{j.path}: the worker running it failed "
+                           f"({type(exc).__name__}: {exc})")
+
+    if client is not None:
+        from distributed import as_completed as dask_completed
 
         futures = client.map(process_file, list(jobs), pure=False)
-        for _ in as_completed(futures):
+        index = {f.key: i for i, f in enumerate(futures)}
+        for f in dask_completed(futures):
+            i = index[f.key]
+            try:
+                results[i] = f.result()
+            except Exception as exc:  # noqa: BLE001 - a lost worker fails its file only
+                results[i] = lost(i, exc)
             tick()
-        return client.gather(futures)
-    n = workers or default_workers()
+        return results  # type: ignore[return-value]
     if n <= 1 or len(jobs) <= 1:
-        out = []
-        for j in jobs:
-            out.append(process_file(j))
+        for i, j in enumerate(jobs):
+            results[i] = process_file(j)
             tick()
-        return out
+        return results  # type: ignore[return-value]
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
@@ -254,17 +290,23 @@ def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: An
     ctx.set_forkserver_preload(["torqlog.batch"])
     with ProcessPoolExecutor(max_workers=min(n, len(jobs)), mp_context=ctx) as pool:
         futs = {pool.submit(process_file, j): i for i, j in enumerate(jobs)}
-        results: list[FileOutcome | None] = [None] * len(jobs)
         for f in as_completed(futs):
-            results[futs[f]] = f.result()
+            i = futs[f]
+            try:
+                results[i] = f.result()
+            except Exception as exc:  # noqa: BLE001 - e.g. a worker killed for memory
+                results[i] = lost(i, exc)
             tick()
     return results  # type: ignore[return-value]
 
 
-def dask_client(scheduler: str | None = None, workers: int | None = None) -> Any:
-    """A Dask client: connected to ``scheduler`` (an address), or to a new local cluster
-    of ``workers`` single-threaded processes. Close it when done (it is a context
-    manager). Needs the optional ``cluster`` extra (``pip install torqlog[cluster]``)."""
+@contextmanager
+def dask_client(scheduler: str | None = None, workers: int | None = None
+                ) -> Iterator[Any]:
+    """A Dask client for :func:`run_files`, as a context manager: connected to
+    ``scheduler`` (an address such as ``tcp://10.0.0.5:8786``), or to a new local cluster
+    of ``workers`` single-threaded processes (default: all cores), closed on exit. Needs
+    the optional ``cluster`` extra (``pip install 'torqlog[cluster]'``)."""
     try:
         import logging
 
@@ -274,21 +316,13 @@ def dask_client(scheduler: str | None = None, workers: int | None = None) -> Any
                          "pip install 'torqlog[cluster]'") from None
     if scheduler:
         try:
-            return Client(scheduler, timeout="10s")
+            client = Client(scheduler, timeout="10s")
         except OSError as exc:
             raise UsageError(f"--scheduler {scheduler}: cannot connect ({exc})") from None
-    cluster = LocalCluster(n_workers=workers or default_workers(), threads_per_worker=1,
-                           processes=True, dashboard_address=None,
-                           silence_logs=logging.ERROR)
-    client = Client(cluster)
-    client._trend_cluster = cluster  # closed with the client below
-
-    close = client.close
-
-    def close_both(*a: Any, **k: Any) -> Any:
-        out = close(*a, **k)
-        cluster.close()
-        return out
-
-    client.close = close_both
-    return client
+        with client:
+            yield client
+        return
+    with LocalCluster(n_workers=workers or default_workers(), threads_per_worker=1,
+                      processes=True, dashboard_address=None,
+                      silence_logs=logging.ERROR) as cluster, Client(cluster) as client:
+        yield client

@@ -604,6 +604,7 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     """Trend many logs across shifts (and machines): per-shift figures, control limits
     and the first shift where drift began. PATHS are files, folders or glob patterns."""
     import sys
+    from contextlib import ExitStack, nullcontext
 
     from torqlog.batch import dask_client
     from torqlog.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
@@ -615,19 +616,15 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
                          run_rule=run_rule, limits=limits_method)
     baseline = read_baseline(baseline_path) if baseline_path else None
     n_all = len(jobs) + len(missing)
-    client = dask_client(scheduler, n_jobs) if (use_dask or scheduler) else None
-    try:
+    cluster = dask_client(scheduler, n_jobs) if (use_dask or scheduler) else nullcontext()
+    with cluster as client, ExitStack() as stack:
+        progress = None
         if sys.stderr.isatty() and jobs:
-            with click.progressbar(length=len(jobs), label="logs", file=sys.stderr) as bar:
-                res = run_trend(jobs, calendar, by=by, drift=drift, baseline=baseline,
-                                workers=n_jobs, client=client, progress=lambda: bar.update(1),
-                                missing=missing)
-        else:
-            res = run_trend(jobs, calendar, by=by, drift=drift, baseline=baseline,
-                            workers=n_jobs, client=client, missing=missing)
-    finally:
-        if client is not None:
-            client.close()
+            bar = stack.enter_context(click.progressbar(length=len(jobs), label="logs",
+                                                        file=sys.stderr))
+            progress = lambda: bar.update(1)  # noqa: E731
+        res = run_trend(jobs, calendar, by=by, drift=drift, baseline=baseline,
+                        workers=n_jobs, client=client, progress=progress, missing=missing)
     d = res.to_dict()
     if out_dir:
         out = Path(out_dir)

@@ -609,11 +609,12 @@ def trend_table(cycles: pd.DataFrame, calendar: ShiftCalendar, *, by: str = "shi
             notes.append(f"machine {lim['machine'] or '(unnamed)'}: {lim['figure']}: "
                          f"{lim['note']}")
     files = files or []
-    any_tz = any(f.get("tz_given") for f in files) or not naive
+    any_tz = any(f.get("tz_given") for f in files) if files else not naive
     display = calendar.timezone or ("UTC" if any_tz else None)
     if calendar.timezone is None and any_tz:
         notes.append("times carry a zone but no --timezone was given: shifts follow the "
                      "UTC clock")
+
     def describe(row: int | None) -> dict[str, Any]:
         if row is None:
             return {"date": None, "shift": None, "start_time": None, "flags": []}
