@@ -68,7 +68,7 @@ def week_logs(folder, *, drift_from=14, step=1.25, seed=0, n=21):
     rng = np.random.default_rng(seed)
     load = 1 + rng.normal(0, 0.02, n)
     load[drift_from:] *= step
-    folder.mkdir(exist_ok=True)
+    folder.mkdir(parents=True, exist_ok=True)
     t0 = pd.Timestamp("2026-03-02T06:20:00")
     return [write_log(folder / f"press4_{t0 + pd.Timedelta(hours=8 * i):%Y%m%d_%H%M}.csv",
                       scale=load[i], seed=seed * 100 + i) for i in range(n)]
@@ -456,3 +456,43 @@ def test_dask_local_cluster_gives_identical_results(tmp_path):
     pd.testing.assert_frame_equal(local.groups, remote.groups)
     pd.testing.assert_frame_equal(local.cycles, remote.cycles)
     assert local.to_dict() == remote.to_dict()
+
+
+# ----------------------------------------------------------------------------- fleet
+def test_two_machines_get_their_own_limits_and_onset():
+    a = week_cycles(11, drift_from=12, step=1.3)
+    b = week_cycles(12, drift_from=15, step=1.3)
+    b["machine"] = "Compressor K2"
+    for col in ("energy_swing_J", "cs", "torque_peak_Nm"):
+        b[col] *= 0.1  # a smaller machine: its own centre line
+    res = trend_table(pd.concat([a, b], ignore_index=True), BERLIN)
+    assert len(res.groups) == 42
+    assert list(res.groups["machine"].iloc[:2]) == ["Compressor K2", "Press 4"]
+    centres = {(lim["machine"], lim["figure"]): lim["centre"] for lim in res.limits}
+    assert centres[("Compressor K2", "energy_swing_J_median")] == pytest.approx(
+        0.1 * centres[("Press 4", "energy_swing_J_median")], rel=0.05)
+    on = {o["machine"]: (o["date"], o["shift"]) for o in res.onsets}
+    # shift index 12 = 2026-03-06 early; 15 = 2026-03-07 early
+    assert on == {"Press 4": ("2026-03-06", "early"),
+                  "Compressor K2": ("2026-03-07", "early")}
+    assert res.drift_onset["machine"] == "Press 4"
+
+
+def test_cli_folder_profiles_name_the_machines(tmp_path):
+    for name, folder in (("Press 4, line B", "p4"), ("Press 5, line B", "p5")):
+        d = tmp_path / "fleet" / folder
+        week_logs(d, n=3, drift_from=100)
+        (d / "machine.toml").write_text(
+            f'[machine]\nname = "{name}"\n\n[shifts]\nstarts = ["06:00", "14:00", '
+            '"22:00"]\nnames = ["A", "B", "C"]\ntimezone = "Europe/Berlin"\n',
+            encoding="utf-8")
+    r = CliRunner().invoke(cli, ["trend", str(tmp_path / "fleet"), "--name-time",
+                                 "%Y%m%d_%H%M", "--folder-profiles", "--baseline-shifts", "2",
+                                 "--jobs", "1", "--format", "json",
+                                 "--profile", str(tmp_path / "fleet" / "p4" / "machine.toml")])
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.stdout)
+    assert [(s["machine"], s["shift"]) for s in d["shifts"][:2]] == [
+        ("Press 4, line B", "A"), ("Press 5, line B", "A")]
+    assert d["options"]["shifts"]["timezone"] == "Europe/Berlin"
+    assert d["shifts"][0]["start_time"] == "2026-03-02T06:00:00+01:00"
