@@ -13,6 +13,7 @@ from __future__ import annotations
 import glob
 import os
 import re
+import threading
 from collections.abc import Callable, Iterator, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass, field, replace
@@ -284,10 +285,14 @@ def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: An
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
-    # forkserver: workers start from a clean, single-threaded server process (a plain
-    # fork of a process whose pyarrow threads are running may hang).
-    ctx = mp.get_context("forkserver")
-    ctx.set_forkserver_preload(["torqlog.batch"])
+    # fork (workers inherit the imports: no start-up cost) when this process runs no
+    # other Python thread; pyarrow re-creates its own thread pools after a fork. Else
+    # forkserver: workers start from a clean single-threaded server process.
+    if "fork" in mp.get_all_start_methods() and threading.active_count() == 1:
+        ctx = mp.get_context("fork")
+    else:
+        ctx = mp.get_context("forkserver")
+        ctx.set_forkserver_preload(["torqlog.batch"])
     with ProcessPoolExecutor(max_workers=min(n, len(jobs)), mp_context=ctx) as pool:
         futs = {pool.submit(process_file, j): i for i, j in enumerate(jobs)}
         for f in as_completed(futs):
