@@ -496,3 +496,15 @@ def test_cli_folder_profiles_name_the_machines(tmp_path):
         ("Press 4, line B", "A"), ("Press 5, line B", "A")]
     assert d["options"]["shifts"]["timezone"] == "Europe/Berlin"
     assert d["shifts"][0]["start_time"] == "2026-03-02T06:00:00+01:00"
+
+
+def test_cli_dask_flag_matches_one_process(tmp_path):
+    pytest.importorskip("distributed")
+    folder = tmp_path / "logs"
+    week_logs(folder, n=3, drift_from=100)
+    args = ["trend", str(folder), "--name-time", "%Y%m%d_%H%M", "--baseline-shifts", "2",
+            "--format", "json"]
+    one = CliRunner().invoke(cli, [*args, "--jobs", "1"])
+    dask = CliRunner().invoke(cli, [*args, "--dask", "--jobs", "1"])
+    assert one.exit_code == 0 and dask.exit_code == 0, dask.output
+    assert json.loads(dask.stdout) == json.loads(one.stdout)
