@@ -930,3 +930,186 @@ def demo_cmd(out_dir: str) -> None:
     for html in reports:
         click.echo(f"report: {html}")
     click.echo(f"report: {first}")
+
+
+# --- trend
+def _trend_text(d: dict[str, Any], n_files: int) -> str:
+    o = d["options"]
+    dr = o["drift"]
+    lines = [f"{n_files - len(d['failed'])} of {n_files} file(s) used; {len(d['shifts'])} "
+             f"{o['by']} row(s); shifts {', '.join(o['shifts']['starts'])} "
+             f"({', '.join(o['shifts']['names'])}), zone {o['shifts']['timezone'] or 'UTC'}",
+             f"limits: {dr['baseline']}; individuals {dr['individuals']} ({dr['limits']}), "
+             f"EWMA λ = {dr['ewma_lambda']:g}, L = {dr['ewma_L']:g}; run rule {dr['run_rule']} "
+             f"({dr['run_length']} in a row on one side)"]
+    on = d["drift_onset"]
+    if on:
+        who = f"{on['machine']}: " if on["machine"] else ""
+        lines.append(f"drift began: {who}{on['date']} {on['shift']} ({on['start_time']}): "
+                     + ", ".join(on["flags"]))
+    else:
+        lines.append("drift: none flagged after the baseline")
+    lines += [f"note: {n}" for n in d["notes"]]
+    lines += [f"failed: {f['file']}: {f['reason']}" for f in d["failed"]]
+    lines.append("flags: I individuals chart, E EWMA, R run rule; + above, - below")
+    return "\n".join(lines) + "\n"
+
+
+def _short_flags(flags: list[str]) -> str:
+    """``cs_median:individuals_high`` and friends as ``cs_median I+ E+`` for a table."""
+    sym = {"individuals": "I", "ewma": "E", "run": "R"}
+    per: dict[str, list[str]] = {}
+    for f in flags:
+        fig, _, rule = f.partition(":")
+        chart, _, side = rule.rpartition("_")
+        per.setdefault(fig, []).append(sym.get(chart, chart) + ("+" if side == "high" else "-"))
+    return "; ".join(f"{k} {' '.join(v)}" for k, v in per.items())
+
+
+def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | None,
+                machine: str | None, folder_profiles: bool
+                ) -> tuple[list[Any], list[dict[str, str]], Any]:
+    """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
+    from torqlog.batch import FileJob, discover
+    from torqlog.errors import UsageError
+
+    files, missing = discover(paths)
+    if kw.get("start") and len(files) > 1:
+        raise UsageError("--start places a single file; for several files give --name-time "
+                         "PATTERN or logs that carry their own timestamps")
+    if kw.get("start"):
+        try:
+            pd.Timestamp(kw["start"])
+        except ValueError:
+            raise UsageError(f"--start {kw['start']!r} is not an ISO time, e.g. "
+                             "2026-03-02T06:00:00") from None
+    if name_time:
+        from torqlog.batch import name_time_regex
+
+        name_time_regex(name_time)
+    profile = load_profile_opt(kw.pop("profile", None))
+    read = read_kwargs(kw)
+    start = read.pop("start")
+    cyc_kw = dict(kw)
+    opts = make_cycle_options(dict(cyc_kw), profile)
+    folder_cache: dict[Path, tuple[Any, Any]] = {}
+    jobs = []
+    for f in files:
+        prof, o = profile, opts
+        if folder_profiles:
+            folder = f.parent
+            if folder not in folder_cache:
+                tomls = sorted(folder.glob("*.toml"))
+                if len(tomls) != 1:
+                    raise UsageError(f"--folder-profiles: {folder} holds {len(tomls)} .toml "
+                                     "files; put exactly one machine profile beside its logs")
+                p = load_profile_opt(str(tomls[0]))
+                folder_cache[folder] = (p, make_cycle_options(dict(cyc_kw), p))
+            prof, o = folder_cache[folder]
+        name = machine or (prof.machine.get("name") if prof is not None else None) \
+            or f.parent.name
+        jobs.append(FileJob(str(f), o, name, read, start, name_time))
+    return jobs, missing, profile
+
+
+@cli.command("trend")
+@click.argument("paths", nargs=-1, required=True)
+@cycle_options
+@click.option("--name-time", default=None, metavar="PATTERN",
+              help="Read each file's start from its name with this strftime pattern, e.g. "
+                   "'%Y%m%d_%H%M' for press4_20260302_0600.csv (used when the file states "
+                   "no start).")
+@click.option("--machine", default=None,
+              help="Machine name for all files [default: the profile's [machine] name, "
+                   "else each file's folder name].")
+@click.option("--folder-profiles", is_flag=True,
+              help="Use the one .toml profile in each file's folder for that file (a fleet "
+                   "laid out one folder per machine).")
+@click.option("--shifts", default=None, metavar="HH:MM,...",
+              help="Shift start times [default: the profile's, else 06:00,14:00,22:00].")
+@click.option("--shift-names", default=None, metavar="NAME,...",
+              help="One name per shift start [default: early,late,night for the default "
+                   "starts, else the start times].")
+@click.option("--timezone", default=None, metavar="ZONE",
+              help="IANA time zone of the shift calendar, e.g. Europe/Berlin [default: the "
+                   "profile's, else UTC]; times without a zone are read as local times in it.")
+@click.option("--by", type=click.Choice(["shift", "day", "file", "hour"]), default="shift",
+              show_default=True, help="One row per shift, production day, file or hour.")
+@click.option("--baseline-shifts", type=click.IntRange(min=2), default=9, show_default=True,
+              help="The first N rows of each machine set the control limits.")
+@click.option("--baseline", "baseline_path", type=click.Path(dir_okay=False), default=None,
+              help="Take the limits from an earlier run instead (its shifts.csv or JSON).")
+@click.option("--figures", default=",".join(("energy_swing_J_median", "cs_median",
+                                              "torque_peak_Nm_p99")), show_default=True,
+              help="Row figures to chart and judge, comma-separated.")
+@click.option("--limits", "limits_method", type=click.Choice(["prediction", "classic"]),
+              default="prediction", show_default=True,
+              help="'classic': mean ± 3σ; 'prediction': widened for the baseline's size so a "
+                   "point has the nominal 0.27 % false-alarm chance.")
+@click.option("--ewma-lambda", type=click.FloatRange(0, 1, min_open=True), default=0.2,
+              show_default=True, help="EWMA weight λ.")
+@click.option("--ewma-L", "ewma_l", type=click.FloatRange(min=0, min_open=True), default=3.0,
+              show_default=True, help="EWMA limit width L [σ of the EWMA].")
+@click.option("--run-rule", type=click.Choice(["western-electric-4", "nelson-2"]),
+              default="western-electric-4", show_default=True,
+              help="Run rule: 8 (Western Electric) or 9 (Nelson) in a row on one side.")
+@click.option("--jobs", "-j", "n_jobs", type=click.IntRange(min=1), default=None,
+              help="Parallel processes [default: all cores].")
+@click.option("--dask", "use_dask", is_flag=True,
+              help="Run on a local Dask cluster of --jobs workers (needs torqlog[cluster]).")
+@click.option("--scheduler", default=None, metavar="ADDRESS",
+              help="Run on the Dask cluster at this scheduler address (tcp://host:8786).")
+@click.option("--out-dir", type=click.Path(file_okay=False), default=None,
+              help="Write cycles.parquet (every cycle), shifts.csv (the rows) and the PNG "
+                   "plots into this folder.")
+@output_options
+def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: str | None,
+              machine: str | None, folder_profiles: bool, shifts: str | None,
+              shift_names: str | None, timezone: str | None, by: str, baseline_shifts: int,
+              baseline_path: str | None, figures: str, limits_method: str,
+              ewma_lambda: float, ewma_l: float, run_rule: str, n_jobs: int | None,
+              use_dask: bool, scheduler: str | None, out_dir: str | None,
+              **kw: Any) -> None:
+    """Trend many logs across shifts (and machines): per-shift figures, control limits
+    and the first shift where drift began. PATHS are files, folders or glob patterns."""
+    import sys
+    from contextlib import ExitStack, nullcontext
+
+    from torqlog.batch import dask_client
+    from torqlog.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
+
+    jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
+    calendar = ShiftCalendar.build(shifts, shift_names, timezone, profile)
+    drift = DriftOptions(figures=tuple(f.strip() for f in figures.split(",") if f.strip()),
+                         baseline_groups=baseline_shifts, lam=ewma_lambda, L=ewma_l,
+                         run_rule=run_rule, limits=limits_method)
+    baseline = read_baseline(baseline_path) if baseline_path else None
+    n_all = len(jobs) + len(missing)
+    cluster = dask_client(scheduler, n_jobs) if (use_dask or scheduler) else nullcontext()
+    with cluster as client, ExitStack() as stack:
+        progress = None
+        if sys.stderr.isatty() and jobs:
+            bar = stack.enter_context(click.progressbar(length=len(jobs), label="logs",
+                                                        file=sys.stderr))
+            progress = lambda: bar.update(1)  # noqa: E731
+        res = run_trend(jobs, calendar, by=by, drift=drift, baseline=baseline,
+                        workers=n_jobs, client=client, progress=progress, missing=missing)
+    d = res.to_dict()
+    if out_dir:
+        out = Path(out_dir)
+        out.mkdir(parents=True, exist_ok=True)
+        res.cycles_table().to_parquet(out / "cycles.parquet", index=False)
+        res.to_pandas().to_csv(out / "shifts.csv", index=False)
+        written = [out / "cycles.parquet", out / "shifts.csv", *res.plot(out)]
+        click.echo("wrote " + ", ".join(str(p) for p in written), err=True)
+    table = res.to_pandas()
+    if fmt == "table":
+        table = table.assign(start_time=[t.strftime("%Y-%m-%d %H:%M") for t in
+                                         table["start_time"]],
+                             flags=[_short_flags(f) for f in res.groups["flags"]])
+        table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95"])
+    emit(d, table, fmt, output, text=_trend_text(d, n_all))
+    if res.failed:
+        click.echo(f"Error: {len(res.failed)} of {n_all} file(s) failed: "
+                   + "; ".join(f"{f['file']}: {f['reason']}" for f in res.failed), err=True)
+        raise click.exceptions.Exit(1)

@@ -494,3 +494,178 @@ def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float 
         ax.text(0.5, 0.5, "no significant order", transform=ax.transAxes, ha="center",
                 color=PALETTE["reference"])
     return save(fig, path)
+
+
+# --- trend
+_TREND_LABELS = {  # figure: (title, short axis label, unit)
+    "cycles_per_min": ("cycle rate", "cycle rate", "cycles/min"),
+    "energy_swing_J_median": ("energy swing ΔE, median", "ΔE median", "J"),
+    "energy_swing_J_p95": ("energy swing ΔE, 95th percentile", "ΔE p95", "J"),
+    "cs_median": ("coefficient of speed fluctuation Cs, median", "Cs median", "-"),
+    "cs_p95": ("coefficient of speed fluctuation Cs, 95th percentile", "Cs p95", "-"),
+    "torque_peak_Nm_p99": ("peak torque, 99th percentile", "peak torque p99", "N·m"),
+    "work_J_mean": ("work per cycle, mean", "work mean", "J"),
+    "flagged_share": ("share of flagged cycles", "flagged share", "-"),
+}
+
+
+def _trend_times(result: object, rows: object) -> object:
+    """Local start times of group rows, naive for matplotlib."""
+    t = result.local(result.groups["start_time"].to_numpy()[rows])
+    return t.tz_localize(None) if t.tz is not None else t
+
+
+def _date_axis(ax: object) -> None:
+    import matplotlib.dates as mdates
+
+    loc = mdates.AutoDateLocator(minticks=4, maxticks=10)
+    ax.xaxis.set_major_locator(loc)
+    ax.xaxis.set_major_formatter(mdates.ConciseDateFormatter(loc))
+
+
+def plot_trend(result: object, figure: str, path: str | Path) -> Path:
+    """Trend chart of one figure: per machine, the individuals chart (values, centre
+    line, ±3σ limits, baseline shaded, flagged points marked, drift onset drawn) above the
+    EWMA chart with its limits. ``result`` is a :class:`torqlog.trend.TrendResult`."""
+    import numpy as np
+
+    ch = result.charts[result.charts["figure"] == figure]
+    machines = list(dict.fromkeys(ch["machine"])) or [""]
+    label, short, unit = _TREND_LABELS.get(figure, (figure, figure, "-"))
+    by = result.options["by"]
+    zone = result.display_tz or result.options["shifts"]["zone"] + " wall clock"
+    fig, axes = new_figure(2 * len(machines), 1, height=2.8, width=11.0, squeeze=False)
+    axes = axes[:, 0]
+    drift = result.options["drift"]
+    onsets = {o["machine"]: o for o in result.onsets}
+    for i, m in enumerate(machines):
+        d = ch[ch["machine"] == m]
+        ax, ax_e = axes[2 * i], axes[2 * i + 1]
+        name = f" — {m}" if m else ""
+        if d.empty:
+            ax.set_title(f"{label}{name}: not charted (too few baseline values)")
+            continue
+        rows = d["row"].to_numpy()
+        t = _trend_times(result, rows)
+        x = d["value"].to_numpy()
+        base = d["baseline"].to_numpy()
+        flagged = d["flagged"].to_numpy()
+        c0, lcl, ucl = d["centre"].iloc[0], d["lcl"].iloc[0], d["ucl"].iloc[0]
+        if base.any():
+            span = (t[base][0], t[base][-1])
+            for a in (ax, ax_e):
+                a.axvspan(*span, color=PALETTE["band"], alpha=0.35, lw=0,
+                          label="baseline" if a is ax else None)
+        ax.plot(t, x, "-o", color=PALETTE["data"], ms=4, lw=1.2, label=f"{by} value")
+        ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre {c0:.4g}")
+        ax.axhline(ucl, color=PALETTE["limit"], ls="--", lw=1.2,
+                   label=f"limits ±{(ucl - c0) / d['sigma'].iloc[0]:.2f}σ ({drift['limits']}):"
+                         f" {lcl:.4g} … {ucl:.4g}")
+        ax.axhline(lcl, color=PALETTE["limit"], ls="--", lw=1.2)
+        if flagged.any():
+            ax.plot(t[flagged], x[flagged], "o", ms=9, mfc="none", mew=2,
+                    color=PALETTE["limit"], label="flagged (any rule)")
+        on = onsets.get(m)
+        if on and on.get("start_time"):
+            ts = np.datetime64(_naive_iso(on["start_time"]))
+            for a in (ax, ax_e):
+                a.axvline(ts, color=PALETTE["limit"], lw=1.0, ls=":",
+                          label="drift onset\n(first flag, any figure)" if a is ax else None)
+        ax.set_title(f"{label} per {by}{name} — individuals chart")
+        ax.set_ylabel(f"{short} [{unit}]")
+        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
+        ax_e.plot(t, d["ewma"], "-o", color=PALETTE["data"], ms=3, lw=1.2,
+                  label=f"EWMA (λ = {drift['ewma_lambda']:g})")
+        ax_e.step(t, d["ewma_ucl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2,
+                  label=f"EWMA limits (L = {drift['ewma_L']:g})")
+        ax_e.step(t, d["ewma_lcl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2)
+        ax_e.axhline(c0, color=PALETTE["mean"], lw=1.4, label="centre")
+        ef = (d["ewma"] > d["ewma_ucl"]) | (d["ewma"] < d["ewma_lcl"])
+        if ef.any():
+            ax_e.plot(t[ef.to_numpy()], d["ewma"][ef], "o", ms=8, mfc="none", mew=2,
+                      color=PALETTE["limit"], label="beyond EWMA limits")
+        ax_e.set_title(f"EWMA of {label}{name}")
+        ax_e.set_ylabel(f"EWMA of {short} [{unit}]")
+        ax_e.set_xlabel(f"{by} start ({zone})")
+        ax_e.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
+        for a in (ax, ax_e):
+            _date_axis(a)
+    return save(fig, path)
+
+
+def _naive_iso(iso: str) -> object:
+    """An ISO time string as a naive timestamp in its own wall clock."""
+    import pandas as pd
+
+    t = pd.Timestamp(iso)
+    return t.tz_localize(None) if t.tz is not None else t
+
+
+def plot_trend_box(result: object, path: str | Path) -> Path:
+    """Box plot of the clean cycles' energy swing ΔE per group (shift, day, hour or
+    file), one panel per machine; boxes coloured by shift, flagged groups outlined red,
+    baseline groups shaded. Whiskers at 1.5 IQR (Tukey); outliers not drawn."""
+    import numpy as np
+    from matplotlib.patches import Patch
+
+    cyc = result.cycles[result.cycles["flag"] == ""]
+    by_group = {int(k): v.dropna().to_numpy()
+                for k, v in cyc.groupby("group")["energy_swing_J"]}
+    groups = result.groups
+    machines = list(dict.fromkeys(groups["machine"])) or [""]
+    by = result.options["by"]
+    width = max(9.0, 0.32 * len(groups) / len(machines) + 4.0)
+    fig, axes = new_figure(len(machines), 1, height=3.8, width=width, squeeze=False)
+    shift_names = list(result.options["shifts"]["names"])
+    colours = [PALETTE["data"], PALETTE["mean"], PALETTE["after"], PALETTE["reference"],
+               PALETTE["band"]]
+    base_n = None if result.options["drift"]["baseline"] == "table" else int(
+        result.options["drift"]["baseline"].split()[1])
+    for ax, m in zip(axes[:, 0], machines, strict=True):
+        rows = np.flatnonzero((groups["machine"] == m).to_numpy())
+        data = [by_group[r] if r in by_group else np.zeros(0) for r in rows]
+        keep = [i for i, v in enumerate(data) if v.size]
+        if not keep:
+            ax.set_title(f"Energy swing per {by}: no clean cycles")
+            continue
+        bp = ax.boxplot([data[i] for i in keep], positions=np.arange(len(rows))[keep],
+                        widths=0.6, showfliers=False, patch_artist=True,
+                        medianprops={"color": "black", "lw": 1.2})
+        for b, i in zip(bp["boxes"], keep, strict=True):
+            g = groups.iloc[rows[i]]
+            s = g["shift"]
+            b.set_facecolor(colours[shift_names.index(s) % len(colours)]
+                            if s in shift_names else PALETTE["data"])
+            b.set_alpha(0.75)
+            if g["flags"]:
+                b.set_edgecolor(PALETTE["limit"])
+                b.set_linewidth(2.0)
+        if base_n:
+            ax.axvspan(-0.5, min(base_n, len(rows)) - 0.5, color=PALETTE["band"], alpha=0.3,
+                       lw=0)
+        t = _trend_times(result, rows)
+        if by == "shift":
+            labels = [f"{a:%m-%d} {s}" for a, s in zip(t, groups["shift"].iloc[rows],
+                                                         strict=True)]
+        elif by == "day":
+            labels = [f"{a:%Y-%m-%d}" for a in t]
+        elif by == "hour":
+            labels = [f"{a:%m-%d %H:%M}" for a in t]
+        else:
+            labels = [Path(f).name for f in groups["file"].iloc[rows]]
+        ax.set_xticks(np.arange(len(rows)), labels, rotation=60, ha="right", fontsize=8)
+        ax.set_xlim(-0.6, len(rows) - 0.4)
+        name = f" — {m}" if m else ""
+        ax.set_title(f"Energy swing ΔE of each clean cycle, per {by}{name}")
+        ax.set_ylabel("energy swing ΔE [J]")
+        ax.set_xlabel(f"{by} (start, local time)")
+        handles = [Patch(facecolor=colours[i % len(colours)], alpha=0.75, label=s)
+                   for i, s in enumerate(shift_names) if by in ("shift", "hour", "file")]
+        handles.append(Patch(facecolor="white", edgecolor=PALETTE["limit"], lw=2,
+                             label="group flagged"))
+        if base_n:
+            handles.append(Patch(facecolor=PALETTE["band"], alpha=0.3, label="baseline"))
+        ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8,
+                  title="box: quartiles\nwhiskers: 1.5 IQR\n(outliers not drawn)",
+                  title_fontsize=8, alignment="left")
+    return save(fig, path)

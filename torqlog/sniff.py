@@ -417,7 +417,9 @@ def _preamble_rate(meta: dict[str, str]) -> float | None:
     return None
 
 
-def _preamble_start(meta: dict[str, str]) -> pd.Timestamp | None:
+def preamble_start(meta: dict[str, str]) -> pd.Timestamp | None:
+    """Absolute start time from preamble key/values (``Start: 2026-03-02 06:00:00``), or
+    None when the preamble does not state one (or it is not a readable date)."""
     for key, value in meta.items():
         if key.lower() in ("start", "start time", "starttime", "date", "started", "begin"):
             try:
@@ -503,7 +505,7 @@ def _build_layout(p: Path, kind: str, delim: str, decimal: str, enc: str, skip: 
         if time_kind != "seconds":
             unit = "ISO-8601" if time_kind == "timestamp" else "sample"
             cols[ti] = replace(tcol, factor=1.0, unit=unit, unit_source="header")
-    st = pd.Timestamp(start) if start is not None else _preamble_start(preamble)
+    st = pd.Timestamp(start) if start is not None else preamble_start(preamble)
     if st is None and time_kind == "timestamp":
         st = pd.Timestamp(first_values[ti])
     tz = False
