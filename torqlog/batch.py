@@ -310,8 +310,13 @@ def dask_client(scheduler: str | None = None, workers: int | None = None
                 ) -> Iterator[Any]:
     """A Dask client for :func:`run_files`, as a context manager: connected to
     ``scheduler`` (an address such as ``tcp://10.0.0.5:8786``), or to a new local cluster
-    of ``workers`` single-threaded processes (default: all cores), closed on exit. Needs
-    the optional ``cluster`` extra (``pip install 'torqlog[cluster]'``)."""
+    with one in-process worker of ``workers`` threads (default: all cores), closed on exit.
+    Needs the optional ``cluster`` extra (``pip install 'torqlog[cluster]'``).
+
+    The local cluster runs its worker in this process: pyarrow parses and numpy reduces
+    with the GIL released, so threads use the cores, and no worker process has to start
+    and import torqlog (measured: 24 logs of 1 M rows, 6.6 s against 7.7 s with two
+    worker processes)."""
     try:
         import logging
 
@@ -332,7 +337,7 @@ def dask_client(scheduler: str | None = None, workers: int | None = None
     # no dashboard and no statistical profiler on the workers: nobody looks at them here,
     # and the profiler's sampling costs a few per cent of the run
     with dask.config.set({"distributed.worker.profile.enabled": False}), \
-            LocalCluster(n_workers=workers or default_workers(), threads_per_worker=1,
-                         processes=True, dashboard_address=None,
+            LocalCluster(n_workers=1, threads_per_worker=workers or default_workers(),
+                         processes=False, dashboard_address=None,
                          silence_logs=logging.ERROR) as cluster, Client(cluster) as client:
         yield client
