@@ -1,0 +1,341 @@
+"""Commands that check a design: flywheel and shaft."""
+
+from __future__ import annotations
+
+import json
+import textwrap
+from pathlib import Path
+from typing import Any
+
+import click
+from click.core import ParameterSource
+
+from torqlog.cli.base import (
+    _ROLE_OPTS,
+    _UNIT_OPTS,
+    QuantityType,
+    _fmt_float,
+    cli,
+    cycle_stage_options,
+    emit,
+    output_options,
+    run_cycles,
+)
+
+
+# --- shaft
+def _flywheel_json(path: str) -> tuple[float, float]:
+    """Mass [kg] and inertia [kg*m^2] from a flywheel result JSON file."""
+    from torqlog.errors import DataError
+
+    try:
+        data = json.loads(Path(path).read_text(encoding="utf-8"))
+    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+        raise DataError(f"{path}: not a valid JSON file ({exc})") from None
+    values = []
+    for key in ("mass_kg", "inertia_kgm2"):
+        v = data.get(key) if isinstance(data, dict) else None
+        if isinstance(v, bool) or not isinstance(v, int | float) or not v > 0:
+            raise DataError(f"{path}: needs positive numbers mass_kg and inertia_kgm2 "
+                            f"(the JSON of 'torqlog flywheel --format json')")
+        values.append(float(v))
+    return values[0], values[1]
+
+
+def _shaft_text(d: dict[str, Any], name: str) -> str:
+    o = d["options"]
+    lines = [f"Shaft check{': ' + name if name else ''}  (running speed "
+             f"{o['speed_rpm']:.1f} rpm = {o['speed_hz']:.3f} Hz; forcing up to order "
+             f"{o['forcing_order']:g}, orders {o['orders_source']})"]
+    log = d.get("log")
+    if log is not None:
+        orders = log["orders"]
+        lines.append(
+            f"Orders from {log['source']}: mean of {log['cycles']} clean cycles (cycle source "
+            f"{log['cycle_source']}, {log['revs_per_cycle']} rev/cycle); running speed from "
+            f"{log['running_speed_from']}; significant orders (share ≥ {o['min_share']:g}): "
+            + (", ".join(f"{k:g} ({v:.2f})" for k, v in zip(orders["order"], orders["share"],
+                                                           strict=True)) or "none"))
+        lines += [f"note: {n}" for n in log["notes"]]
+    for label in ("before", "after"):
+        st = d[label]
+        if st is None:
+            continue
+        if label == "after":
+            added = []
+            if o["add_mass_kg"] is not None:
+                added.append(f"+{o['add_mass_kg']:g} kg at {o['add_mass_at_m']:g} m")
+            if o["add_inertia_kgm2"] is not None:
+                added.append(f"+{o['add_inertia_kgm2']:g} kg·m² at {o['add_inertia_at']}")
+            label = f"after ({', '.join(added)})"
+        lat = st["lateral"]
+        lines.append(f"\n[{label}]")
+        lines.append(f"  lateral: Rayleigh {lat['rayleigh_hz']:.1f} Hz, Dunkerley "
+                     f"{lat['dunkerley_hz']:.1f} Hz, FE "
+                     + ", ".join(f"{f:.1f}" for f in lat["fe_hz"]) + " Hz; "
+                     f"max static deflection {lat['static_deflection_max_mm']:.3f} mm")
+        lines.append(f"    {lat['margin_text']}")
+        tor = st["torsional"]
+        if tor is not None:
+            modes = ", ".join("0 (rigid body)" if r else f"{f:.1f}"
+                              for f, r in zip(tor["modes_hz"], tor["rigid_body"], strict=True))
+            lines.append(f"  torsional: modes {modes} Hz")
+            lines.append(f"    {tor['margin_text']}")
+            for hit in tor["near_orders"]:
+                share = "assumed" if hit["share"] is None else f"{hit['share']:.2f}"
+                lines.append(f"    ! mode {hit['mode_hz']:.1f} Hz near order {hit['order']:g} "
+                             f"({hit['order_hz']:.2f} Hz, share {share}, detune "
+                             f"{hit['detune'] * 100:+.1f} %)")
+    state = "after" if d["after"] is not None else "current"
+    lines.append(f"\nVerdict ({state}): {d['verdict']}"
+                 + (f" (failed: {', '.join(d['failed'])})" if d["failed"] else ""))
+    lines.append("\nCautions:")
+    lines += [f"  - {c}" for c in d["cautions"]]
+    return "\n".join(lines) + "\n"
+
+
+_SHAFT_SPEED_HELP = ("Running shaft speed [rpm] (default: the log's mean speed with --log, "
+                     "else [machine] speed_rpm of the profile); with --log also the nominal "
+                     "speed for cycle source 'nominal'.")
+
+#: Options that say how to read a log or find its cycles: meaningless without --log.
+_LOG_ONLY = ("cycle_source", "pulses_per_rev", "inertia", "speed_cutoff_orders",
+             "torque_role", "cs_mean", "no_despike", "rate", "start",
+             *(f"{r}_col" for r in _ROLE_OPTS), *(f"{r}_unit" for r in _UNIT_OPTS))
+
+
+def _given_log_only(ctx: click.Context) -> list[str]:
+    """The log-reading options given on the command line (or environment)."""
+    return [p.opts[0] for p in ctx.command.params if p.name in _LOG_ONLY
+            and ctx.get_parameter_source(p.name) not in (None, ParameterSource.DEFAULT)]
+
+
+@cli.command("shaft")
+@click.option("--profile", "profile_path", required=True,
+              type=click.Path(exists=True, dir_okay=False), help="Machine profile (TOML).")
+@click.option("--log", type=click.Path(dir_okay=True), default=None,
+              help="Torque log: the orders of its mean cycle torque are held against the "
+                   "torsional modes and set the lateral forcing; its mean speed is the "
+                   "running speed.")
+@cycle_stage_options(_SHAFT_SPEED_HELP)
+@click.option("--add-mass", type=QuantityType("mass", "kg"), default=None,
+              help="Mass added to the shaft, e.g. a new flywheel.")
+@click.option("--at", "add_mass_at", type=QuantityType("length", "m"), default=None,
+              help="Position of the added mass along the shaft (default: where the "
+                   "profile's mass named like --add-inertia-at sits).")
+@click.option("--add-inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
+              help="Inertia added to the torsional chain.")
+@click.option("--add-inertia-at", default=None,
+              help="Chain element that takes the added inertia [default: flywheel].")
+@click.option("--from-flywheel", "flywheel_file", type=click.Path(exists=True, dir_okay=False),
+              default=None, help="Flywheel result JSON (mass_kg, inertia_kgm2) to add.")
+@click.option("--required-ratio", type=float, default=None,
+              help="Required first lateral frequency / highest forcing [default: 3].")
+@click.option("--band", type=float, default=None,
+              help="Torsional band around each order, as a fraction [default: 0.10].")
+@click.option("--min-share", type=float, default=None,
+              help="Smallest share of the dynamic torque that counts [default: 0.05].")
+@click.option("--self-weight", is_flag=True, default=None,
+              help="Include the shaft's own weight in Rayleigh, Dunkerley and deflection.")
+@click.option("--strict", is_flag=True,
+              help="Exit with code 3 when a check fails (the result is still written).")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+              help="Write a PNG figure (with --log, also the order spectrum).")
+@output_options
+@click.pass_context
+def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: float | None,
+              add_mass_at: float | None, add_inertia: float | None, add_inertia_at: str | None,
+              flywheel_file: str | None, required_ratio: float | None, band: float | None,
+              min_share: float | None, self_weight: bool | None, strict: bool,
+              plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
+    """Shaft natural frequencies, lateral and torsional, against the running speed."""
+    from torqlog.errors import CheckFailed, UsageError
+    from torqlog.profile import load_profile
+    from torqlog.shaft import check_shaft
+    from torqlog.spectrum import mean_cycle_spectrum
+    from torqlog.units import si_factor
+
+    if flywheel_file is not None:
+        if add_mass is not None or add_inertia is not None:
+            raise UsageError("give either --from-flywheel or --add-mass/--add-inertia, "
+                             "not both")
+        add_mass, add_inertia = _flywheel_json(flywheel_file)
+    speed, revs = kw["speed_rpm"], kw["revs_per_cycle"]
+    spectrum, log_info = None, None
+    if log is None:
+        given = _given_log_only(ctx)
+        if given:
+            raise UsageError(f"{', '.join(given)} only "
+                             f"{'applies' if len(given) == 1 else 'apply'} with --log: "
+                             f"{'it says' if len(given) == 1 else 'they say'} how to read a "
+                             f"log and find its cycles")
+        profile = load_profile(profile_path)
+    else:
+        cycles, profile = run_cycles(log, {**kw, "profile": profile_path})
+        spectrum = mean_cycle_spectrum(cycles)
+        revs = cycles.options["revs_per_cycle"]
+        mean_rpm = cycles.summary["speed_mean_rpm"]
+        speed_from = "--speed-rpm" if speed is not None else "log mean"
+        if speed is None and mean_rpm is not None:
+            speed = mean_rpm * si_factor("rpm", "speed")
+        elif speed is None:
+            speed_from = "profile"
+        log_info = {"source": cycles.source, "cycles": cycles.summary["cycles"],
+                    "cycle_source": cycles.options["cycle_source"], "revs_per_cycle": revs,
+                    "speed_mean_rpm": mean_rpm, "running_speed_from": speed_from,
+                    "notes": list(cycles.notes)}
+    if flywheel_file is not None and add_inertia is not None:
+        # the flywheel JSON gives the inertia on its own shaft; the torsional chain is
+        # referred to the logged shaft: I·r² (kinetic energy kept)
+        add_inertia *= float(profile.machine.get("flywheel_speed_ratio", 1.0)) ** 2
+    result = check_shaft(profile, speed=speed, orders=spectrum, add_mass=add_mass,
+                         add_mass_at=add_mass_at, add_inertia=add_inertia,
+                         add_inertia_at=add_inertia_at, required_ratio=required_ratio,
+                         band=band, min_share=min_share, self_weight=self_weight or None,
+                         revs_per_cycle=revs)
+    data = result.to_dict()
+    if log_info is not None:
+        log_info["orders"] = spectrum.significant(data["options"]["min_share"]).to_dict()
+        data["log"] = log_info
+    if plot_path:
+        from torqlog.plots import plot_shaft
+
+        plot_shaft(result, plot_path, spectrum=spectrum)
+        click.echo(f"wrote {plot_path}", err=True)
+    emit(data, result.to_pandas(), fmt, output,
+         text=_shaft_text(data, profile.machine.get("name", "")))
+    if strict and result.failures:
+        reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
+        raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")
+
+
+# --- flywheel
+def _flywheel_text(data: dict[str, Any]) -> str:
+    """Readable two-column table, checks and cautions of a flywheel result."""
+    verdict = data["verdict"].upper()
+    lines = [f"Flywheel check: {verdict}"
+             + (f" (failed: {', '.join(data['failed'])})" if data["failed"] else ""), ""]
+    rows = [(k, v) for k, v in data.items()
+            if k not in ("checks", "failed", "cautions", "options", "verdict")
+            and v is not None and not isinstance(v, dict | list)]
+    width = max(len(k) for k, _ in rows)
+    for key, value in rows:
+        shown = _fmt_float(float(value)) if isinstance(value, float) else str(value)
+        lines.append(f"  {key:<{width}}  {shown}")
+    lines += ["", "Checks:"]
+    for c in data["checks"]:
+        lines.append(f"  {'ok  ' if c['ok'] else 'FAIL'}  {c['name']:<26} "
+                     f"value {_fmt_float(float(c['value']))}, limit "
+                     f"{_fmt_float(float(c['limit']))}")
+    lines += ["", "Cautions:"]
+    for caution in data["cautions"]:
+        lines += textwrap.wrap(caution, width=96, initial_indent="  - ",
+                               subsequent_indent="    ")
+    return "\n".join(lines)
+
+
+@cli.command("flywheel")
+@click.option("--inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
+              help="Required flywheel inertia [kg*m**2] (at the flywheel shaft).")
+@click.option("--speed-rpm", "speed", type=QuantityType("speed", "rpm"), default=None,
+              help="Operating speed of the flywheel shaft [rpm].")
+@click.option("--material", default=None,
+              help="Material name (e.g. ductile-iron, grey-iron-250, steel-c45).")
+@click.option("--shape", type=click.Choice(["solid-disc", "annular-disc", "rim"]),
+              default=None, help="Flywheel shape [default: annular-disc].")
+@click.option("--outer-diameter", type=QuantityType("length", "m"), default=None,
+              help="Outer diameter [m]; left out, it is solved from --width.")
+@click.option("--bore", type=QuantityType("length", "m"), default=None,
+              help="Bore diameter [m] (0 for a solid disc).")
+@click.option("--width", type=QuantityType("length", "m"), default=None,
+              help="Face width [m]; left out, it is solved from --outer-diameter.")
+@click.option("--max-width", type=QuantityType("length", "m"), default=None,
+              help="Largest face width the envelope allows [m].")
+@click.option("--max-outer-diameter", type=QuantityType("length", "m"), default=None,
+              help="Largest outer diameter the envelope allows [m].")
+@click.option("--rim-inner-diameter", type=QuantityType("length", "m"), default=None,
+              help="Rim shape: inner diameter of the rim ring [m].")
+@click.option("--rim-depth", type=QuantityType("length", "m"), default=None,
+              help="Rim shape: radial depth of the rim ring [m].")
+@click.option("--web-width", type=QuantityType("length", "m"), default=None,
+              help="Rim shape: web thickness [m] (left out, the web is neglected).")
+@click.option("--overspeed", type=float, default=None,
+              help="Overspeed factor the flywheel must survive [default: 1.2].")
+@click.option("--slowdown", type=float, default=None,
+              help="Fractional speed drop over the working stroke, e.g. 0.1.")
+@click.option("--interference", type=QuantityType("length", "mm"), default=None,
+              help="Diametral shrink-fit interference on a solid shaft [mm].")
+@click.option("--density", type=QuantityType("density", "kg/m**3"), default=None,
+              help="Override the material density [kg/m**3].")
+@click.option("--yield", "strength", type=QuantityType("stress", "MPa"), default=None,
+              help="Override the material strength [MPa] (tensile for grey iron).")
+@click.option("--poisson", type=float, default=None, help="Override Poisson's ratio.")
+@click.option("--modulus", type=QuantityType("stress", "GPa"), default=None,
+              help="Override Young's modulus [GPa].")
+@click.option("--material-factor", type=float, default=None,
+              help="Factor on strength kept at the overspeed [default: 1.5 ductile, "
+                   "3.0 grey iron].")
+@click.option("--profile", "profile_path", type=click.Path(dir_okay=False), default=None,
+              help="Machine profile TOML; reads [flywheel] and [machine] speed_rpm x "
+                   "flywheel_speed_ratio. Options override the file.")
+@click.option("--from-size", "size_path", type=click.Path(dir_okay=False), default=None,
+              help="JSON from 'torqlog size --format json': inertia "
+                   "added_inertia_at_flywheel_kgm2 (else added_inertia_kgm2 / ratio^2), "
+                   "speed speed_mean_rpm x flywheel_speed_ratio (default 1).")
+@click.option("--strict", is_flag=True, help="Exit with code 3 when a check fails.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+              help="Write the stress-profile plot to this PNG file.")
+@output_options
+def flywheel_cmd(inertia: float | None, speed: float | None, material: str | None,
+                 shape: str | None, outer_diameter: float | None, bore: float | None,
+                 width: float | None, max_width: float | None,
+                 max_outer_diameter: float | None, rim_inner_diameter: float | None,
+                 rim_depth: float | None, web_width: float | None, overspeed: float | None,
+                 slowdown: float | None, interference: float | None, density: float | None,
+                 strength: float | None, poisson: float | None, modulus: float | None,
+                 material_factor: float | None, profile_path: str | None,
+                 size_path: str | None, strict: bool, plot_path: str | None, fmt: str,
+                 output: str | None) -> None:
+    """Size a flywheel for an inertia and check its burst margin, rim speed and fit.
+
+    Give --outer-diameter to solve the width, or --width to solve the diameter; give
+    both to check a given flywheel. Stresses are evaluated at the operating speed and
+    must keep the material factor at the overspeed. A failing design prints its verdict
+    and exits 0 (3 with --strict).
+    """
+    from torqlog.errors import CheckFailed, DataError, UsageError
+    from torqlog.flywheel import flywheel_from_profile
+    from torqlog.profile import load_profile
+
+    prof = load_profile(profile_path) if profile_path else None
+    size = None
+    if size_path:
+        p = Path(size_path)
+        if not p.is_file():
+            raise UsageError(f"{p}: size result file does not exist")
+        try:
+            size = json.loads(p.read_text(encoding="utf-8"))
+        except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+            raise DataError(f"{p}: not a JSON file from 'torqlog size --format json' "
+                            f"({exc})") from None
+    result = flywheel_from_profile(
+        prof, inertia=inertia, speed=speed, size=size, size_source=str(size_path),
+        material=material, shape=shape, outer_diameter=outer_diameter, bore=bore,
+        width=width, max_width=max_width, max_outer_diameter=max_outer_diameter,
+        rim_inner_diameter=rim_inner_diameter, rim_depth=rim_depth, web_width=web_width,
+        overspeed=overspeed, slowdown=slowdown, interference=interference, density=density,
+        strength=strength, poisson=poisson, modulus=modulus, material_factor=material_factor)
+    data = result.to_dict()
+    if profile_path:
+        data["options"]["profile"] = profile_path
+    if plot_path:
+        from torqlog.plots import plot_flywheel_stresses
+
+        plot_flywheel_stresses(result, plot_path)
+        click.echo(f"wrote {plot_path}", err=True)
+    emit(data, None, fmt, output, text=_flywheel_text(data) if fmt == "table" else None)
+    if data["verdict"] != "pass":
+        if fmt != "table" or output:
+            click.echo(f"flywheel check: FAIL ({', '.join(data['failed'])})", err=True)
+        if strict:
+            raise CheckFailed(f"flywheel check failed: {', '.join(data['failed'])}")

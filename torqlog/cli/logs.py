@@ -1,0 +1,378 @@
+"""Commands that read logs: inspect, cycles, size, trend."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import Any
+
+import click
+import pandas as pd
+
+from torqlog.cli.base import (
+    QuantityType,
+    cli,
+    cycle_options,
+    emit,
+    load_profile_opt,
+    log_options,
+    make_cycle_options,
+    output_options,
+    parse_quantile,
+    read_kwargs,
+    run_cycles,
+)
+
+
+# --------------------------------------------------------------------------- inspect
+@cli.command()
+@click.argument("log", type=click.Path(dir_okay=True))
+@log_options
+@click.option("--speed-rpm", type=QuantityType("speed", "rpm"), default=None,
+              help="Nominal speed [rpm] (makes the 'nominal' cycle source available).")
+@output_options
+def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
+            **kw: Any) -> None:
+    """Show what is in a log: columns, roles, units, rate, gaps, NaNs, clipping."""
+    from torqlog.survey import survey_log
+
+    s = survey_log(log, nominal_speed=speed_rpm, **read_kwargs(kw))
+    d = s.to_dict()
+    cols = pd.DataFrame(d["columns"])  # csv keeps the JSON key names
+    lines = [
+        f"file        {d['source']}",
+        f"format      {d['format']}"
+        + (f", {d['delimiter']}-delimited, decimal '{d['decimal']}'" if d["delimiter"] else ""),
+        f"rows        {d['rows']}",
+        f"duration    {d['duration_s']:.6g} s",
+        f"sample rate {d['sample_rate_hz']:.6g} Hz (time-step jitter "
+        f"{100 * d['rate_jitter']:.3g} %)",
+        f"start       {d['start_time'] or 'not stated'}",
+        f"time        {d['time_kind']}",
+        f"gaps        {d['gaps']['count']}"
+        + (f" (longest {d['gaps']['longest_s']:.4g} s; first after t = "
+           f"{d['gaps']['list'][0]['after_s']:.6g} s, row {d['gaps']['list'][0]['row']})"
+           if d["gaps"]["count"] else ""),
+        "NaN rows    " + (", ".join(f"{k} {v}" for k, v in d["nan_rows"].items()) or "none"),
+        "clipped     " + (", ".join(f"{k} {v} samples" for k, v in d["clipped_samples"].items())
+                          or "none found"),
+        f"cycles from {d['cycle_source'] or '-'}: {d['cycle_source_note']}",
+    ]
+    if d["preamble"]:
+        lines.append("preamble    " + "; ".join(f"{k}: {v}" for k, v in d["preamble"].items()))
+    emit(d, cols if fmt == "csv" else cols.rename(columns={"si_factor": "SI factor"}), fmt,
+         output, text="\n".join(lines) + "\n")
+
+
+# --------------------------------------------------------------------------- cycles
+@cli.command()
+@click.argument("log", type=click.Path(dir_okay=True))
+@cycle_options
+@click.option("--plot", type=click.Path(dir_okay=False), default=None,
+              help="Write a PNG: torque, E(θ) and speed against crank angle.")
+@output_options
+def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) -> None:
+    """Split a log into machine cycles: energy swing, Cs and torque per cycle."""
+    res, _ = run_cycles(log, kw)
+    if plot:
+        res.plot(plot)
+        click.echo(f"wrote {plot}", err=True)
+    s = res.summary
+    de, cs = s["energy_swing_J"], s["cs"]
+
+    def g(x: float | None, scale: float = 1.0, unit: str = "") -> str:
+        return "-" if x is None else f"{x * scale:.4g}{unit}"
+
+    text = "\n".join([
+        f"{res.source}: {s['cycles']} clean cycles of {s['cycles_total']} "
+        f"(cycle source: {res.options['cycle_source']}, {res.options['revs_per_cycle']} "
+        f"rev/cycle), {g(s['cycle_rate_per_min'])} cycles/min at {g(s['speed_mean_rpm'])} rpm",
+        f"energy swing  median {g(de['median'], 1e-3, ' kJ')}, p95 {g(de['p95'], 1e-3, ' kJ')},"
+        f" max {g(de['max'], 1e-3, ' kJ')}",
+        f"Cs            median {g(cs['median'])}, p95 {g(cs['p95'])}, max {g(cs['max'])}"
+        f"  (speed low-passed at {res.options['speed_cutoff_orders']:g} cycle orders)",
+        f"peak torque   p99 {g(s['torque_peak_Nm_p99'], 1e-3, ' kN·m')}",
+        *(f"note: {n}" for n in res.notes),
+        *([f"flagged: {s['flags']}"] if s["flags"] else []),
+        "",
+    ])
+    table = res.table
+    if fmt == "table":
+        table = table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
+                       "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
+                       "flag"]]
+    emit(res.to_dict(), table, fmt, output, text=text)
+
+
+
+
+# --- size
+def _size_text(d: dict[str, Any], source: str) -> str:
+    """Readable summary of a sizing result."""
+    def kg(x: float | None) -> str:
+        return "-" if x is None else f"{x:,.4g} kg·m²"
+
+    lo, hi = d["ci95_kgm2"]
+    q = d["quantile"]
+    lines = [
+        f"{source}: flywheel sizing by {d['method']} ({d['cycles_used']} clean cycles, "
+        f"mean speed {d['speed_mean_rpm']:.4g} rpm)",
+        f"design energy swing   {d['design_energy_swing_J'] / 1e3:.4g} kJ "
+        f"({'max' if q == 'max' else f'p{100 * float(q):g}'} of the cycles)",
+        f"target Cs             {d['target_cs']:.4g}",
+        f"required inertia      {kg(d['required_inertia_kgm2'])}  "
+        f"(95 % interval {kg(lo)} to {kg(hi)})",
+        f"existing inertia      {kg(d['existing_inertia_kgm2'])}",
+        f"added inertia         {kg(d['added_inertia_kgm2'])}",
+    ]
+    if d["flywheel_speed_ratio"] != 1.0:
+        lines.append(f"  at the flywheel shaft (×{d['flywheel_speed_ratio']:g} speed): "
+                     f"{kg(d['added_inertia_at_flywheel_kgm2'])}")
+    if d["identified"]:
+        idf = d["identified"]
+        lines.append(f"identified from log   {kg(idf.get('inertia_kgm2'))} (R² "
+                     f"{idf.get('r2', float('nan')):.3f})")
+    drive = d.get("drive") or {}
+    if drive.get("added_inertia_for_target_cs_kgm2") is not None:
+        lines.append(f"with motor slip       {kg(drive['added_inertia_for_target_cs_kgm2'])} "
+                     "added meets the target")
+    lines += [f"note: {m}" for m in d["messages"]]
+    lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
+    return "\n".join(lines)
+
+
+@cli.command("size")
+@click.argument("log", type=click.Path(dir_okay=True))
+@click.option("--target-cs", type=float, default=None,
+              help="Target coefficient of speed fluctuation (0 < Cs < 1).")
+@click.option("--machine-class", default=None, metavar="NAME",
+              help="Take the target Cs from the table of machine types (see the docs).")
+@click.option("--quantile", default="0.95", show_default=True,
+              help="Design quantile of the per-cycle energy swing, or 'max'.")
+@click.option("--motor-power", type=QuantityType("power", "kW"), default=None,
+              help="Motor rated power [kW].")
+@click.option("--sync-rpm", type=QuantityType("speed", "rpm"), default=None,
+              help="Motor synchronous speed [rpm].")
+@click.option("--rated-rpm", type=QuantityType("speed", "rpm"), default=None,
+              help="Motor rated (full-load) speed [rpm].")
+@click.option("--motor-ratio", type=float, default=None,
+              help="Motor speed / logged shaft speed (belt or gear ratio).")
+@click.option("--flywheel-speed-ratio", type=float, default=None,
+              help="Flywheel shaft speed / logged shaft speed.  [default: 1, or profile]")
+@click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
+@cycle_options
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+              help="Write a PNG: Cs and motor peak torque against added inertia.")
+@output_options
+def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quantile: str,
+             motor_power: float | None, sync_rpm: float | None, rated_rpm: float | None,
+             motor_ratio: float | None, flywheel_speed_ratio: float | None, seed: int,
+             plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
+    """Flywheel inertia to reach a target Cs, with its interval and the motor's view."""
+    from torqlog.errors import UsageError
+    from torqlog.inertia import size_log, size_log_dict
+
+    res, profile = run_cycles(log, kw)
+    q = parse_quantile(quantile)
+    motor = {"power": motor_power, "sync": sync_rpm, "rated": rated_rpm,
+             "speed_ratio": motor_ratio}
+    result = size_log(res, profile, target_cs=target_cs, machine_class=machine_class,
+                      quantile=q, motor=motor, flywheel_speed_ratio=flywheel_speed_ratio,
+                      seed=seed)
+    data = size_log_dict(result, res)
+    target_cs = result.target_cs
+    if plot_path:
+        from torqlog.plots import plot_drive_curve
+
+        if result.curve is None:
+            raise UsageError("--plot needs a motor (--motor-power, --sync-rpm, --rated-rpm, "
+                             "--motor-ratio, or [motor] in the profile) to simulate the drive")
+        plot_drive_curve(result.to_pandas(), plot_path, target_cs=target_cs,
+                         recommended=data["added_inertia_kgm2"])
+        click.echo(f"wrote {plot_path}", err=True)
+    emit(data, result.to_pandas() if fmt == "csv" and result.curve is not None else None,
+         fmt, output, text=_size_text(data, res.source))
+
+
+
+
+# --- trend
+def _trend_text(d: dict[str, Any], n_files: int) -> str:
+    o = d["options"]
+    dr = o["drift"]
+    lines = [f"{n_files - len(d['failed'])} of {n_files} file(s) used; {len(d['shifts'])} "
+             f"{o['by']} row(s); shifts {', '.join(o['shifts']['starts'])} "
+             f"({', '.join(o['shifts']['names'])}), zone {o['shifts']['timezone'] or 'UTC'}",
+             f"limits: {dr['baseline']}; individuals {dr['individuals']} ({dr['limits']}), "
+             f"EWMA λ = {dr['ewma_lambda']:g}, L = {dr['ewma_L']:g}; run rule {dr['run_rule']} "
+             f"({dr['run_length']} in a row on one side)"]
+    on = d["drift_onset"]
+    if on:
+        who = f"{on['machine']}: " if on["machine"] else ""
+        lines.append(f"drift began: {who}{on['date']} {on['shift']} ({on['start_time']}): "
+                     + ", ".join(on["flags"]))
+    else:
+        lines.append("drift: none flagged after the baseline")
+    lines += [f"note: {n}" for n in d["notes"]]
+    lines += [f"failed: {f['file']}: {f['reason']}" for f in d["failed"]]
+    lines.append("flags: I individuals chart, E EWMA, R run rule; + above, - below")
+    return "\n".join(lines) + "\n"
+
+
+def _short_flags(flags: list[str]) -> str:
+    """``cs_median:individuals_high`` and friends as ``cs_median I+ E+`` for a table."""
+    sym = {"individuals": "I", "ewma": "E", "run": "R"}
+    per: dict[str, list[str]] = {}
+    for f in flags:
+        fig, _, rule = f.partition(":")
+        chart, _, side = rule.rpartition("_")
+        per.setdefault(fig, []).append(sym.get(chart, chart) + ("+" if side == "high" else "-"))
+    return "; ".join(f"{k} {' '.join(v)}" for k, v in per.items())
+
+
+def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | None,
+                machine: str | None, folder_profiles: bool
+                ) -> tuple[list[Any], list[dict[str, str]], Any]:
+    """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
+    from torqlog.batch import FileJob, discover
+    from torqlog.errors import UsageError
+
+    files, missing = discover(paths)
+    if kw.get("start") and len(files) > 1:
+        raise UsageError("--start places a single file; for several files give --name-time "
+                         "PATTERN or logs that carry their own timestamps")
+    if kw.get("start"):
+        try:
+            pd.Timestamp(kw["start"])
+        except ValueError:
+            raise UsageError(f"--start {kw['start']!r} is not an ISO time, e.g. "
+                             "2026-03-02T06:00:00") from None
+    if name_time:
+        from torqlog.batch import name_time_regex
+
+        name_time_regex(name_time)
+    profile = load_profile_opt(kw.pop("profile", None))
+    read = read_kwargs(kw)
+    start = read.pop("start")
+    cyc_kw = dict(kw)
+    opts = make_cycle_options(dict(cyc_kw), profile)
+    folder_cache: dict[Path, tuple[Any, Any]] = {}
+    jobs = []
+    for f in files:
+        prof, o = profile, opts
+        if folder_profiles:
+            folder = f.parent
+            if folder not in folder_cache:
+                tomls = sorted(folder.glob("*.toml"))
+                if len(tomls) != 1:
+                    raise UsageError(f"--folder-profiles: {folder} holds {len(tomls)} .toml "
+                                     "files; put exactly one machine profile beside its logs")
+                p = load_profile_opt(str(tomls[0]))
+                folder_cache[folder] = (p, make_cycle_options(dict(cyc_kw), p))
+            prof, o = folder_cache[folder]
+        name = machine or (prof.machine.get("name") if prof is not None else None) \
+            or f.parent.name
+        jobs.append(FileJob(str(f), o, name, read, start, name_time))
+    return jobs, missing, profile
+
+
+@cli.command("trend")
+@click.argument("paths", nargs=-1, required=True)
+@cycle_options
+@click.option("--name-time", default=None, metavar="PATTERN",
+              help="Read each file's start from its name with this strftime pattern, e.g. "
+                   "'%Y%m%d_%H%M' for press4_20260302_0600.csv (used when the file states "
+                   "no start).")
+@click.option("--machine", default=None,
+              help="Machine name for all files [default: the profile's [machine] name, "
+                   "else each file's folder name].")
+@click.option("--folder-profiles", is_flag=True,
+              help="Use the one .toml profile in each file's folder for that file (a fleet "
+                   "laid out one folder per machine).")
+@click.option("--shifts", default=None, metavar="HH:MM,...",
+              help="Shift start times [default: the profile's, else 06:00,14:00,22:00].")
+@click.option("--shift-names", default=None, metavar="NAME,...",
+              help="One name per shift start [default: early,late,night for the default "
+                   "starts, else the start times].")
+@click.option("--timezone", default=None, metavar="ZONE",
+              help="IANA time zone of the shift calendar, e.g. Europe/Berlin [default: the "
+                   "profile's, else UTC]; times without a zone are read as local times in it.")
+@click.option("--by", type=click.Choice(["shift", "day", "file", "hour"]), default="shift",
+              show_default=True, help="One row per shift, production day, file or hour.")
+@click.option("--baseline-shifts", type=click.IntRange(min=2), default=9, show_default=True,
+              help="The first N rows of each machine set the control limits.")
+@click.option("--baseline", "baseline_path", type=click.Path(dir_okay=False), default=None,
+              help="Take the limits from an earlier run instead (its shifts.csv or JSON).")
+@click.option("--figures", default=",".join(("energy_swing_J_median", "cs_median",
+                                              "torque_peak_Nm_p99")), show_default=True,
+              help="Row figures to chart and judge, comma-separated.")
+@click.option("--limits", "limits_method", type=click.Choice(["prediction", "classic"]),
+              default="prediction", show_default=True,
+              help="'classic': mean ± 3σ; 'prediction': widened for the baseline's size so a "
+                   "point has the nominal 0.27 % false-alarm chance.")
+@click.option("--ewma-lambda", type=click.FloatRange(0, 1, min_open=True), default=0.2,
+              show_default=True, help="EWMA weight λ.")
+@click.option("--ewma-L", "ewma_l", type=click.FloatRange(min=0, min_open=True), default=3.0,
+              show_default=True, help="EWMA limit width L [σ of the EWMA].")
+@click.option("--run-rule", type=click.Choice(["western-electric-4", "nelson-2"]),
+              default="western-electric-4", show_default=True,
+              help="Run rule: 8 (Western Electric) or 9 (Nelson) in a row on one side.")
+@click.option("--jobs", "-j", "n_jobs", type=click.IntRange(min=1), default=None,
+              help="Parallel processes [default: all cores].")
+@click.option("--dask", "use_dask", is_flag=True,
+              help="Run on a local Dask cluster of --jobs workers (needs torqlog[cluster]).")
+@click.option("--scheduler", default=None, metavar="ADDRESS",
+              help="Run on the Dask cluster at this scheduler address (tcp://host:8786).")
+@click.option("--out-dir", type=click.Path(file_okay=False), default=None,
+              help="Write cycles.parquet (every cycle), shifts.csv (the rows) and the PNG "
+                   "plots into this folder.")
+@output_options
+def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: str | None,
+              machine: str | None, folder_profiles: bool, shifts: str | None,
+              shift_names: str | None, timezone: str | None, by: str, baseline_shifts: int,
+              baseline_path: str | None, figures: str, limits_method: str,
+              ewma_lambda: float, ewma_l: float, run_rule: str, n_jobs: int | None,
+              use_dask: bool, scheduler: str | None, out_dir: str | None,
+              **kw: Any) -> None:
+    """Trend many logs across shifts (and machines): per-shift figures, control limits
+    and the first shift where drift began. PATHS are files, folders or glob patterns."""
+    from contextlib import ExitStack, nullcontext
+
+    from torqlog.batch import dask_client
+    from torqlog.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
+
+    jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
+    calendar = ShiftCalendar.build(shifts, shift_names, timezone, profile)
+    drift = DriftOptions(figures=tuple(f.strip() for f in figures.split(",") if f.strip()),
+                         baseline_groups=baseline_shifts, lam=ewma_lambda, L=ewma_l,
+                         run_rule=run_rule, limits=limits_method)
+    baseline = read_baseline(baseline_path) if baseline_path else None
+    n_all = len(jobs) + len(missing)
+    cluster = dask_client(scheduler, n_jobs) if (use_dask or scheduler) else nullcontext()
+    with cluster as client, ExitStack() as stack:
+        progress = None
+        if sys.stderr.isatty() and jobs:
+            bar = stack.enter_context(click.progressbar(length=len(jobs), label="logs",
+                                                        file=sys.stderr))
+            progress = lambda: bar.update(1)  # noqa: E731
+        res = run_trend(jobs, calendar, by=by, drift=drift, baseline=baseline,
+                        workers=n_jobs, client=client, progress=progress, missing=missing)
+    d = res.to_dict()
+    if out_dir:
+        out = Path(out_dir)
+        out.mkdir(parents=True, exist_ok=True)
+        res.cycles_table().to_parquet(out / "cycles.parquet", index=False)
+        res.to_pandas().to_csv(out / "shifts.csv", index=False)
+        written = [out / "cycles.parquet", out / "shifts.csv", *res.plot(out)]
+        click.echo("wrote " + ", ".join(str(p) for p in written), err=True)
+    table = res.to_pandas()
+    if fmt == "table":
+        table = table.assign(start_time=[t.strftime("%Y-%m-%d %H:%M") for t in
+                                         table["start_time"]],
+                             flags=[_short_flags(f) for f in res.groups["flags"]])
+        table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95"])
+    emit(d, table, fmt, output, text=_trend_text(d, n_all))
+    if res.failed:
+        click.echo(f"Error: {len(res.failed)} of {n_all} file(s) failed: "
+                   + "; ".join(f"{f['file']}: {f['reason']}" for f in res.failed), err=True)
+        raise click.exceptions.Exit(1)

@@ -1,0 +1,147 @@
+"""Commands that make data and documents: simulate, report, demo."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import click
+
+from torqlog.cli.base import (
+    QuantityType,
+    cli,
+    cycle_options,
+    load_profile_opt,
+    make_cycle_options,
+    parse_quantile,
+    read_kwargs,
+    to_json,
+)
+
+
+# --- simulate
+@cli.command("simulate")
+@click.argument("machine")
+@click.option("-o", "--output", "output", required=True, type=click.Path(dir_okay=False),
+              help="Log file to write (.csv, .txt, .gz for gzip, .parquet for Parquet).")
+@click.option("--duration", type=QuantityType("time", "s"), default="60", show_default=True,
+              help="Length of the log [s].")
+@click.option("--rate", type=QuantityType("frequency", "Hz"), default="1000",
+              show_default=True, help="Sample rate [Hz].")
+@click.option("--channels", default="torque,speed", show_default=True,
+              help="Comma-separated channels: torque, speed, angle, index, counts.")
+@click.option("--dialect", type=click.Choice(["comma", "semicolon", "preamble", "iso"]),
+              default="comma", show_default=True, help="Logger export dialect.")
+@click.option("--seed", type=int, default=0, show_default=True, help="Random seed.")
+@click.option("--no-noise", is_flag=True, help="Leave out the sensor noise.")
+@click.option("--gaps", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Number of ~0.2 s gaps (missing samples).")
+@click.option("--spikes", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Number of one-sample torque spikes.")
+@click.option("--clip", type=QuantityType("torque", "N*m"), default=None,
+              help="Saturate the torque at ± this value [N*m].")
+@click.option("--start", default="2026-03-02T06:00:00", show_default=True,
+              help="Wall-clock time of the first sample (ISO 8601).")
+@click.option("--load-scale", type=float, default=1.0, show_default=True,
+              help="Factor on the working load (to simulate drift).")
+@click.option("--profile-out", type=click.Path(dir_okay=False), default=None,
+              help="Also write the machine profile (TOML) to this file.")
+def simulate_cmd(machine: str, output: str, duration: float, rate: float, channels: str,
+                 dialect: str, seed: int, no_noise: bool, gaps: int, spikes: int,
+                 clip: float | None, start: str, load_scale: float,
+                 profile_out: str | None) -> None:
+    """Write a synthetic log of a demo MACHINE (press, compressor, engine) of the
+    invented Brindlemoor Works plant."""
+    from torqlog.simulate import demo_profile, get_machine, simulate, write_log
+
+    log = simulate(get_machine(machine), duration=duration, rate=rate, channels=channels,
+                   seed=seed, noise=not no_noise, gaps=gaps, spikes=spikes, clip=clip,
+                   start=start, load_scale=load_scale)
+    write_log(log, output, dialect=dialect)
+    info = log.to_dict()
+    line = (f"wrote {output}: {info['name']} ({info['machine']}), {info['rows']} rows, "
+            f"{info['duration_s']:g} s at {info['rate_Hz']:g} Hz, "
+            f"channels {','.join(info['channels'])}")
+    if profile_out:
+        Path(profile_out).write_text(demo_profile(log.machine), encoding="utf-8")
+        line += f"; profile {profile_out}"
+    click.echo(line)
+
+
+# --- report
+@cli.command("report")
+@click.argument("logs", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@cycle_options
+@click.option("--target-cs", type=float, default=None,
+              help="Target coefficient of speed fluctuation [default: the profile's].")
+@click.option("--quantile", default="0.95", show_default=True,
+              help="Design quantile of the per-cycle energy swing, or 'max'.")
+@click.option("-o", "--output", "output", type=click.Path(dir_okay=False),
+              default="report.html", show_default=True, help="HTML report to write.")
+@click.option("--pdf", "pdf_path", type=click.Path(dir_okay=False), default=None,
+              help="Also write the report as PDF (matplotlib; no browser needed).")
+@click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
+              help="Also keep the PNG figures in this folder.")
+def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, output: str,
+               pdf_path: str | None, figure_dir: str | None, **kw: Any) -> None:
+    """One self-contained HTML report from LOG(s) of one machine: inputs, measured state,
+    inertia recommendation, flywheel proposal, shaft checks, trends and cautions.
+
+    The first LOG is the design log (recommendation, flywheel, shaft); several logs with
+    start times also give the shift trend.
+    """
+    from torqlog.errors import UsageError
+    from torqlog.report import build_report, write_report
+
+    profile_path = kw.pop("profile", None)
+    if not profile_path:
+        raise UsageError("give --profile FILE: the report needs the machine profile")
+    profile = load_profile_opt(profile_path)
+    read = read_kwargs(kw)
+    opts = make_cycle_options(kw, profile)
+    data = build_report(list(logs), profile_path, cycle_options=opts, read=read,
+                        target_cs=target_cs, quantile=parse_quantile(quantile),
+                        figure_dir=figure_dir)
+    for why in data.skipped.values():
+        click.echo(f"note: {why}", err=True)
+    for path in write_report(data, output, pdf_path):
+        click.echo(f"wrote {path}", err=True)
+    click.echo(output)
+
+
+# --- demo
+@cli.command("demo")
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), default="torqlog-demo",
+              show_default=True, help="Folder to write the demo into.")
+def demo_cmd(out_dir: str) -> None:
+    """Run the whole chain on the invented Brindlemoor Works demo machines.
+
+    Writes their logs and profiles, each stage's JSON (inspect, cycles, size, flywheel,
+    shaft, trend), the figures and a report per machine into OUT, and prints the path of
+    the press report last.
+    """
+    from torqlog.demo import write_demo_inputs
+    from torqlog.report import build_report, write_report
+
+    reports = []
+    for run in write_demo_inputs(out_dir):
+        data = build_report(list(run.logs), run.profile, figure_dir=run.folder)
+        stages = data.stage_json()
+        for name in ("inspect", "cycles"):
+            for log, d in zip(run.logs, stages.pop(name), strict=True):
+                (run.folder / f"{name}_{log.stem}.json").write_text(to_json(d) + "\n",
+                                                                   encoding="utf-8")
+        for name, d in stages.items():
+            (run.folder / f"{name}.json").write_text(to_json(d) + "\n", encoding="utf-8")
+        html = run.folder / "report.html"
+        write_report(data, html, run.folder / "report.pdf" if run.key == "press" else None)
+        verdicts = ", ".join(f"{v['check']} {v['verdict']}" for v in data.verdicts())
+        click.echo(f"{data.machine} ({run.key}, {len(run.logs)} log(s), {run.dialect} "
+                   f"dialect): {verdicts or 'no checks'}", err=True)
+        for why in data.skipped.values():
+            click.echo(f"  note: {why}", err=True)
+        reports.append(html)
+    first = reports.pop(0)
+    for html in reports:
+        click.echo(f"report: {html}")
+    click.echo(f"report: {first}")
