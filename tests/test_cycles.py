@@ -267,3 +267,21 @@ def test_size_needs_torque_or_inertia(tmp_path):
     res = CliRunner().invoke(cli, ["size", path, "--target-cs", "0.01"])
     assert res.exit_code in (1, 2)
     assert "a speed-only log needs the existing inertia" in res.stderr
+
+
+def test_isolated_missing_samples_are_filled_not_flagged(tmp_path):
+    # one- and two-sample dropouts are filled by interpolation and the cycle kept; a run
+    # of three or more flags its cycle (common practice, torqlog.condition.NAN_REPAIR_RUN)
+    t = np.arange(0, 5, 1e-3)
+    torque = 100 + 40 * np.sin(TWO_PI * 2 * t)
+    torque[[100, 700, 701, 1300]] = np.nan          # cycle 1: single, double; cycle 3: single
+    torque[2600:2603] = np.nan                      # cycle 6: a run of three
+    path = write_csv(tmp_path / "n.csv", {"time_s": t, "torque_Nm": torque,
+                                          "speed_rpm": np.full(t.size, 120.0)})
+    res = analyse_cycles(path)
+    flags = dict(zip(res.table["cycle"], res.table["flag"], strict=True))
+    assert flags[1] == flags[3] == ""
+    assert flags[6] == "nan"
+    assert res.summary["flags"] == {"nan": 1}
+    assert res.notes[0].startswith("4 isolated missing sample(s) (runs of at most 2) filled")
+    assert res.summary["energy_swing_J"]["median"] == pytest.approx(2 * 40, rel=0.005)

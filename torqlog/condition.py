@@ -20,6 +20,9 @@ import numpy as np
 GAP_FACTOR = 1.5
 #: This many equal consecutive samples at a cycle's extreme count as clipped.
 CLIP_RUN = 5
+#: Missing samples in runs up to this long are filled and the cycle kept; a longer run of
+#: NaNs flags its cycle (common practice: one or two dropped samples are logger hiccups).
+NAN_REPAIR_RUN = 2
 #: A one-sample jump larger than this many robust SDs of the second difference is a spike.
 SPIKE_K = 10.0
 
@@ -85,6 +88,20 @@ def spike_scale(x: np.ndarray) -> float:
     sub = d[:: max(1, d.size // 20_000)]
     scale = 1.4826 * float(np.median(np.abs(sub - np.median(sub))))
     return scale if scale > 0 else (float(np.std(sub)) or 1.0)
+
+
+def long_runs(mask: np.ndarray, longer_than: int) -> np.ndarray:
+    """Mask of the True samples of ``mask`` that sit in runs longer than ``longer_than``."""
+    m = np.asarray(mask, dtype=bool)
+    if not m.any():
+        return m
+    edges = np.diff(np.concatenate(([0], m.view(np.int8), [0])))
+    starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+    keep = ends - starts > longer_than
+    delta = np.zeros(m.size + 1, dtype=np.int64)
+    np.add.at(delta, starts[keep], 1)
+    np.add.at(delta, ends[keep], -1)
+    return np.cumsum(delta[:-1]) > 0
 
 
 def despike(x: np.ndarray, k: float = SPIKE_K, scale: float | None = None

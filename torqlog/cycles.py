@@ -241,6 +241,7 @@ class _Stream:
         self.curves: dict[str, list[np.ndarray]] = {"torque": [], "speed": []}
         self.n_curves = 0
         self.spikes = 0
+        self.nan_filled = 0
         self.spike_scale: dict[str, float] = {}
         self.samples = 0
         self.cycle_no = 0
@@ -255,7 +256,10 @@ class _Stream:
         for role in ("torque", "speed"):
             if role in chunk.channels:
                 x, bad = cond.fill_nan(t, chunk.channels[role])
-                nanmask |= bad
+                if bad.any():
+                    long = cond.long_runs(bad, cond.NAN_REPAIR_RUN)
+                    self.nan_filled += int(bad.sum() - long.sum())
+                    nanmask |= long
                 if self.o.despike:
                     if role not in self.spike_scale:
                         self.spike_scale[role] = cond.spike_scale(x)
@@ -497,6 +501,10 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
             "needs the inertia (--inertia or [machine] inertia_kgm2); left empty"))
     if "speed" not in has and not speed_from_angle:
         notes.append("no speed channel (and no angle/encoder): Cs left empty")
+    if st.nan_filled:
+        notes.append(f"{st.nan_filled} isolated missing sample(s) (runs of at most "
+                     f"{cond.NAN_REPAIR_RUN}) filled by linear interpolation; longer runs "
+                     "flag their cycle")
     if st.spikes:
         notes.append(f"{st.spikes} one-sample spike(s) replaced by their neighbours' mean")
     opts = asdict(o)

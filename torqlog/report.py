@@ -330,7 +330,12 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
                                       min_share=min_share,
                                       speed_rpm=design.summary["speed_mean_rpm"])))
     else:
-        skipped["spectrum"] = "the design log has no torque channel, so no order spectrum"
+        skipped["spectrum"] = (
+            "the design log has no torque channel, so no order spectrum"
+            if "torque" not in design.layout.roles else
+            f"the design log has no clean cycle to average (flagged: "
+            f"{', '.join(f'{k} {v}' for k, v in design.summary['flags'].items())}), so no "
+            "order spectrum")
 
     # --- recommendation
     size = size_res = None

@@ -93,7 +93,8 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         f"  (speed low-passed at {res.options['speed_cutoff_orders']:g} cycle orders)",
         f"peak torque   p99 {g(s['torque_peak_Nm_p99'], 1e-3, ' kN·m')}",
         *(f"note: {n}" for n in res.notes),
-        *([f"flagged: {s['flags']}"] if s["flags"] else []),
+        *([f"flagged cycles: {', '.join(f'{k} {v}' for k, v in s['flags'].items())} "
+           "(kept in the table, left out of the figures above)"] if s["flags"] else []),
         "",
     ])
     table = res.table
@@ -146,7 +147,9 @@ def _size_text(d: dict[str, Any], source: str) -> str:
 @click.option("--target-cs", type=float, default=None,
               help="Target coefficient of speed fluctuation (0 < Cs < 1).")
 @click.option("--machine-class", default=None, metavar="NAME",
-              help="Take the target Cs from the table of machine types (see the docs).")
+              help="Take the target Cs from the table of machine types, e.g. "
+                   "crushing-machinery, shearing-machinery, pumping-machinery, machine-tools "
+                   "(a wrong name lists them all).")
 @click.option("--quantile", default="0.95", show_default=True,
               help="Design quantile of the per-cycle energy swing, or 'max'.")
 @click.option("--motor-power", type=QuantityType("power", "kW"), default=None,
