@@ -134,16 +134,21 @@ def despike(x: np.ndarray, k: float = SPIKE_K, scale: float | None = None
         return x, mask
     if scale is None:
         scale = spike_scale(x)
-    nb = 0.5 * (x[:-2] + x[2:])
+    nb = x[:-2] + x[2:]
+    nb *= 0.5
     d = x[1:-1] - nb
-    left = x[1:-1] - x[:-2]
-    right = x[1:-1] - x[2:]
-    hit = (np.abs(d) > k * scale) & (np.sign(left) == np.sign(right)) & \
-        (np.minimum(np.abs(left), np.abs(right)) > 0.5 * k * scale)
-    if hit.any():
-        x = x.copy()
-        x[1:-1][hit] = nb[hit]
-        mask[1:-1] = hit
+    np.abs(d, out=d)
+    cand = np.flatnonzero(d > k * scale)  # few: the rest of the test runs on these only
+    if cand.size:
+        i = cand + 1
+        left, right = x[i] - x[i - 1], x[i] - x[i + 1]
+        ok = (np.sign(left) == np.sign(right)) & \
+            (np.minimum(np.abs(left), np.abs(right)) > 0.5 * k * scale)
+        hit = i[ok]
+        if hit.size:
+            x = x.copy()
+            x[hit] = nb[hit - 1]
+            mask[hit] = True
     return x, mask
 
 

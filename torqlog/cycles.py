@@ -20,16 +20,18 @@ from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 from itertools import chain
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from torqlog import angle as ang
 from torqlog import condition as cond
 from torqlog import energy as en
 from torqlog.errors import DataError, UsageError
 from torqlog.ingest import Chunk, Layout, LogReader
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 TWO_PI = 2.0 * math.pi
 RPM = 60.0 / TWO_PI
@@ -195,6 +197,8 @@ class CycleResult:
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract of ``torqlog cycles``."""
+        import pandas as pd
+
         rows = self.table.astype(object).where(self.table.notna(), None)
         if "start_time" in rows:
             rows["start_time"] = [None if v is None else pd.Timestamp(v).isoformat()
@@ -290,7 +294,10 @@ class _Stream:
             buf = {k: v[first:] for k, v in buf.items()}
             theta = buf["theta"]
             last -= first
-        th = np.maximum.accumulate(np.where(np.isfinite(theta), theta, -np.inf))
+        if self.tracker.source in ("angle", "counts"):  # measured angles can jitter back
+            th = np.maximum.accumulate(np.where(np.isfinite(theta), theta, -np.inf))
+        else:  # integrated or interpolated: increasing by construction
+            th = theta.copy()
         th[last + 1:] = np.nan
         if self.next_m is None:
             self.next_m = math.ceil(th[0] / self.span - 1e-12)
@@ -519,6 +526,8 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
 
 
 def _table(st: _Stream, lay: Layout, o: CycleOptions) -> pd.DataFrame:
+    import pandas as pd
+
     cols: dict[str, np.ndarray] = {}
     for k in st.rows[0]:
         cols[k] = np.concatenate([r[k] for r in st.rows])
@@ -596,6 +605,8 @@ def summarise(table: pd.DataFrame, **extra: Any) -> dict[str, Any]:
 
 
 def _mean_cycle(st: _Stream) -> pd.DataFrame:
+    import pandas as pd
+
     nb = st.nb_mean
     a = (np.arange(nb) + 0.5) * st.span / nb
     df = {"angle": a}

@@ -16,7 +16,7 @@ References
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -113,6 +113,7 @@ class Segments:
     offsets: np.ndarray
     cid: np.ndarray
     frac: np.ndarray
+    _bins: dict = field(default_factory=dict, compare=False, repr=False)
 
     @property
     def n(self) -> int:
@@ -134,11 +135,13 @@ class Segments:
         Returns shape (n_cycles, nbins); an empty bin is NaN.
         """
         n = self.n
-        j = (self.frac * nbins).astype(np.int64)
-        np.clip(j, 0, nbins - 1, out=j)
-        g = self.cid * nbins + j
+        if nbins not in self._bins:  # bin index and count, shared by every channel
+            j = (self.frac * nbins).astype(np.int64)
+            np.clip(j, 0, nbins - 1, out=j)
+            g = self.cid * nbins + j
+            self._bins[nbins] = (g, np.bincount(g, minlength=n * nbins))
+        g, c = self._bins[nbins]
         s = np.bincount(g, weights=values[self.lo:self.stop], minlength=n * nbins)
-        c = np.bincount(g, minlength=n * nbins)
         with np.errstate(invalid="ignore", divide="ignore"):
             out = s / c
         return out.reshape(n, nbins)
@@ -202,18 +205,24 @@ def cycle_energy(angle: np.ndarray, torque: np.ndarray, bounds: np.ndarray,
     work = np.diff(wb)
     tmean = work / span
     lo, stop, cid, off = seg.lo, seg.stop, seg.cid, seg.offsets
-    th, ww, tq = angle[lo:stop], w[lo:stop], torque[lo:stop]
-    e = ww - wb[cid] - tmean[cid] * (th - bounds[cid])
+    ww, tq = w[lo:stop], torque[lo:stop]
+    # E = W(θ) − W(θ_start) − T̄·(θ − θ_start), with T̄·(θ − θ_start) = work·frac
+    e = ww - wb[cid]
+    e -= work[cid] * seg.frac
     emax = np.maximum(np.maximum.reduceat(e, off), 0.0)
     emin = np.minimum(np.minimum.reduceat(e, off), 0.0)
     tb = np.interp(bounds, angle, torque)
     tpeak = np.maximum(np.maximum.reduceat(tq, off), np.maximum(tb[:-1], tb[1:]))
     tmin = np.minimum(np.minimum.reduceat(tq, off), np.minimum(tb[:-1], tb[1:]))
-    rel = th - bounds[cid]
     imax = _first_where(e == emax[cid], cid, n)
     imin = _first_where(e == emin[cid], cid, n)
-    amax = np.where(imax >= 0, rel[np.maximum(imax, 0)], 0.0)
-    amin = np.where(imin >= 0, rel[np.maximum(imin, 0)], 0.0)
+
+    def rel(i: np.ndarray) -> np.ndarray:  # angle from the cycle start at sample i
+        k = np.maximum(i, 0)
+        return seg.frac[k] * span[cid[k]]
+
+    amax = np.where(imax >= 0, rel(imax), 0.0)
+    amin = np.where(imin >= 0, rel(imin), 0.0)
     return CycleEnergy(work, tmean, tpeak, tmin, emax - emin, amax, amin)
 
 

@@ -20,13 +20,15 @@ import gzip
 import re
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from torqlog.errors import DataError, UsageError
 from torqlog.units import si_factor
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 #: Channel roles torqlog understands, with the unit kind used to convert each to SI.
 #: Channel roles torqlog understands, with the unit kind used to convert each to SI.
@@ -417,13 +419,21 @@ def _preamble_rate(meta: dict[str, str]) -> float | None:
     return None
 
 
+def _timestamp(value: Any) -> pd.Timestamp:
+    """``pandas.Timestamp(value)``; pandas is imported here, only when a time is given, so
+    reading a log without one does not wait for it."""
+    import pandas as pd
+
+    return pd.Timestamp(value)
+
+
 def preamble_start(meta: dict[str, str]) -> pd.Timestamp | None:
     """Absolute start time from preamble key/values (``Start: 2026-03-02 06:00:00``), or
     None when the preamble does not state one (or it is not a readable date)."""
     for key, value in meta.items():
         if key.lower() in ("start", "start time", "starttime", "date", "started", "begin"):
             try:
-                return pd.Timestamp(value)
+                return _timestamp(value)
             except (ValueError, TypeError):
                 return None
     return None
@@ -493,7 +503,7 @@ def _build_layout(p: Path, kind: str, delim: str, decimal: str, enc: str, skip: 
         words = _words(_name_and_unit(tcol.name)[0])
         if isinstance(v, str) and _ISO.match(v):
             time_kind = "timestamp"
-        elif isinstance(v, pd.Timestamp | np.datetime64 | datetime.datetime):
+        elif isinstance(v, np.datetime64 | datetime.datetime):  # pandas Timestamp too
             time_kind = "timestamp"
         elif "sample" in words or "samples" in words or tcol.unit in ("-", "#"):
             if rate is None:
@@ -505,9 +515,9 @@ def _build_layout(p: Path, kind: str, delim: str, decimal: str, enc: str, skip: 
         if time_kind != "seconds":
             unit = "ISO-8601" if time_kind == "timestamp" else "sample"
             cols[ti] = replace(tcol, factor=1.0, unit=unit, unit_source="header")
-    st = pd.Timestamp(start) if start is not None else preamble_start(preamble)
+    st = _timestamp(start) if start is not None else preamble_start(preamble)
     if st is None and time_kind == "timestamp":
-        st = pd.Timestamp(first_values[ti])
+        st = _timestamp(first_values[ti])
     tz = False
     if time_kind == "timestamp" and isinstance(first_values[0], str):
         tz = bool(re.search(r"(Z|[+-]\d{2}:?\d{2})\s*$", first_values[ti]))

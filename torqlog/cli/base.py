@@ -8,20 +8,24 @@ sentence on stderr and exit code 1 (bad data), 2 (bad usage) or 3 (strict check 
 
 from __future__ import annotations
 
+import importlib
 import json
 import math
 import sys
+import threading
 from collections.abc import Callable
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
 import numpy as np
-import pandas as pd
 
 from torqlog import __version__
 from torqlog.errors import TorqlogError
 from torqlog.units import parse_quantity
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 FORMATS = ("table", "csv", "json")
 
@@ -55,6 +59,8 @@ class QuantityType(click.ParamType):
 
 def _jsonable(obj: Any) -> Any:
     """Convert numpy/pandas scalars, NaN and timestamps to plain JSON values."""
+    import pandas as pd
+
     if isinstance(obj, dict):
         return {str(k): _jsonable(v) for k, v in obj.items()}
     if isinstance(obj, list | tuple):
@@ -86,6 +92,8 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
     ``table`` is printed for ``table`` and ``csv``; ``text`` (if given) is printed
     before the table in ``table`` format; ``data`` is the JSON contract.
     """
+    import pandas as pd
+
     if fmt == "json":
         body = to_json(data) + "\n"
     elif fmt == "csv":
@@ -163,6 +171,9 @@ def cli(ctx: click.Context, debug: bool) -> None:
     sizing, burst and shaft checks, and shift trends."""
     ctx.ensure_object(dict)
     ctx.obj["debug"] = debug
+    # pandas takes ~0.3 s to import and is needed only when results are tabled: import it
+    # in the background while the command reads its input (the reader does not need it)
+    threading.Thread(target=importlib.import_module, args=("pandas",), daemon=True).start()
 
 
 def main() -> None:

@@ -7,7 +7,6 @@ from pathlib import Path
 from typing import Any
 
 import click
-import pandas as pd
 
 from torqlog.cli.base import (
     QuantityType,
@@ -34,6 +33,8 @@ from torqlog.cli.base import (
 def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
             **kw: Any) -> None:
     """Show what is in a log: columns, roles, units, rate, gaps, NaNs, clipping."""
+    import pandas as pd
+
     from torqlog.survey import survey_log
 
     s = survey_log(log, nominal_speed=speed_rpm, **read_kwargs(kw))
@@ -237,6 +238,8 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
                 machine: str | None, folder_profiles: bool
                 ) -> tuple[list[Any], list[dict[str, str]], Any]:
     """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
+    import pandas as pd
+
     from torqlog.batch import FileJob, discover
     from torqlog.errors import UsageError
 
