@@ -62,7 +62,7 @@ _NUM = re.compile(r"^\s*[-+]?(\d+([.,]\d*)?|[.,]\d+)([eE][-+]?\d+)?\s*$")
 _ISO = re.compile(r"^\s*\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2})?\s*$")
 _META = re.compile(r"^\s*#?\s*([A-Za-z][\w .()/-]{0,40}?)\s*[:=]\s*(.*?)\s*$")
 _BRACKET_UNIT = re.compile(r"^(.*?)\s*[\[(]\s*([^\])]*)\s*[\])]\s*$")
-_SNIFF_BYTES = 256 * 1024
+_SNIFF_BYTES = 64 * 1024
 
 
 @dataclass(frozen=True)
