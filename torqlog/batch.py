@@ -201,7 +201,9 @@ def process_file(job: FileJob) -> FileOutcome:
         pa.set_cpu_count(job.threads)
     try:
         start, src = _file_start(job)
-        res = analyse_cycles(job.path, job.options, start=start.isoformat(), **job.read)
+        # a one-core budget means one core: no read-ahead thread beside the computation
+        opts = replace(job.options, read_ahead=False) if job.threads == 1 else job.options
+        res = analyse_cycles(job.path, opts, start=start.isoformat(), **job.read)
     except TorqlogError as exc:
         return FileOutcome(job.path, job.machine, None, {}, str(exc))
     except Exception as exc:  # noqa: BLE001 - one bad file must not stop the batch

@@ -77,6 +77,9 @@ class CycleOptions:
         Replace one-sample spikes before computing.
     block_rows : int
         Rows per chunk read.
+    read_ahead : bool
+        Parse the next chunk in a background thread while this one is computed (about
+        1.3 cores in use); off, the log is read and computed in turn on one core.
     """
 
     revs_per_cycle: int = 1
@@ -89,6 +92,7 @@ class CycleOptions:
     torque_role: str = "load"
     despike: bool = True
     block_rows: int = 100_000
+    read_ahead: bool = True
 
     def __post_init__(self) -> None:
         if int(self.revs_per_cycle) != self.revs_per_cycle or self.revs_per_cycle < 1:
@@ -469,7 +473,7 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     """
     o = options or CycleOptions()
     reader = LogReader(path, block_rows=o.block_rows, roles=roles, units=units, rate=rate,
-                       start=start)
+                       start=start, read_ahead=o.read_ahead)
     lay = reader.layout
     roles_present = set(lay.roles)
     source = ang.pick_cycle_source(roles_present, nominal_speed=o.nominal_speed,
@@ -519,6 +523,7 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                  "angle_grid_bins": nb_mean, "sample_rate_hz": 1.0 / st.dt if st.dt else None,
                  **extra})
     opts.pop("block_rows")
+    opts.pop("read_ahead")
     summary = summarise(table, spikes=st.spikes, samples=st.samples)
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}

@@ -124,12 +124,13 @@ class LogReader:
     ...     process(chunk.time, chunk.channels["torque"])
     """
 
-    def __init__(self, path: str | Path, block_rows: int = 500_000,
-                 **sniff_options: Any) -> None:
+    def __init__(self, path: str | Path, block_rows: int = 500_000, *,
+                 read_ahead: bool = True, **sniff_options: Any) -> None:
         if int(block_rows) < 1:
             raise UsageError(f"block_rows must be at least 1, got {block_rows}")
         self.layout = sniff_layout(path, **sniff_options)
         self.block_rows = int(block_rows)
+        self.read_ahead = read_ahead
         self._raw: pa.NativeFile | None = None
         self._size = max(Path(self.layout.path).stat().st_size, 1)
 
@@ -238,36 +239,43 @@ class LogReader:
             raise DataError(f"{lay.path}: line {lay.skip_rows + base + i + 2}: timestamp {what}; "
                             "sort the rows by time and remove duplicates")
 
+    def _groups(self, wanted: list[Column]) -> Iterator[pa.Table]:
+        """pyarrow's blocks regrouped into tables of exactly ``block_rows`` rows (the last
+        may be shorter); blocks longer than a chunk are cut with zero-copy slices."""
+        group: list[pa.RecordBatch] = []
+        rows = 0
+        for batch in self._batches(wanted):
+            at = 0
+            while at < batch.num_rows:
+                take = min(batch.num_rows - at, self.block_rows - rows)
+                group.append(batch.slice(at, take))
+                rows += take
+                at += take
+                if rows >= self.block_rows:
+                    yield pa.Table.from_batches(group)
+                    group, rows = [], 0
+        if group:
+            yield pa.Table.from_batches(group)
+
     def _grouped(self, wanted: list[Column]) -> Iterator[pa.Table]:
-        """Small pyarrow blocks grouped into chunks of ~block_rows, read one chunk ahead.
+        """Chunks of ``block_rows`` rows, read one chunk ahead unless ``read_ahead`` is off.
 
         A background thread parses the next chunk (pyarrow releases the GIL while it
         parses) while the caller computes on this one; the queue holds at most two
         chunks, so memory stays bounded by the chunk size.
         """
+        if not self.read_ahead:
+            yield from self._groups(wanted)
+            return
         q: queue.Queue = queue.Queue(maxsize=2)
         stop = threading.Event()
 
         def produce() -> None:
-            group: list[pa.RecordBatch] = []
-            rows = 0
             try:
-                for batch in self._batches(wanted):
+                for table in self._groups(wanted):
                     if stop.is_set():
                         return
-                    # pyarrow's blocks can hold more rows than a chunk: cut them
-                    # (zero-copy slices) so no chunk exceeds block_rows
-                    at = 0
-                    while at < batch.num_rows:
-                        take = min(batch.num_rows - at, self.block_rows - rows)
-                        group.append(batch.slice(at, take))
-                        rows += take
-                        at += take
-                        if rows >= self.block_rows:
-                            q.put(pa.Table.from_batches(group))
-                            group, rows = [], 0
-                if group:
-                    q.put(pa.Table.from_batches(group))
+                    q.put(table)
                 q.put(None)
             except BaseException as exc:  # noqa: BLE001 - handed to the consumer
                 q.put(exc)
