@@ -219,10 +219,10 @@ class LogReader:
 
     def _check_time(self, time: np.ndarray, row: int, last: float | None) -> None:
         lay = self.layout
-        d = np.diff(time)
         first_ok = last is None or time[0] > last
-        if first_ok and not np.isnan(time[0]) and bool((d > 0).all()):
-            return  # the common case: one pass (a NaN fails the comparison)
+        if first_ok and not np.isnan(time[0]) and bool((time[1:] > time[:-1]).all()):
+            return  # the common case: one comparison pass (a NaN fails it)
+        d = np.diff(time)
         if np.isnan(time).any():
             i = int(np.flatnonzero(np.isnan(time))[0])
             raise DataError(f"{lay.path}: line {lay.skip_rows + row + i + 1}: empty time value; "
