@@ -359,8 +359,8 @@ def _continue_trapezoid(speed: np.ndarray, time: np.ndarray, speed0: float, time
     """
     inc = np.empty(speed.size, dtype=np.float64)
     inc[0] = (speed0 + speed[0]) * (time[0] - time0)
-    np.add(speed[1:], speed[:-1], out=inc[1:])
-    inc[1:] *= np.diff(time)
+    np.subtract(time[1:], time[:-1], out=inc[1:])
+    inc[1:] *= np.add(speed[1:], speed[:-1])
     np.cumsum(inc, out=inc)
     inc *= 0.5
     inc += theta0

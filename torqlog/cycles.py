@@ -302,8 +302,10 @@ class _Stream:
             last -= first
         if self.tracker.source in ("angle", "counts"):  # measured angles can jitter back
             th = np.maximum.accumulate(np.where(np.isfinite(theta), theta, -np.inf))
-        else:  # integrated or interpolated: increasing by construction
+        elif last + 1 < len(theta):  # integrated or interpolated: increasing by construction
             th = theta.copy()
+        else:  # nothing to blank out: no copy
+            th = theta
         th[last + 1:] = np.nan
         if self.next_m is None:
             self.next_m = math.ceil(th[0] / self.span - 1e-12)
@@ -343,7 +345,9 @@ class _Stream:
         tq = buf.get("torque")
         if tq is not None:
             tq = tq[: len(t)]
-            ce = en.cycle_energy(th, tq, bounds, sg)
+            # the emitted cycles end before sample ``stop``: integrate no further
+            end = min(stop + 1, len(t))
+            ce = en.cycle_energy(th[:end], tq[:end], bounds, sg)
             row.update(work=ce.work, torque_mean=ce.torque_mean, torque_peak=ce.torque_peak,
                        torque_min=ce.torque_min, energy_swing=ce.energy_swing)
             if o.torque_role == "load":

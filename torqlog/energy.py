@@ -17,6 +17,7 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -32,10 +33,10 @@ def cumulative_trapezoid(y: np.ndarray, x: np.ndarray, initial: float = 0.0) -> 
     out = np.empty(y.size, dtype=np.float64)
     out[0] = initial
     if y.size > 1:
-        inc = np.add(y[1:], y[:-1])
-        inc *= np.diff(x)
         run = out[1:]
-        np.cumsum(inc, out=run)
+        np.subtract(x[1:], x[:-1], out=run)  # Δx, then (y[i] + y[i-1])·Δx, in place
+        run *= np.add(y[1:], y[:-1])
+        np.cumsum(run, out=run)
         run *= 0.5
         if initial:
             run += initial
@@ -183,35 +184,54 @@ class Segments:
         n = self.n
         if nbins not in self._bins:
             self._bins[nbins] = self._bin_layout(nbins)
-        g, runs = self._bins[nbins]
+        lay = self._bins[nbins]
         x = values[self.lo:self.stop]
-        if runs is None:  # angle not increasing: scatter, counting every bin
+        if lay["runs"] is None:  # angle not increasing: scatter, counting every bin
+            g = self._bin_number(nbins)
             with np.errstate(invalid="ignore", divide="ignore"):
                 out = np.bincount(g, weights=x, minlength=n * nbins)
                 out /= np.bincount(g, minlength=n * nbins)
             return out.reshape(n, nbins)
-        start, ids, count = runs
+        start, ids, count = lay["runs"]
         out = np.full(n * nbins, np.nan)
         if sequential:
+            g = self._bin_number(nbins)
             out[ids] = np.bincount(g, weights=x, minlength=n * nbins)[ids] / count
         else:
             out[ids] = np.add.reduceat(x, start) / count
         return out.reshape(n, nbins)
 
-    def _bin_layout(self, nbins: int
-                    ) -> tuple[np.ndarray, tuple[np.ndarray, ...] | None]:
-        """Global bin number of every sample, and its runs (start, bin, length) when
-        the bin numbers never decrease (None otherwise)."""
-        n = self.n
-        g = (self.frac * nbins).astype(np.int64)
-        np.clip(g, 0, nbins - 1, out=g)
-        g += np.repeat(np.arange(0, n * nbins, nbins, dtype=np.int64), self.counts)
-        if not (g.size and bool((g[1:] >= g[:-1]).all())):
-            return g, None
-        start = np.flatnonzero(g[1:] != g[:-1])
+    def _bin_layout(self, nbins: int) -> dict[str, Any]:
+        """Bin of every sample within its cycle (``j``) and, when the bins never go back
+        within a cycle, the runs of samples sharing a bin: (start, global bin, length)."""
+        j = (self.frac * nbins).astype(np.int64)
+        np.clip(j, 0, nbins - 1, out=j)
+        lay: dict[str, Any] = {"j": j, "runs": None}
+        if j.size == 0:
+            return lay
+        new_cycle = self.offsets[1:] - 1  # pair (i, i + 1) that opens the next cycle
+        new_cycle = new_cycle[(new_cycle >= 0) & (new_cycle < j.size - 1)]  # empty cycles
+        back = j[1:] < j[:-1]
+        back[new_cycle] = False
+        if back.any():
+            return lay
+        change = j[1:] != j[:-1]
+        change[new_cycle] = True
+        start = np.flatnonzero(change)
         start += 1
         start = np.concatenate(([0], start))
-        return g, (start, g[start], np.diff(np.append(start, g.size)))
+        cycle = np.searchsorted(self.offsets, start, side="right") - 1
+        lay["runs"] = (start, cycle * nbins + j[start], np.diff(np.append(start, j.size)))
+        return lay
+
+    def _bin_number(self, nbins: int) -> np.ndarray:
+        """Global bin number (cycle · nbins + bin) of every sample, kept once made."""
+        lay = self._bins[nbins]
+        if "g" not in lay:
+            g = np.repeat(np.arange(0, self.n * nbins, nbins, dtype=np.int64), self.counts)
+            g += lay["j"]
+            lay["g"] = g
+        return lay["g"]
 
 
 def segments(angle: np.ndarray, bounds: np.ndarray) -> tuple[np.ndarray, np.ndarray, int]:
