@@ -174,7 +174,7 @@ class Segments:
             True: each bin's samples are added one by one in sample order
             (``np.bincount``), the order the per-cycle figures are defined with. False:
             contiguous runs are summed with ``np.add.reduceat`` (pairwise, several times
-            faster, equal to the last few bits) — for the mean cycle and plots.
+            faster, equal but for the last few bits) — for the mean cycle and plots.
 
         Returns
         -------
