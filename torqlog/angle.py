@@ -350,6 +350,23 @@ def _parabolic(y: np.ndarray, k: int) -> float:
     return float(k) if den == 0 else float(k + 0.5 * (a - c) / den)
 
 
+def _continue_trapezoid(speed: np.ndarray, time: np.ndarray, speed0: float, time0: float,
+                        theta0: float) -> np.ndarray:
+    """Angle [rad] at ``time`` integrating ``speed`` [rad/s] on from (time0, speed0, theta0).
+
+    Trapezoid rule, continuing a running integral across chunks without copying the
+    chunk: the step from the previous chunk's last sample leads the running sum.
+    """
+    inc = np.empty(speed.size, dtype=np.float64)
+    inc[0] = (speed0 + speed[0]) * (time[0] - time0)
+    np.subtract(time[1:], time[:-1], out=inc[1:])
+    inc[1:] *= np.add(speed[1:], speed[:-1])
+    np.cumsum(inc, out=inc)
+    inc *= 0.5
+    inc += theta0
+    return inc
+
+
 class AngleTracker:
     """Shaft angle for a stream of chunks, from one cycle source.
 
@@ -430,9 +447,8 @@ class AngleTracker:
             if np.isnan(w).any():
                 w = _fill_nan(time, w)
             if self._last_t is not None:
-                tt = np.concatenate(([self._last_t], time))
-                ww = np.concatenate(([self._last_w], w))
-                theta = self._last_theta + cumulative_trapezoid(ww, tt, initial=0.0)[1:]
+                theta = _continue_trapezoid(w, time, self._last_w, self._last_t,
+                                            self._last_theta)
             else:
                 theta = cumulative_trapezoid(w, time, initial=0.0)
             self._last_t, self._last_w = float(time[-1]), float(w[-1])

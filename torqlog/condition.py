@@ -134,9 +134,9 @@ def despike(x: np.ndarray, k: float = SPIKE_K, scale: float | None = None
         return x, mask
     if scale is None:
         scale = spike_scale(x)
-    nb = x[:-2] + x[2:]
-    nb *= 0.5
-    d = x[1:-1] - nb
+    d = x[:-2] + x[2:]  # one temporary: d = |x[i] − (x[i−1] + x[i+1])/2|, in place
+    d *= -0.5
+    d += x[1:-1]
     np.abs(d, out=d)
     cand = np.flatnonzero(d > k * scale)  # few: the rest of the test runs on these only
     if cand.size:
@@ -147,22 +147,42 @@ def despike(x: np.ndarray, k: float = SPIKE_K, scale: float | None = None
         hit = i[ok]
         if hit.size:
             x = x.copy()
-            x[hit] = nb[hit - 1]
+            x[hit] = 0.5 * (x[hit - 1] + x[hit + 1])
             mask[hit] = True
     return x, mask
 
 
-def flat_runs(x: np.ndarray, min_run: int = CLIP_RUN) -> np.ndarray:
-    """Mask of samples inside runs of at least ``min_run`` equal consecutive values."""
+def flat_run_index(x: np.ndarray, min_run: int = CLIP_RUN) -> np.ndarray:
+    """Indices of the samples inside runs of at least ``min_run`` equal consecutive values.
+
+    One comparison pass over ``x``; the rest works on the (usually few) samples equal to
+    their predecessor, so it is cheap on noisy signals. NaN equals nothing.
+    """
     x = np.asarray(x)
     n = x.size
     if n < min_run:
-        return np.zeros(n, dtype=bool)
-    same = np.concatenate(([False], x[1:] == x[:-1]))
-    start = np.flatnonzero(~same)
-    length = np.diff(np.concatenate((start, [n])))
-    run_len = np.repeat(length, length)
-    return run_len >= min_run
+        return np.empty(0, dtype=np.int64)
+    if min_run <= 1:
+        return np.arange(n)
+    pos = np.flatnonzero(x[1:] == x[:-1])  # x[p + 1] == x[p]
+    if pos.size < min_run - 1:
+        return np.empty(0, dtype=np.int64)
+    brk = np.flatnonzero(np.diff(pos) != 1) + 1  # where consecutive equal pairs break
+    first = pos[np.concatenate(([0], brk))]
+    length = pos[np.concatenate((brk, [pos.size])) - 1] - first + 2  # samples in the run
+    keep = length >= min_run
+    first, length = first[keep], length[keep]
+    if not first.size:
+        return np.empty(0, dtype=np.int64)
+    within = np.arange(int(length.sum())) - np.repeat(np.cumsum(length) - length, length)
+    return np.repeat(first, length) + within
+
+
+def flat_runs(x: np.ndarray, min_run: int = CLIP_RUN) -> np.ndarray:
+    """Mask of samples inside runs of at least ``min_run`` equal consecutive values."""
+    mask = np.zeros(np.asarray(x).size, dtype=bool)
+    mask[flat_run_index(x, min_run)] = True
+    return mask
 
 
 def lowpass(x: np.ndarray, cutoff: float, taper: float = 0.25) -> np.ndarray:

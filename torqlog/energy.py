@@ -17,6 +17,7 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -26,11 +27,19 @@ def cumulative_trapezoid(y: np.ndarray, x: np.ndarray, initial: float = 0.0) -> 
 
     The same rule as ``scipy.integrate.cumulative_trapezoid(..., initial=0)``, kept here
     in numpy so the streaming path does not import scipy (it costs ~1 s of start-up).
+    The sums are formed in place, and the factor ½ is applied after the running sum
+    (scaling by a power of two is exact, so the result is bit-for-bit the same).
     """
     out = np.empty(y.size, dtype=np.float64)
     out[0] = initial
-    np.cumsum(0.5 * (y[1:] + y[:-1]) * np.diff(x), out=out[1:])
-    out[1:] += initial
+    if y.size > 1:
+        run = out[1:]
+        np.subtract(x[1:], x[:-1], out=run)  # Δx, then (y[i] + y[i-1])·Δx, in place
+        run *= np.add(y[1:], y[:-1])
+        np.cumsum(run, out=run)
+        run *= 0.5
+        if initial:
+            run += initial
     return out
 
 
@@ -105,6 +114,8 @@ class Segments:
         Cycle number of each sample in ``lo:stop``.
     frac : ndarray
         Position of each sample in ``lo:stop`` within its cycle, 0 ≤ frac ≤ 1.
+    counts : ndarray of int
+        Samples in each cycle.
     """
 
     bounds: np.ndarray
@@ -113,6 +124,7 @@ class Segments:
     offsets: np.ndarray
     cid: np.ndarray
     frac: np.ndarray
+    counts: np.ndarray
     _bins: dict = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -125,26 +137,101 @@ class Segments:
         """Locate the cycles given by ``bounds`` in an increasing ``angle`` array."""
         starts, cid, stop = segments(angle, bounds)
         lo = int(starts[0])
-        span = np.diff(bounds)
-        frac = (angle[lo:stop] - bounds[cid]) / span[cid]
-        return cls(bounds, lo, stop, starts - lo, cid, frac)
+        counts = np.diff(np.append(starts, stop))
+        # per-cycle values spread by np.repeat: the same numbers as indexing by ``cid``,
+        # without a gather
+        frac = angle[lo:stop] - np.repeat(bounds[:-1], counts)
+        frac /= np.repeat(np.diff(bounds), counts)
+        return cls(bounds, lo, stop, starts - lo, cid, frac, counts)
 
-    def bins(self, values: np.ndarray, nbins: int) -> np.ndarray:
+    def head(self, n: int) -> Segments:
+        """The first ``n`` cycles (views, no copies)."""
+        if n >= self.n:
+            return self
+        end = int(self.offsets[n])
+        return Segments(self.bounds[: n + 1], self.lo, self.lo + end, self.offsets[:n],
+                        self.cid[:end], self.frac[:end], self.counts[:n])
+
+    def spread(self, per_cycle: np.ndarray) -> np.ndarray:
+        """One value per cycle repeated over that cycle's samples (``per_cycle[cid]``)."""
+        return np.repeat(per_cycle, self.counts)
+
+    def bins(self, values: np.ndarray, nbins: int, *, sequential: bool = True
+             ) -> np.ndarray:
         """Mean of ``values`` (full-length array) in ``nbins`` equal angle bins per cycle.
 
-        Returns shape (n_cycles, nbins); an empty bin is NaN.
+        The bin of every sample is worked out once per ``nbins`` and shared by every
+        channel. With the angle increasing (the usual case) each bin is a contiguous run
+        of samples, so the sample counts come from the run lengths.
+
+        Parameters
+        ----------
+        values : ndarray
+            One value per sample of the angle array the segments were built on.
+        nbins : int
+            Bins per cycle.
+        sequential : bool
+            True: each bin's samples are added one by one in sample order
+            (``np.bincount``), the order the per-cycle figures are defined with. False:
+            contiguous runs are summed with ``np.add.reduceat`` (pairwise, several times
+            faster, equal but for the last few bits) — for the mean cycle and plots.
+
+        Returns
+        -------
+        ndarray, shape (n_cycles, nbins)
+            Bin means; an empty bin is NaN.
         """
         n = self.n
-        if nbins not in self._bins:  # bin index and count, shared by every channel
-            j = (self.frac * nbins).astype(np.int64)
-            np.clip(j, 0, nbins - 1, out=j)
-            g = self.cid * nbins + j
-            self._bins[nbins] = (g, np.bincount(g, minlength=n * nbins))
-        g, c = self._bins[nbins]
-        s = np.bincount(g, weights=values[self.lo:self.stop], minlength=n * nbins)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            out = s / c
+        if nbins not in self._bins:
+            self._bins[nbins] = self._bin_layout(nbins)
+        lay = self._bins[nbins]
+        x = values[self.lo:self.stop]
+        if lay["runs"] is None:  # angle not increasing: scatter, counting every bin
+            g = self._bin_number(nbins)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                out = np.bincount(g, weights=x, minlength=n * nbins)
+                out /= np.bincount(g, minlength=n * nbins)
+            return out.reshape(n, nbins)
+        start, ids, count = lay["runs"]
+        out = np.full(n * nbins, np.nan)
+        if sequential:
+            g = self._bin_number(nbins)
+            out[ids] = np.bincount(g, weights=x, minlength=n * nbins)[ids] / count
+        else:
+            out[ids] = np.add.reduceat(x, start) / count
         return out.reshape(n, nbins)
+
+    def _bin_layout(self, nbins: int) -> dict[str, Any]:
+        """Bin of every sample within its cycle (``j``) and, when the bins never go back
+        within a cycle, the runs of samples sharing a bin: (start, global bin, length)."""
+        j = (self.frac * nbins).astype(np.int64)
+        np.clip(j, 0, nbins - 1, out=j)
+        lay: dict[str, Any] = {"j": j, "runs": None}
+        if j.size == 0:
+            return lay
+        new_cycle = self.offsets[1:] - 1  # pair (i, i + 1) that opens the next cycle
+        new_cycle = new_cycle[(new_cycle >= 0) & (new_cycle < j.size - 1)]  # empty cycles
+        back = j[1:] < j[:-1]
+        back[new_cycle] = False
+        if back.any():
+            return lay
+        change = j[1:] != j[:-1]
+        change[new_cycle] = True
+        start = np.flatnonzero(change)
+        start += 1
+        start = np.concatenate(([0], start))
+        cycle = np.searchsorted(self.offsets, start, side="right") - 1
+        lay["runs"] = (start, cycle * nbins + j[start], np.diff(np.append(start, j.size)))
+        return lay
+
+    def _bin_number(self, nbins: int) -> np.ndarray:
+        """Global bin number (cycle · nbins + bin) of every sample, kept once made."""
+        lay = self._bins[nbins]
+        if "g" not in lay:
+            g = np.repeat(np.arange(0, self.n * nbins, nbins, dtype=np.int64), self.counts)
+            g += lay["j"]
+            lay["g"] = g
+        return lay["g"]
 
 
 def segments(angle: np.ndarray, bounds: np.ndarray) -> tuple[np.ndarray, np.ndarray, int]:
@@ -207,15 +294,17 @@ def cycle_energy(angle: np.ndarray, torque: np.ndarray, bounds: np.ndarray,
     lo, stop, cid, off = seg.lo, seg.stop, seg.cid, seg.offsets
     ww, tq = w[lo:stop], torque[lo:stop]
     # E = W(θ) − W(θ_start) − T̄·(θ − θ_start), with T̄·(θ − θ_start) = work·frac
-    e = ww - wb[cid]
-    e -= work[cid] * seg.frac
+    e = ww - seg.spread(wb[:-1])
+    tw = seg.spread(work)
+    tw *= seg.frac
+    e -= tw
     emax = np.maximum(np.maximum.reduceat(e, off), 0.0)
     emin = np.minimum(np.minimum.reduceat(e, off), 0.0)
     tb = np.interp(bounds, angle, torque)
     tpeak = np.maximum(np.maximum.reduceat(tq, off), np.maximum(tb[:-1], tb[1:]))
     tmin = np.minimum(np.minimum.reduceat(tq, off), np.minimum(tb[:-1], tb[1:]))
-    imax = _first_where(e == emax[cid], cid, n)
-    imin = _first_where(e == emin[cid], cid, n)
+    imax = _first_where(e == seg.spread(emax), cid, n)
+    imin = _first_where(e == seg.spread(emin), cid, n)
 
     def rel(i: np.ndarray) -> np.ndarray:  # angle from the cycle start at sample i
         k = np.maximum(i, 0)

@@ -158,9 +158,12 @@ class LogReader:
                 arr = batch.column(c.name)
                 if c.role == "time":
                     time = self._time(arr, row, n)
+                elif c.factor != 1.0:
+                    values = _scaled(arr, c.factor)
+                    chans[c.role] = values if values is not None else \
+                        self._values(arr, c, row) * c.factor
                 else:
-                    values = self._values(arr, c, row)
-                    chans[c.role] = values * c.factor if c.factor != 1.0 else values
+                    chans[c.role] = self._values(arr, c, row)
             if time is None:
                 time = (row + np.arange(n, dtype=np.float64)) / lay.rate
             elif lay.time_kind == "timestamp":
@@ -170,7 +173,7 @@ class LogReader:
             elif lay.time_kind == "seconds":
                 if t0 is None:
                     t0 = float(time[0])
-                time = time - t0
+                time -= t0  # a fresh array from _time: shift it in place
             self._check_time(time, row, last_t)
             last_t = float(time[-1])
             yield Chunk(row, time, chans)
@@ -212,17 +215,18 @@ class LogReader:
                                     "timestamp; remove the row or fill in the time")
                 return _numbers(ns, np.int64)
             raise DataError(f"{lay.path}: time column is not ISO-8601 throughout")
-        values = _to_float(arr)
         if lay.time_kind == "index":
-            return values / lay.rate
-        return values * lay.column("time").factor
+            return _to_float(arr) / lay.rate
+        factor = lay.column("time").factor
+        values = _scaled(arr, factor)  # always a new array: the caller shifts it in place
+        return values if values is not None else _to_float(arr) * factor
 
     def _check_time(self, time: np.ndarray, row: int, last: float | None) -> None:
         lay = self.layout
-        d = np.diff(time)
         first_ok = last is None or time[0] > last
-        if first_ok and not np.isnan(time[0]) and bool((d > 0).all()):
-            return  # the common case: one pass (a NaN fails the comparison)
+        if first_ok and not np.isnan(time[0]) and bool((time[1:] > time[:-1]).all()):
+            return  # the common case: one comparison pass (a NaN fails it)
+        d = np.diff(time)
         if np.isnan(time).any():
             i = int(np.flatnonzero(np.isnan(time))[0])
             raise DataError(f"{lay.path}: line {lay.skip_rows + row + i + 1}: empty time value; "
@@ -355,6 +359,21 @@ def _numbers(arr: pa.Array | pa.ChunkedArray, dtype: type = np.float64) -> np.nd
 
 def _to_float(arr: pa.Array | pa.ChunkedArray) -> np.ndarray:
     return _numbers(arr, np.float64)
+
+
+def _scaled(arr: pa.Array | pa.ChunkedArray, factor: float) -> np.ndarray | None:
+    """``arr × factor`` as a new float64 array, written piece by piece (no combined copy
+    first); None unless ``arr`` is a float64 column, for the general path to handle."""
+    if arr.type != pa.float64():
+        return None
+    pieces = arr.chunks if isinstance(arr, pa.ChunkedArray) else [arr]
+    out = np.empty(len(arr), dtype=np.float64)
+    at = 0
+    for piece in pieces:
+        k = len(piece)
+        np.multiply(_numbers(piece), factor, out=out[at:at + k])
+        at += k
+    return out
 
 
 def _explain_arrow_error(lay: Layout, wanted: list[Column], exc: Exception) -> DataError:
