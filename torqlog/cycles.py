@@ -15,7 +15,9 @@ References
 
 from __future__ import annotations
 
+import functools
 import math
+from collections import Counter
 from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 from itertools import chain
@@ -165,13 +167,15 @@ class CycleResult:
     ----------
     source : str
         The log file.
-    table : pandas.DataFrame
-        One row per cycle, columns :data:`COLUMNS`.
+    columns : dict of str to ndarray
+        The per-cycle figures, one array per column of :data:`COLUMNS`; ``table`` is the
+        same as a pandas.DataFrame.
     summary : dict
         Statistics over clean cycles.
-    mean_cycle : pandas.DataFrame
+    mean : dict of str to ndarray
         The mean clean cycle on a uniform angle grid: ``angle`` [rad] (bin centres),
-        ``torque_mean``, ``torque_sd`` [N*m], ``speed_mean``, ``speed_sd`` [rad/s].
+        ``torque_mean``, ``torque_sd`` [N*m], ``speed_mean``, ``speed_sd`` [rad/s];
+        ``mean_cycle`` is the same as a pandas.DataFrame.
     curves : dict
         ``"torque"`` and ``"speed"``: arrays (cycles, bins) of the first clean cycles,
         for plots.
@@ -184,13 +188,29 @@ class CycleResult:
     """
 
     source: str
-    table: pd.DataFrame
+    columns: dict[str, np.ndarray]
     summary: dict[str, Any]
-    mean_cycle: pd.DataFrame
+    mean: dict[str, np.ndarray]
     curves: dict[str, np.ndarray]
     options: dict[str, Any]
     layout: Layout
     notes: list[str] = field(default_factory=list)
+
+    # The figures are kept as numpy columns; the pandas tables are built on first use, so
+    # `torqlog cycles` never has to import pandas (~0.3 s of start-up).
+    @functools.cached_property
+    def table(self) -> pd.DataFrame:
+        """One row per cycle, columns :data:`COLUMNS`."""
+        import pandas as pd
+
+        return pd.DataFrame(self.columns)
+
+    @functools.cached_property
+    def mean_cycle(self) -> pd.DataFrame:
+        """The mean clean cycle on a uniform angle grid (see the class docstring)."""
+        import pandas as pd
+
+        return pd.DataFrame(self.mean)
 
     def to_pandas(self) -> pd.DataFrame:
         """The per-cycle table."""
@@ -202,21 +222,24 @@ class CycleResult:
         return self.table[self.table["flag"] == ""]
 
     def to_dict(self) -> dict[str, Any]:
-        """The JSON contract of ``torqlog cycles``."""
-        import pandas as pd
-
-        rows = self.table.astype(object).where(self.table.notna(), None)
-        if "start_time" in rows:
-            rows["start_time"] = [None if v is None else pd.Timestamp(v).isoformat()
-                                  for v in rows["start_time"]]
-        return {"source": self.source, "options": self.options,
-                "cycles": rows.to_dict(orient="records"), "summary": self.summary,
-                "notes": self.notes}
+        """The JSON contract of ``torqlog cycles`` (NaN and NaT become None)."""
+        cols = []
+        for name in COLUMNS:
+            v = self.columns[name]
+            if name == "start_time":
+                cols.append([None if _isnat(x) else _iso(x) for x in v])
+            elif v.dtype.kind == "f":
+                cols.append([None if x != x else x for x in v.tolist()])
+            else:
+                cols.append(v.tolist())
+        rows = [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
+        return {"source": self.source, "options": self.options, "cycles": rows,
+                "summary": self.summary, "notes": self.notes}
 
     def energy_curve(self) -> np.ndarray:
         """E(θ) [J] of the mean cycle on the ``mean_cycle`` grid (bin edges from 0)."""
-        a = self.mean_cycle["angle"].to_numpy()
-        t = self.mean_cycle["torque_mean"].to_numpy()
+        a = self.mean["angle"]
+        t = self.mean["torque_mean"]
         step = a[1] - a[0]
         e = np.concatenate(([0.0], np.cumsum(t - t.mean()) * step))
         return e
@@ -523,7 +546,7 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
                         f"are needed — record a longer log (cycle source {source!r}, "
                         f"{o.revs_per_cycle} rev per cycle)")
-    table = _table(st, lay, o)
+    table = _columns(st, lay, o)
     for col in lay.columns:
         if col.role in ("time", "torque", "speed", "angle") and col.unit_source == "assumed":
             notes.append(f"column {col.name!r} states no unit: {col.role} taken as "
@@ -552,9 +575,19 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     return CycleResult(lay.path, table, summary, mean_cycle, curves, opts, lay, notes)
 
 
-def _table(st: _Stream, lay: Layout, o: CycleOptions) -> pd.DataFrame:
+def _isnat(x: Any) -> bool:
+    return x is None or (isinstance(x, np.datetime64) and bool(np.isnat(x))) or x != x
+
+
+def _iso(x: Any) -> str:
+    """ISO-8601 text of a time stamp, as pandas.Timestamp.isoformat writes it. A start time
+    exists only when the file or the options gave one, and pandas parsed it then."""
     import pandas as pd
 
+    return pd.Timestamp(x).isoformat()
+
+
+def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]:
     cols: dict[str, np.ndarray] = {}
     for k in st.rows[0]:
         cols[k] = np.concatenate([r[k] for r in st.rows])
@@ -569,11 +602,13 @@ def _table(st: _Stream, lay: Layout, o: CycleOptions) -> pd.DataFrame:
         cs_pred = nan
     else:
         cs_pred = de / (o.inertia * wmean**2) if o.inertia else nan
-    start = pd.Series(pd.NaT, index=range(n), dtype="datetime64[ns]")
-    if lay.start is not None:
-        start = lay.start + pd.to_timedelta(cols["t_start_s"], unit="s")
+    start: Any = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
+    if lay.start is not None:  # the file or the options gave a time: pandas is loaded
+        import pandas as pd
+
+        start = lay.start + pd.to_timedelta(cols["t_start_s"], unit="s")  # keeps the zone
     deg = 180.0 / math.pi
-    df = pd.DataFrame({
+    return {
         "cycle": cols["cycle"].astype(np.int64),
         "t_start_s": cols["t_start_s"],
         "start_time": start,
@@ -591,49 +626,69 @@ def _table(st: _Stream, lay: Layout, o: CycleOptions) -> pd.DataFrame:
         "cs": cs,
         "cs_predicted": cs_pred,
         "flag": cols["flag"].astype(str),
-    })
-    return df
+    }
 
 
-def _stats(x: pd.Series) -> dict[str, float | None]:
-    x = x.dropna()
-    if x.empty:
+def _stats(x: np.ndarray) -> dict[str, float | None]:
+    x = x[~np.isnan(x)]
+    if x.size == 0:
         return {"median": None, "p95": None, "max": None}
-    return {"median": float(x.median()), "p95": float(x.quantile(0.95)), "max": float(x.max())}
+    return {"median": float(np.median(x)), "p95": float(np.quantile(x, 0.95)),
+            "max": float(x.max())}
 
 
-def summarise(table: pd.DataFrame, **extra: Any) -> dict[str, Any]:
+def _mean_or_none(x: np.ndarray) -> float | None:
+    x = x[~np.isnan(x)]
+    return float(x.mean()) if x.size else None
+
+
+def summarise(table: Any, **extra: Any) -> dict[str, Any]:
     """Summary over the clean cycles of a per-cycle table.
 
-    Returns a dict with ``cycles`` (clean count), ``cycles_total``, ``flagged``,
-    ``cycle_rate_per_min``, ``energy_swing_J`` and ``cs`` ({median, p95, max}),
-    ``torque_peak_Nm_p99``, ``speed_mean_rpm``, ``work_J_mean``, ``torque_mean_Nm``.
+    Parameters
+    ----------
+    table : pandas.DataFrame or mapping of str to ndarray
+        The per-cycle table (columns :data:`COLUMNS`).
+
+    Returns
+    -------
+    dict
+        ``cycles`` (clean count), ``cycles_total``, ``flagged``, ``cycle_rate_per_min``,
+        ``energy_swing_J`` and ``cs`` ({median, p95 (linear interpolation), max}),
+        ``torque_peak_Nm_p99``, ``speed_mean_rpm``, ``work_J_mean``, ``torque_mean_Nm``,
+        ``flags`` (count of each reason); NaN values are left out of each figure.
     """
-    clean = table[table["flag"] == ""]
+    def col(name: str) -> np.ndarray:
+        return np.asarray(table[name])
+
+    flag = col("flag").astype(str)
+    ok = flag == ""
+
+    def clean(name: str) -> np.ndarray:
+        return col(name).astype(np.float64)[ok]
+
+    peak = clean("torque_peak_Nm")
+    peak = peak[~np.isnan(peak)]
     out: dict[str, Any] = {
-        "cycles": int(len(clean)),
-        "cycles_total": int(len(table)),
-        "flagged": int((table["flag"] != "").sum()),
-        "cycle_rate_per_min": float(60.0 / clean["duration_s"].median()) if len(clean)
+        "cycles": int(ok.sum()),
+        "cycles_total": int(flag.size),
+        "flagged": int((~ok).sum()),
+        "cycle_rate_per_min": float(60.0 / np.median(clean("duration_s"))) if ok.any()
         else None,
-        "energy_swing_J": _stats(clean["energy_swing_J"]),
-        "cs": _stats(clean["cs"]),
-        "torque_peak_Nm_p99": float(clean["torque_peak_Nm"].quantile(0.99))
-        if clean["torque_peak_Nm"].notna().any() else None,
-        "speed_mean_rpm": float(clean["speed_mean_rpm"].mean()) if len(clean) else None,
-        "work_J_mean": float(clean["work_J"].mean()) if clean["work_J"].notna().any() else None,
-        "torque_mean_Nm": float(clean["torque_mean_Nm"].mean())
-        if clean["torque_mean_Nm"].notna().any() else None,
+        "energy_swing_J": _stats(clean("energy_swing_J")),
+        "cs": _stats(clean("cs")),
+        "torque_peak_Nm_p99": float(np.quantile(peak, 0.99)) if peak.size else None,
+        "speed_mean_rpm": _mean_or_none(clean("speed_mean_rpm")),
+        "work_J_mean": _mean_or_none(clean("work_J")),
+        "torque_mean_Nm": _mean_or_none(clean("torque_mean_Nm")),
     }
-    flags = table.loc[table["flag"] != "", "flag"].str.split("+").explode()
-    out["flags"] = {str(k): int(v) for k, v in flags.value_counts().items()}
+    counts = Counter(reason for f in flag[~ok] for reason in f.split("+"))
+    out["flags"] = dict(counts.most_common())
     out.update(extra)
     return out
 
 
-def _mean_cycle(st: _Stream) -> pd.DataFrame:
-    import pandas as pd
-
+def _mean_cycle(st: _Stream) -> dict[str, np.ndarray]:
     nb = st.nb_mean
     a = (np.arange(nb) + 0.5) * st.span / nb
     df = {"angle": a}
@@ -645,4 +700,4 @@ def _mean_cycle(st: _Stream) -> pd.DataFrame:
             df[k + "_mean"], df[k + "_sd"] = m, np.sqrt(var)
         else:
             df[k + "_mean"] = df[k + "_sd"] = np.full(nb, np.nan)
-    return pd.DataFrame(df)
+    return df

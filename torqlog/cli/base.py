@@ -8,11 +8,9 @@ sentence on stderr and exit code 1 (bad data), 2 (bad usage) or 3 (strict check 
 
 from __future__ import annotations
 
-import importlib
 import json
 import math
 import sys
-import threading
 from collections.abc import Callable
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -59,8 +57,6 @@ class QuantityType(click.ParamType):
 
 def _jsonable(obj: Any) -> Any:
     """Convert numpy/pandas scalars, NaN and timestamps to plain JSON values."""
-    import pandas as pd
-
     if isinstance(obj, dict):
         return {str(k): _jsonable(v) for k, v in obj.items()}
     if isinstance(obj, list | tuple):
@@ -71,10 +67,12 @@ def _jsonable(obj: Any) -> Any:
         obj = obj.item()
     if isinstance(obj, float):
         return obj if math.isfinite(obj) else None
-    if isinstance(obj, pd.Timestamp):
-        return None if pd.isna(obj) else obj.isoformat()
-    if obj is pd.NaT:
-        return None
+    pd = sys.modules.get("pandas")  # no pandas object can exist unless pandas is loaded
+    if pd is not None:
+        if obj is pd.NaT:
+            return None
+        if isinstance(obj, pd.Timestamp):
+            return obj.isoformat()
     if isinstance(obj, Path):
         return str(obj)
     return obj
@@ -92,13 +90,15 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
     ``table`` is printed for ``table`` and ``csv``; ``text`` (if given) is printed
     before the table in ``table`` format; ``data`` is the JSON contract.
     """
-    import pandas as pd
-
     if fmt == "json":
         body = to_json(data) + "\n"
     elif fmt == "csv":
+        import pandas as pd
+
         body = (table if table is not None else pd.DataFrame([_flat(data)])).to_csv(index=False)
     else:
+        import pandas as pd
+
         parts = [text] if text else []
         if table is not None:
             with pd.option_context("display.max_rows", 60, "display.width", 160,
@@ -171,9 +171,7 @@ def cli(ctx: click.Context, debug: bool) -> None:
     sizing, burst and shaft checks, and shift trends."""
     ctx.ensure_object(dict)
     ctx.obj["debug"] = debug
-    # pandas takes ~0.3 s to import and is needed only when results are tabled: import it
-    # in the background while the command reads its input (the reader does not need it)
-    threading.Thread(target=importlib.import_module, args=("pandas",), daemon=True).start()
+
 
 
 def main() -> None:

@@ -98,11 +98,13 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
            "(kept in the table, left out of the figures above)"] if s["flags"] else []),
         "",
     ])
-    table = res.table
-    if fmt == "table":
-        table = table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
-                       "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
-                       "flag"]]
+    table = None  # the JSON needs no pandas table (and so no pandas)
+    if fmt == "csv":
+        table = res.table
+    elif fmt == "table":
+        table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
+                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
+                           "flag"]]
     emit(res.to_dict(), table, fmt, output, text=text)
 
 
