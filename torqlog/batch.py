@@ -259,6 +259,8 @@ def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: An
     else:
         per = max(1, n // min(n, len(jobs)))
     jobs = [j if j.threads or per is None else replace(j, threads=per) for j in jobs]
+    if client is not None:  # worker threads already keep the cores busy: no read-ahead
+        jobs = [replace(j, options=replace(j.options, read_ahead=False)) for j in jobs]
 
     def lost(i: int, exc: BaseException) -> FileOutcome:
         j = jobs[i]
@@ -317,9 +319,10 @@ def dask_client(scheduler: str | None = None, workers: int | None = None
 
     The local cluster runs its worker in this process: pyarrow parses and numpy reduces
     with the GIL released, so threads use the cores, and no worker process has to start
-    and import torqlog. Each file then reads ahead in its own thread and pyarrow shares
-    one thread pool (measured, 48 logs of 1 M rows: 1.25× the time of ``--jobs 2``;
-    with two worker processes 1.36×, with one-core workers in threads 1.34×)."""
+    and import torqlog. The worker threads keep the cores busy, so each file is read and
+    computed in turn (no read-ahead thread) with pyarrow's shared thread pool (measured,
+    48 logs of 1 M rows: 1.27× the time of ``--jobs 2``; with two worker processes
+    1.36–1.57×, with read-ahead in every thread 1.31×)."""
     try:
         import logging
 
