@@ -21,6 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from torqlog.condition import fill_nan
 from torqlog.energy import cumulative_trapezoid
 from torqlog.errors import DataError, UsageError
 
@@ -81,20 +82,6 @@ def pick_cycle_source(roles: tuple[str, ...] | list[str] | set[str], *,
                     "speed or torque channel")
 
 
-def unwrap_angle(angle: np.ndarray, period: float = TWO_PI) -> np.ndarray:
-    """Unwrap an angle channel [rad] that wraps every ``period`` [rad].
-
-    A channel that already increases without wrapping is returned unchanged. A channel
-    that decreases (a machine logged with the opposite sign) is negated.
-
-    References
-    ----------
-    numpy.unwrap (phase unwrapping by adding multiples of the period).
-    """
-    a = np.unwrap(np.asarray(angle, dtype=np.float64), period=period)
-    if a.size > 1 and a[-1] < a[0]:
-        a = -a
-    return a
 
 
 def wrap_period(angle: np.ndarray) -> float:
@@ -190,46 +177,10 @@ def angle_from_edges(time: np.ndarray, edges: np.ndarray, first_rev: int = 0) ->
     return theta
 
 
-def angle_from_counts(time: np.ndarray, counts: np.ndarray, pulses_per_rev: float
-                      ) -> np.ndarray:
-    """Angle [rad] from a cumulative encoder counter.
-
-    The counter steps in whole counts; the angle is taken at the sample where each step
-    appears and interpolated linearly in time between steps, which removes the
-    quantisation staircase. A counter that wraps (16 or 32 bit) is unwrapped.
-    """
-    c = np.asarray(counts, dtype=np.float64)
-    for bits in (16, 32):
-        if np.nanmax(c) < 2**bits and np.any(np.diff(c) < -(2 ** (bits - 1))):
-            c = np.unwrap(c, period=float(2**bits))
-            break
-    if c.size > 1 and c[-1] < c[0]:
-        c = -c
-    theta = c * (TWO_PI / pulses_per_rev)
-    step = np.flatnonzero(np.diff(c) != 0) + 1
-    if step.size >= 2:
-        theta = np.interp(time, time[step], theta[step])
-    return theta
 
 
-def angle_from_speed(time: np.ndarray, speed: np.ndarray, theta0: float = 0.0) -> np.ndarray:
-    """Angle [rad] by integrating a speed channel [rad/s] (cumulative trapezoid).
-
-    References
-    ----------
-    The trapezoid rule, e.g. Press et al., *Numerical Recipes*, 3rd ed., sec. 4.1.
-    """
-    w = np.asarray(speed, dtype=np.float64)
-    if np.isnan(w).any():
-        w = _fill_nan(time, w)
-    return theta0 + cumulative_trapezoid(w, time, initial=0.0)
 
 
-def _fill_nan(time: np.ndarray, x: np.ndarray) -> np.ndarray:
-    ok = np.isfinite(x)
-    if not ok.any():
-        raise DataError("the channel holds no numbers")
-    return np.interp(time, time[ok], x[ok])
 
 
 @dataclass(frozen=True)
@@ -285,7 +236,7 @@ def estimate_period(time: np.ndarray, signal: np.ndarray, *, min_period: float |
     """
     x = np.asarray(signal, dtype=np.float64)
     if np.isnan(x).any():
-        x = _fill_nan(time, x)
+        x = _filled(time, x)
     n = x.size
     if n < 16:
         raise DataError(f"{path}: too short to find a cycle period ({n} samples)")
@@ -334,6 +285,14 @@ def estimate_period(time: np.ndarray, signal: np.ndarray, *, min_period: float |
         period, m = p0 * dt, 1
     return PeriodEstimate(period=float(period), confidence=min(conf, 1.0),
                           cycles_seen=int((n * dt) // period))
+
+
+def _filled(time: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """``x`` with NaN filled by :func:`torqlog.condition.fill_nan`; all-NaN is an error."""
+    filled, bad = fill_nan(time, x)
+    if bad.all():
+        raise DataError("the channel holds no numbers")
+    return filled
 
 
 def _local_peaks(x: np.ndarray, lo: int, hi: int) -> np.ndarray:
@@ -406,7 +365,6 @@ class AngleTracker:
         self._state = False
         self._edges = np.empty(0)
         self._first_edge_rev = 0
-        self._count_offset: float | None = None
 
     def push(self, time: np.ndarray, channels: dict[str, np.ndarray]) -> np.ndarray:
         """Angle [rad] for the new samples (NaN where not yet known: index source)."""
@@ -426,8 +384,6 @@ class AngleTracker:
             return theta
         if s == "counts":
             c = channels["counts"]
-            if self._count_offset is None:
-                self._count_offset = 0.0
             theta = c * (TWO_PI / self.pulses_per_rev)
             # interpolate between count steps inside the chunk; carry the last step
             prev_t = self._last_t
@@ -445,7 +401,7 @@ class AngleTracker:
         if s == "speed":
             w = channels["speed"]
             if np.isnan(w).any():
-                w = _fill_nan(time, w)
+                w = _filled(time, w)
             if self._last_t is not None:
                 theta = _continue_trapezoid(w, time, self._last_w, self._last_t,
                                             self._last_theta)

@@ -202,8 +202,7 @@ def log_options(f: Callable) -> Callable:
 def read_kwargs(kw: dict[str, Any]) -> dict[str, Any]:
     """Reading options for :func:`torqlog.ingest.sniff_layout` from CLI keywords."""
     return {
-        "roles": {r: kw.pop(f"{r}_col") for r in _ROLE_OPTS if kw.get(f"{r}_col")}
-        | {r: None for r in ()},
+        "roles": {r: kw.pop(f"{r}_col") for r in _ROLE_OPTS if kw.get(f"{r}_col")},
         "units": {r: kw.pop(f"{r}_unit") for r in _UNIT_OPTS if kw.get(f"{r}_unit")},
         "rate": kw.pop("rate", None),
         "start": kw.pop("start", None),
