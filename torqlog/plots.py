@@ -112,6 +112,7 @@ def plot_cycles(result: object, path: str | Path) -> Path:
         for ax in (ax_t, ax_e):
             ax.text(0.5, 0.5, "no torque channel in this log", transform=ax.transAxes,
                     ha="center", va="center", color=PALETTE["reference"])
+            ax.set_yticks([])
     if has_w:
         rpm = 60.0 / (2 * np.pi)
         for c in result.curves.get("speed", np.empty((0, deg.size))):
@@ -122,6 +123,7 @@ def plot_cycles(result: object, path: str | Path) -> Path:
     else:
         ax_w.text(0.5, 0.5, "no speed information in this log", transform=ax_w.transAxes,
                   ha="center", va="center", color=PALETTE["reference"])
+        ax_w.set_yticks([])
     ax_w.set_xlabel("crank angle within the cycle [deg]")
     ax_w.set_xlim(0, float(np.degrees(result.mean_cycle['angle'].iloc[-1]) +
                            (deg[1] - deg[0]) / 2))
