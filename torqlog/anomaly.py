@@ -184,6 +184,79 @@ def sidak_alpha(false_alarm: float, tests: int = 2) -> float:
     return 1.0 - (1.0 - false_alarm) ** (1.0 / tests)
 
 
+# ----------------------------------------------------------------------------- phase
+#: Largest phase shift a cycle is aligned by [deg of the cycle].
+MAX_SHIFT_DEG = 10.0
+
+
+def phase_shift(curves: np.ndarray, template: np.ndarray, max_shift: int) -> np.ndarray:
+    """Shift [bins] that best aligns each curve to the template (circular cross-correlation).
+
+    The integer lag of the largest cross-correlation within ``±max_shift`` bins, refined by
+    a parabola through it and its neighbours.
+
+    Parameters
+    ----------
+    curves : ndarray (cycles, bins)
+    template : ndarray (bins,)
+    max_shift : int
+        Largest lag searched [bins].
+
+    Returns
+    -------
+    ndarray
+        Per cycle, the lag ``d`` such that ``curve[i + d] ≈ template[i]``.
+    """
+    x = curves - curves.mean(axis=1, keepdims=True)
+    tpl = template - template.mean()
+    nb = x.shape[1]
+    cc = np.fft.irfft(np.fft.rfft(x, axis=1) * np.conj(np.fft.rfft(tpl)), nb, axis=1)
+    lags = np.arange(-max_shift, max_shift + 1)
+    win = cc[:, lags % nb]
+    j = np.argmax(win, axis=1)
+    jj = np.clip(j, 1, win.shape[1] - 2)
+    r = np.arange(len(x))
+    y0, y1, y2 = win[r, jj - 1], win[r, jj], win[r, jj + 1]
+    den = y0 - 2.0 * y1 + y2
+    frac = np.where((j == jj) & (den < 0), 0.5 * (y0 - y2) / np.where(den < 0, den, -1.0), 0.0)
+    return lags[jj] + frac
+
+
+def shift_curves(curves: np.ndarray, shift: np.ndarray) -> np.ndarray:
+    """Curves read ``shift`` bins later, around the cycle (linear interpolation)."""
+    nb = curves.shape[1]
+    pos = np.arange(nb)[None, :] + np.asarray(shift)[:, None]
+    i0 = np.floor(pos).astype(np.int64)
+    f = pos - i0
+    a = np.take_along_axis(curves, i0 % nb, axis=1)
+    b = np.take_along_axis(curves, (i0 + 1) % nb, axis=1)
+    return a * (1.0 - f) + b * f
+
+
+def align(curves: dict[str, np.ndarray], template: np.ndarray, revs_per_cycle: int
+          ) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    """Align cycles to a template: the phase the cycle split puts them at is not shape.
+
+    A cycle split from an integrated speed (or a nominal speed) wanders slowly in crank
+    phase; a shift of a few degrees moves every steep edge of the torque and would be
+    read as a change of shape. Each cycle is shifted (both channels alike, up to
+    :data:`MAX_SHIFT_DEG`) by the lag that maximises its cross-correlation with the
+    template (torque when logged, else speed).
+
+    Returns
+    -------
+    aligned : dict of str to ndarray
+    shift : ndarray [deg]
+    """
+    key = "torque" if "torque" in curves else "speed"
+    x = np.asarray(curves[key], dtype=np.float64)
+    nb = x.shape[1]
+    per_deg = nb / (360.0 * revs_per_cycle)
+    d = phase_shift(x, template, max(1, int(round(MAX_SHIFT_DEG * per_deg))))
+    out = {k: shift_curves(np.asarray(v, dtype=np.float64), d) for k, v in curves.items()}
+    return out, d / per_deg
+
+
 # ----------------------------------------------------------------------------- model
 @dataclass(frozen=True)
 class ShapeModel:
@@ -220,6 +293,9 @@ class ShapeModel:
         Median reference cycle duration.
     source : str
         Where the reference came from.
+    template : ndarray
+        The mean reference cycle on the cycle engine's fine grid (torque, else speed),
+        which cycles are phase-aligned to (:func:`align`).
     """
 
     channels: tuple[str, ...]
@@ -238,6 +314,7 @@ class ShapeModel:
     q_limit: float
     duration: float
     source: str
+    template: np.ndarray = field(default_factory=lambda: np.zeros(0))
 
     @property
     def k(self) -> int:
@@ -307,7 +384,8 @@ class ShapeModel:
                 "bins_per_cycle": self.bins, "components": self.k,
                 "reference_cycles": self.n_reference, "reference_trimmed": self.trimmed,
                 "false_alarm": self.false_alarm, "t2_limit": self.t2_limit,
-                "q_limit": self.q_limit, "reference_cycle_duration_s": self.duration}
+                "q_limit": self.q_limit, "reference_cycle_duration_s": self.duration,
+                "aligned": bool(self.template.size)}
 
     def save(self, path: str | Path) -> Path:
         """Write the model as JSON."""
@@ -329,7 +407,7 @@ def load_model(path: str | Path) -> ShapeModel:
                         "`torqlog cycles --save-shape-model FILE`")
     d.pop("format")
     d.pop("version", None)
-    arr = ("mean", "sd", "components", "eigenvalues", "residual_eigenvalues")
+    arr = ("mean", "sd", "components", "eigenvalues", "residual_eigenvalues", "template")
     return ShapeModel(**{k: (np.asarray(v, dtype=np.float64) if k in arr else
                              tuple(v) if k in ("channels", "scale") else v)
                          for k, v in d.items()})
@@ -337,7 +415,8 @@ def load_model(path: str | Path) -> ShapeModel:
 
 def fit_model(curves: dict[str, np.ndarray], *, revs_per_cycle: int = 1,
               false_alarm: float = DEFAULT_FALSE_ALARM, variance: float = 0.90,
-              duration: float = 0.0, source: str = "", trim: bool = True) -> ShapeModel:
+              duration: float = 0.0, source: str = "", trim: bool = True,
+              template: np.ndarray | None = None) -> ShapeModel:
     """Learn the normal cycle shape from reference cycles.
 
     Parameters
@@ -357,6 +436,8 @@ def fit_model(curves: dict[str, np.ndarray], *, revs_per_cycle: int = 1,
     trim : bool
         Leave out cycles far from the median cycle (robust reference from a log that may
         itself hold abnormal cycles): squared distance beyond median + 4 robust SDs.
+    template : ndarray, optional
+        Fine-grid mean cycle the curves were aligned to (stored in the model).
 
     Returns
     -------
@@ -415,7 +496,8 @@ def fit_model(curves: dict[str, np.ndarray], *, revs_per_cycle: int = 1,
                       eigenvalues=lam[:k].copy(), residual_eigenvalues=resid.copy(),
                       n_reference=int(n), trimmed=trimmed, false_alarm=float(false_alarm),
                       t2_limit=t2_limit(k, n, alpha), q_limit=q_limit(resid, alpha),
-                      duration=float(duration), source=source)
+                      duration=float(duration), source=source,
+                      template=np.zeros(0) if template is None else np.asarray(template))
 
 
 # ----------------------------------------------------------------------------- where
@@ -638,6 +720,63 @@ class AnomalyResult:
                 "summary": self.sentence, "notes": self.notes}
 
 
+def learn_model(fine: dict[str, np.ndarray], options: AnomalyOptions, revs_per_cycle: int,
+                duration: float, source: str) -> ShapeModel:
+    """Fit a :class:`ShapeModel` on reference cycles given on the cycle engine's fine grid.
+
+    The cycles are aligned (:func:`align`) to their median cycle, then to the mean of the
+    aligned set, averaged into the model bins and fitted by :func:`fit_model`.
+    """
+    chans = tuple(c for c in CHANNELS if c in fine)
+    key = "torque" if "torque" in fine else "speed"
+    n = len(fine[key])
+    if n < MIN_REFERENCE_CYCLES:
+        raise DataError(f"{n} clean cycles to learn the cycle shape from; the model needs at "
+                        f"least {MIN_REFERENCE_CYCLES}: record a longer reference log")
+    al, _ = align(fine, np.median(fine[key], axis=0), revs_per_cycle)
+    template = al[key].mean(axis=0)
+    al, _ = align(fine, template, revs_per_cycle)
+    bins = options.bins_per_rev * revs_per_cycle
+    coarse = {c: reduce_bins(al[c], bins) for c in chans}
+    return fit_model(coarse, revs_per_cycle=revs_per_cycle, false_alarm=options.false_alarm,
+                     variance=options.variance, duration=duration, source=source,
+                     template=template)
+
+
+def model_from_log(path: str | Path, cycle_options: Any = None,
+                   options: AnomalyOptions | None = None, max_cycles: int = 2000,
+                   **read: Any) -> ShapeModel:
+    """Learn the shape model from a known-good reference log (its first clean cycles).
+
+    Parameters
+    ----------
+    path : str or Path
+        The reference log.
+    cycle_options : CycleOptions, optional
+    options : AnomalyOptions, optional
+    max_cycles : int
+        Most clean cycles learned from (a bounded buffer).
+    **read
+        Reading options, as for :func:`torqlog.cycles.analyse_cycles`.
+
+    Raises
+    ------
+    DataError
+        Fewer clean cycles than the model needs, stating the count.
+    """
+    from dataclasses import replace
+
+    from torqlog.cycles import analyse_cycles
+
+    o = options or AnomalyOptions()
+    res = analyse_cycles(path, cycle_options, anomaly=replace(o, learn_cycles=max_cycles),
+                         **read)
+    if res.shape_model is None:
+        why = res.anomaly.notes[0] if res.anomaly is not None and res.anomaly.notes else ""
+        raise DataError(f"{path}: cannot serve as shape reference: {why}")
+    return replace(res.shape_model, source=f"reference log {path}")
+
+
 def reduce_bins(curves: np.ndarray, bins: int) -> np.ndarray:
     """Average (cycles, nb) curves into (cycles, bins) coarser bins (``bins`` divides nb)."""
     a = np.asarray(curves, dtype=np.float64)
@@ -682,6 +821,9 @@ class ShapeMonitor:
         self.flags_all: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
         self.notes: list[str] = []
         self.checked_duration = model is None
+        self.shift_n = 0
+        self.shift_sum = 0.0
+        self.shift_max = 0.0
 
     # -- input
     def push(self, cycles: np.ndarray, t_start: np.ndarray, duration: np.ndarray,
@@ -695,10 +837,10 @@ class ShapeMonitor:
         """
         if not len(cycles):
             return []
-        x = np.hstack([reduce_bins(curves[c], self.bins) for c in self.channels])
         if self.model is None:
             self.buffer.append((np.asarray(cycles), np.asarray(t_start), np.asarray(duration),
-                                x))
+                                {c: np.asarray(curves[c], dtype=np.float64)
+                                 for c in self.channels}))
             self.buffered += len(cycles)
             if self.buffered < self.o.learn_cycles:
                 return []
@@ -707,22 +849,29 @@ class ShapeMonitor:
             self.model.check_compatible(set(self.channels), self.revs, self.bins,
                                         float(np.median(duration)))
             self.checked_duration = True
-        return [self._score(np.asarray(cycles), np.asarray(t_start), x)]
+        return [self._score(np.asarray(cycles), np.asarray(t_start), self._features(curves))]
+
+    def _features(self, curves: dict[str, np.ndarray]) -> np.ndarray:
+        m = self.model
+        assert m is not None
+        if m.template.size:
+            curves, shift = align({c: curves[c] for c in self.channels}, m.template,
+                                  self.revs)
+            a = np.abs(shift)
+            self.shift_n += a.size
+            self.shift_sum += float(a.sum())
+            self.shift_max = max(self.shift_max, float(a.max()))
+        return np.hstack([reduce_bins(curves[c], self.bins) for c in self.channels])
 
     def _learn(self) -> list[tuple[np.ndarray, np.ndarray]]:
         cyc = np.concatenate([b[0] for b in self.buffer])
         ts = np.concatenate([b[1] for b in self.buffer])
         dur = np.concatenate([b[2] for b in self.buffer])
-        x = np.vstack([b[3] for b in self.buffer])
+        fine = {c: np.vstack([b[3][c] for b in self.buffer]) for c in self.channels}
         self.buffer = []
-        nb = self.bins
-        curves = {c: x[:, i * nb:(i + 1) * nb] for i, c in enumerate(self.channels)}
-        self.model = fit_model(curves, revs_per_cycle=self.revs,
-                               false_alarm=self.o.false_alarm, variance=self.o.variance,
-                               duration=float(np.median(dur)),
-                               source=f"first {len(cyc)} clean cycles of this log "
-                                      "(robust trim)")
-        return [self._score(cyc, ts, x)]
+        self.model = learn_model(fine, self.o, self.revs, float(np.median(dur)),
+                                 f"first {len(cyc)} clean cycles of this log (robust trim)")
+        return [self._score(cyc, ts, self._features(fine))]
 
     def _score(self, cyc: np.ndarray, ts: np.ndarray, x: np.ndarray
                ) -> tuple[np.ndarray, np.ndarray]:
@@ -791,6 +940,9 @@ class ShapeMonitor:
                 curves[c] = (np.vstack([w[3][sl] for w in worst]) if worst
                              else np.zeros((0, nb)))
         opts = {**asdict(self.o), **(options or {})}
+        if self.shift_n:
+            opts["phase_shift_deg_mean_abs"] = self.shift_sum / self.shift_n
+            opts["phase_shift_deg_max_abs"] = self.shift_max
         return AnomalyResult(model=m.summary() if m is not None else {}, scored=self.scored,
                              flagged=self.flagged, runs=runs, worst=[w[2] for w in worst],
                              window_counts=dict(sorted(self.sectors.items(),
