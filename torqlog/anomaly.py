@@ -582,8 +582,8 @@ def describe_cycle(model: ShapeModel, x: np.ndarray, t2: float, q: float,
     direction = "low" if d < 0 else "high"
     if ch == "torque":
         size = f"{abs(d) / 1e3:.3g} kN·m" if abs(d) >= 1e3 else f"{abs(d):.3g} N·m"
-        text = (f"torque {size} {direction} ({pct:.2g} % of the normal peak) between "
-                f"{a0:.0f}° and {a1:.0f}° of the cycle")
+        text = (f"torque {pct:.2g} % low between {a0:.0f}° and {a1:.0f}° of the cycle "
+                f"({size}; % of the normal peak torque)").replace(" low ", f" {direction} ")
     else:
         text = f"speed {pct:.2g} % {direction} between {a0:.0f}° and {a1:.0f}° of the cycle"
     return {"channel": ch, "window_deg": [a0, a1], "direction": direction,

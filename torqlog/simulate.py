@@ -475,7 +475,8 @@ def apply_fault(fault: Fault, machine: DemoMachine, time: np.ndarray, theta: np.
         The logged channels with the defect.
     truth : dict
         ``name``, ``severity``, ``channel``, ``about`` and ``events``: the time [s] of the
-        middle of each defect and its cycle index (crank angle // cycle angle).
+        middle of each defect (``t_s``), its extent (``from_s``, ``to_s``) and its cycle
+        index (crank angle // cycle angle).
     """
     spec = FAULTS[fault.name]
     span = machine.cycle_angle
@@ -510,17 +511,21 @@ def apply_fault(fault: Fault, machine: DemoMachine, time: np.ndarray, theta: np.
         centres = (rev * _TWO_PI + math.radians(180.0 + tooth / 2)) / order
         ev_theta = np.unique(centres)
         ev_theta = ev_theta[(ev_theta >= theta[0]) & (ev_theta <= theta[-1])]
+        half = math.radians(tooth / 2) / order
     else:
         lo, hi = spec["window"]
         lo, hi = lo % span_deg, min(hi, span_deg)
         shape = _half_sine(phase, lo, hi)
         ev_theta = (np.arange(m0, m1 + 1) * span + math.radians(0.5 * (lo + hi)))
         ev_theta = ev_theta[(ev_theta >= theta[0]) & (ev_theta <= theta[-1])]
+        half = math.radians(0.5 * (hi - lo))
     shape = np.where(mask, shape, 0.0)
     ev_cycle = np.floor(ev_theta / span).astype(np.int64)
     keep = hit[ev_cycle - m0]
     ev_theta, ev_cycle = ev_theta[keep], ev_cycle[keep]
     ev_time = np.interp(ev_theta, theta, time)
+    ev_from = np.interp(ev_theta - half, theta, time)
+    ev_to = np.interp(ev_theta + half, theta, time)
     if spec["channel"] == "torque":
         size = {"valve-leak": float(np.max(np.abs(torque))),
                 "misfire": 0.4 * float(np.ptp(torque))}.get(fault.name, float(np.ptp(torque)))
@@ -531,8 +536,9 @@ def apply_fault(fault: Fault, machine: DemoMachine, time: np.ndarray, theta: np.
         speed = speed * (1.0 - sev * shape)
     truth = {"name": fault.name, "severity": sev, "channel": spec["channel"],
              "amplitude": amount, "about": spec["about"], "pick": pick,
-             "events": [{"t_s": float(t), "cycle_index": int(c)}
-                        for t, c in zip(ev_time, ev_cycle, strict=True)]}
+             "events": [{"t_s": float(t), "from_s": float(a), "to_s": float(b),
+                         "cycle_index": int(c)}
+                        for t, a, b, c in zip(ev_time, ev_from, ev_to, ev_cycle, strict=True)]}
     return torque, speed, truth
 
 
@@ -546,12 +552,24 @@ def write_truth(log: SimulatedLog, path: str | Path) -> Path:
 
 
 def truth_cycles(events: list[dict[str, Any]], t_start: np.ndarray,
-                 duration: np.ndarray) -> np.ndarray:
-    """Mask of the cycles (start [s], duration [s]) that hold a fault event's time."""
-    t = np.sort(np.array([e["t_s"] for e in events], dtype=np.float64))
+                 duration: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Mask of the cycles (start [s], duration [s]) that overlap a fault event.
+
+    ``hit``: the cycles holding an event's middle; ``touched`` (second value): every
+    cycle that overlaps an event's extent (a cycle split at another phase than the
+    crank's may hold part of a defect).
+    """
+    ev = sorted(events, key=lambda e: e["t_s"])
+    t = np.array([e["t_s"] for e in ev], dtype=np.float64)
     a = np.searchsorted(t, t_start, side="left")
     b = np.searchsorted(t, t_start + duration, side="left")
-    return b > a
+    lo = np.array([e.get("from_s", e["t_s"]) for e in ev], dtype=np.float64)
+    hi = np.array([e.get("to_s", e["t_s"]) for e in ev], dtype=np.float64)
+    # cycle [s, e) overlaps event [lo, hi] when lo < e and hi > s
+    first = np.searchsorted(np.maximum.accumulate(hi) if hi.size else hi, t_start,
+                            side="right")
+    last = np.searchsorted(lo, t_start + duration, side="left")
+    return b > a, last > first
 
 
 # ============================================================================ writing
