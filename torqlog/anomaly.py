@@ -869,8 +869,10 @@ class ShapeMonitor:
         dur = np.concatenate([b[2] for b in self.buffer])
         fine = {c: np.vstack([b[3][c] for b in self.buffer]) for c in self.channels}
         self.buffer = []
-        self.model = learn_model(fine, self.o, self.revs, float(np.median(dur)),
-                                 f"first {len(cyc)} clean cycles of this log (robust trim)")
+        n = min(len(cyc), self.o.learn_cycles)  # exactly the first N: chunking-independent
+        self.model = learn_model({c: v[:n] for c, v in fine.items()}, self.o, self.revs,
+                                 float(np.median(dur[:n])),
+                                 f"first {n} clean cycles of this log (robust trim)")
         return [self._score(cyc, ts, self._features(fine))]
 
     def _score(self, cyc: np.ndarray, ts: np.ndarray, x: np.ndarray

@@ -17,6 +17,7 @@ import os
 import time as _time
 from collections.abc import Callable, Iterator
 from dataclasses import asdict, dataclass
+from itertools import chain
 from pathlib import Path
 from typing import Any
 
@@ -229,8 +230,9 @@ def _follow(reader: TailReader, o: cy.CycleOptions, ao: an.AnomalyOptions,
     speed_from_angle = "speed" not in has and source in ("angle", "counts")
     nb_speed = int(min(2048, max(32, 8 * o.speed_cutoff_orders))) if o.speed_cutoff_orders \
         else 720 * o.revs_per_cycle
-    it = iter(reader)
-    first = next(it, None)
+    rows_it = iter(reader)
+    first, rest = _first_chunk(rows_it, o.block_rows)
+    it = chain(rest, rows_it)
     chans = set(has) | ({"speed"} if speed_from_angle else set())
     monitor = an.ShapeMonitor(ao, o.revs_per_cycle, chans, model)
     if first is None:
@@ -258,6 +260,30 @@ def _follow(reader: TailReader, o: cy.CycleOptions, ao: an.AnomalyOptions,
             on_cycles(cols)
         _drain(st, monitor, lay, o, on_cycles)
     return monitor, st
+
+
+def _first_chunk(it: Iterator[Chunk], rows: int) -> tuple[Chunk | None, list[Chunk]]:
+    """The first ``rows`` rows as one chunk (or all there are when the stream ends).
+
+    The cycle engine takes its sample step and spike scale from the first chunk; taking
+    the same first rows as ``torqlog cycles`` (its ``block_rows``) gives the same figures.
+    """
+    parts: list[Chunk] = []
+    n = 0
+    for c in it:
+        parts.append(c)
+        n += len(c)
+        if n >= rows:
+            break
+    if not parts:
+        return None, []
+    time = np.concatenate([c.time for c in parts])
+    chans = {k: np.concatenate([c.channels[k] for c in parts]) for k in parts[0].channels}
+    if n <= rows:
+        return Chunk(parts[0].row0, time, chans), []
+    # the rows beyond the first chunk follow as a chunk of their own
+    rest = Chunk(parts[0].row0 + rows, time[rows:], {k: v[rows:] for k, v in chans.items()})
+    return Chunk(parts[0].row0, time[:rows], {k: v[:rows] for k, v in chans.items()}), [rest]
 
 
 class _Empty:
