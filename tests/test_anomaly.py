@@ -144,9 +144,11 @@ def logs(tmp_path_factory):
             ("healthy_p", "press", 120.0, None),
             ("slip", "press", 80.0, Fault("clutch-slip")),
             ("tooth", "press", 80.0, Fault("gear-tooth")),
-            ("healthy_e", "engine", 12.0, None),
-            ("misfire", "engine", 12.0, Fault("misfire"))]:
-        log = simulate(machine, duration=dur, rate=1000.0, seed=hash(key) % 1000, fault=fault)
+            ("healthy_e", "engine", 8.0, None),
+            ("misfire", "engine", 8.0, Fault("misfire"))]:
+        # the engine (1500 rpm) at 3 kHz: 2.7° per sample, enough for 10° model bins
+        rate = 3000.0 if machine == "engine" else 1000.0
+        log = simulate(machine, duration=dur, rate=rate, seed=sum(map(ord, key)), fault=fault)
         p = write_log(log, d / f"{key}.csv")
         out[key] = (p, log)
     return out

@@ -594,6 +594,11 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     if monitor is not None:
         shape = monitor.result()
         notes += [f"cycle shape not checked: {n}" for n in shape.notes]
+        per_bin = float(np.median(table["duration_s"])) / st.dt / monitor.bins if st.dt else 9.0
+        if shape.scored and per_bin < 2.0:
+            notes.append(f"cycle shape: {per_bin:.2g} samples per {360 // monitor.o.bins_per_rev}° "
+                         "model bin (at least 2 are needed); where the cycle's sampling moves "
+                         "expect false alarms: log faster")
     return CycleResult(lay.path, table, summary, mean_cycle, curves, opts, lay, notes,
                        shape, monitor.model if monitor is not None else None)
 
