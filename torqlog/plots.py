@@ -6,6 +6,7 @@ matplotlib runs with the non-interactive Agg backend, so no screen is needed.
 
 from __future__ import annotations
 
+import textwrap
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -692,7 +693,7 @@ def plot_anomaly(result: object, path: str | Path, worst: int = 3) -> Path:
         ax.legend(fontsize=7, loc="best")
     if chans:
         fig.axes[-1].set_xlabel("angle in the cycle [deg]")
-        fig.axes[0].set_title(result.sentence, fontsize=8)  # type: ignore[attr-defined]
+        fig.axes[0].set_title(textwrap.fill(result.sentence, 110), fontsize=8)  # type: ignore[attr-defined]
     fig.tight_layout()
     fig.savefig(path, dpi=110)
     return Path(path)
