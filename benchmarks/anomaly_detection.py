@@ -3,7 +3,8 @@
 For each demo machine: a shape model from a healthy reference log, the false-alarm rate
 on a second healthy log (seeded, ≥ 2000 healthy cycles in all), the share of faulty
 cycles flagged at each fault's default severity, and a severity sweep for the smallest
-severity flagged at ≥ 90 %. Prints a JSON summary. Run: python benchmarks/anomaly_detection.py [machine ...]
+severity flagged at ≥ 90 %. Prints a JSON summary.
+Run: python benchmarks/anomaly_detection.py [machine ...]
 """
 
 from __future__ import annotations

@@ -204,3 +204,17 @@ def test_short_log_gets_a_note_not_scores(tmp_path) -> None:
     assert any("cycle shape not checked" in n and "at least 40" in n for n in res.notes)
     with pytest.raises(DataError, match=r"cannot serve as shape reference: \d+ clean cycles"):
         an.model_from_log(p)
+
+
+def test_abnormal_effect_on_design_energy_swing() -> None:
+    # p95 with and without the abnormal cycles (numpy's linear-interpolation quantile)
+    de = np.arange(1.0, 101.0)
+    score = np.where(de > 95, 2.0, 0.5)
+    eff = an.abnormal_effect({"flag": np.array([""] * 100), "energy_swing_J": de,
+                              "anomaly_score": score}, 0.95)
+    assert eff["abnormal"] == 5
+    assert eff["design_energy_swing_J"] == pytest.approx(95.05)
+    assert eff["design_energy_swing_without_J"] == pytest.approx(np.quantile(de[:95], 0.95))
+    assert eff["change"] < 0
+    assert an.abnormal_effect({"flag": np.array([""]), "energy_swing_J": np.ones(1),
+                               "anomaly_score": np.full(1, np.nan)}) is None

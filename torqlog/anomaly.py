@@ -465,8 +465,9 @@ def fit_model(curves: dict[str, np.ndarray], *, revs_per_cycle: int = 1,
     if trim:
         med = np.median(x, axis=0)
         sd_ch = np.array([np.median(np.abs(x[:, i * bins:(i + 1) * bins]
-                                           - med[i * bins:(i + 1) * bins])) + 1e-300
+                                           - med[i * bins:(i + 1) * bins]))
                           for i in range(len(channels))])
+        sd_ch = np.where(sd_ch > 0, sd_ch, 1.0)
         d = np.sum(((x - med) / np.repeat(sd_ch, bins)) ** 2, axis=1)
         dm = np.median(d)
         mad = 1.4826 * np.median(np.abs(d - dm))
@@ -485,9 +486,12 @@ def fit_model(curves: dict[str, np.ndarray], *, revs_per_cycle: int = 1,
     z = (x - mean) / np.repeat(np.asarray(scale), bins)
     _, s, vt = np.linalg.svd(z, full_matrices=False)
     lam = s * s / (n - 1)
+    if not lam.sum() > 0:
+        raise DataError(f"the {n} reference cycles are identical: no variation to learn a "
+                        "normal band from (a noise-free log?)")
     share = np.cumsum(lam) / lam.sum()
     k = int(np.searchsorted(share, variance) + 1)
-    k = max(1, min(k, MAX_COMPONENTS, n - 2, p - 1))
+    k = max(1, min(k, MAX_COMPONENTS, n - 2, p - 1, int((lam > 1e-12 * lam[0]).sum()) - 1))
     alpha = sidak_alpha(false_alarm)
     # residual eigenvalues: all p of them (zeros beyond rank n − 1 carry no variance)
     resid = lam[k:]
@@ -777,6 +781,46 @@ def model_from_log(path: str | Path, cycle_options: Any = None,
     return replace(res.shape_model, source=f"reference log {path}")
 
 
+def abnormal_effect(columns: dict[str, np.ndarray], quantile: float | str = 0.95
+                    ) -> dict[str, Any] | None:
+    """Whether the abnormal-shape cycles move the design energy swing.
+
+    Abnormal cycles stay in the statistics (they are real running); this says how many
+    there were and what the design energy swing would be without them.
+
+    Parameters
+    ----------
+    columns : dict of str to ndarray
+        Per-cycle columns (``flag``, ``energy_swing_J``, ``anomaly_score``).
+    quantile : float or "max"
+        The design quantile of the per-cycle energy swing.
+
+    Returns
+    -------
+    dict or None
+        ``abnormal`` (count), ``design_energy_swing_J`` with and ``..._without_J``
+        without them, ``change`` (relative); None when no cycle was scored.
+    """
+    score = np.asarray(columns["anomaly_score"], dtype=np.float64)
+    if not np.isfinite(score).any():
+        return None
+    clean = np.asarray(columns["flag"]).astype(str) == ""
+    de = np.asarray(columns["energy_swing_J"], dtype=np.float64)
+    ok = clean & np.isfinite(de)
+    bad = score > 1.0
+
+    def q(x: np.ndarray) -> float | None:
+        if not x.size:
+            return None
+        return float(x.max() if quantile == "max" else np.quantile(x, float(quantile)))
+
+    with_ = q(de[ok])
+    without = q(de[ok & ~bad])
+    change = (without - with_) / with_ if with_ and without is not None else None
+    return {"abnormal": int((bad & clean).sum()), "design_energy_swing_J": with_,
+            "design_energy_swing_without_J": without, "change": change}
+
+
 def reduce_bins(curves: np.ndarray, bins: int) -> np.ndarray:
     """Average (cycles, nb) curves into (cycles, bins) coarser bins (``bins`` divides nb)."""
     a = np.asarray(curves, dtype=np.float64)
@@ -821,6 +865,7 @@ class ShapeMonitor:
         self.flags_all: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
         self.notes: list[str] = []
         self.checked_duration = model is None
+        self.failed = False
         self.shift_n = 0
         self.shift_sum = 0.0
         self.shift_max = 0.0
@@ -836,6 +881,8 @@ class ShapeMonitor:
             Cycles scored by this call (possibly buffered ones); score NaN never appears.
         """
         if not len(cycles):
+            return []
+        if self.failed:
             return []
         if self.model is None:
             self.buffer.append((np.asarray(cycles), np.asarray(t_start), np.asarray(duration),
@@ -870,9 +917,14 @@ class ShapeMonitor:
         fine = {c: np.vstack([b[3][c] for b in self.buffer]) for c in self.channels}
         self.buffer = []
         n = min(len(cyc), self.o.learn_cycles)  # exactly the first N: chunking-independent
-        self.model = learn_model({c: v[:n] for c, v in fine.items()}, self.o, self.revs,
-                                 float(np.median(dur[:n])),
-                                 f"first {n} clean cycles of this log (robust trim)")
+        try:
+            self.model = learn_model({c: v[:n] for c, v in fine.items()}, self.o, self.revs,
+                                     float(np.median(dur[:n])),
+                                     f"first {n} clean cycles of this log (robust trim)")
+        except DataError as exc:  # the figures go on; the check is reported as not done
+            self.notes.append(str(exc))
+            self.failed = True
+            return []
         return [self._score(cyc, ts, self._features(fine))]
 
     def _score(self, cyc: np.ndarray, ts: np.ndarray, x: np.ndarray
@@ -909,12 +961,8 @@ class ShapeMonitor:
         no scores (the figures are kept; the check is reported as not done).
         """
         if self.model is None and self.buffer:
-            try:
-                return self._learn()
-            except DataError as exc:
-                self.notes.append(str(exc))
-                self.buffer = []
-        elif self.model is None:
+            return self._learn()
+        elif self.model is None and not self.failed:
             self.notes.append("no clean cycles to learn the cycle shape from")
         return []
 
