@@ -866,6 +866,9 @@ class ShapeMonitor:
         self.notes: list[str] = []
         self.checked_duration = model is None
         self.failed = False
+        #: where-text of recently flagged cycles, by cycle (a live watch turns it on and
+        #: empties it as it hands cycles out); None: not kept
+        self.recent: dict[int, str] | None = None
         self.shift_n = 0
         self.shift_sum = 0.0
         self.shift_max = 0.0
@@ -941,6 +944,8 @@ class ShapeMonitor:
             where = describe_cycle(m, x[i], float(t2[i]), float(q[i]), e[i])
             c = 0.5 * (where["window_deg"][0] + where["window_deg"][1])
             sec = int(c % (360.0 * self.revs) // 30) * 30
+            if self.recent is not None:
+                self.recent[int(cyc[i])] = where["text"]
             key = f"{where['channel']} {sec}-{sec + 30}°"
             self.sectors[key] = self.sectors.get(key, 0) + 1
             item = (float(score[i]), int(cyc[i]),

@@ -87,6 +87,8 @@ class TailReader(LogReader):
             tail = b""
             idle_since = _time.monotonic()
             while True:
+                if self.should_stop():
+                    return
                 data = fh.read(1 << 20)
                 if data:
                     idle_since = _time.monotonic()
@@ -101,8 +103,6 @@ class TailReader(LogReader):
                         yield pacsv.read_csv(io.BytesIO(lines), read_options=read,
                                              parse_options=parse, convert_options=conv)
                     continue
-                if self.should_stop():
-                    return
                 try:
                     st = os.stat(path)
                     if st.st_ino != ino or st.st_size < fh.tell():
@@ -235,6 +235,7 @@ def _follow(reader: TailReader, o: cy.CycleOptions, ao: an.AnomalyOptions,
     it = chain(rest, rows_it)
     chans = set(has) | ({"speed"} if speed_from_angle else set())
     monitor = an.ShapeMonitor(ao, o.revs_per_cycle, chans, model)
+    monitor.recent = {}
     if first is None:
         return monitor, _Empty()
     tracker, _, _ = cy._tracker_for(source, o, first, lay.path)
@@ -297,6 +298,10 @@ def _drain(st: Any, monitor: an.ShapeMonitor, lay: Any, o: cy.CycleOptions,
     cols = cy._columns(st, lay, o)
     st.rows = []
     st.shape_scores = []
+    recent = monitor.recent or {}
+    cols["anomaly_where"] = np.array([recent.get(int(c), "") for c in cols["cycle"]],
+                                     dtype=object)
+    monitor.recent = {}
     on_cycles(cols)
     monitor.forget(KEEP_FLAGS)
 

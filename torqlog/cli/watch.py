@@ -121,8 +121,10 @@ def watch_cmd(log: str, fmt: str, poll: float, idle_exit: float | None, exit_on_
                           f"{'  ' + row['flag'] if row['flag'] else ''}\n")
             if bad:
                 state["alarm"] = True
+                where = cols["anomaly_where"][i] if "anomaly_where" in cols else ""
                 msg = f"ALARM cycle {row['cycle']} at t = {row['t_start_s']:.2f} s: abnormal " \
-                      f"cycle shape, score {row['anomaly_score']:.2f} (1 = limit)"
+                      f"cycle shape, score {row['anomaly_score']:.2f} (1 = limit)" + \
+                      (f": {where}" if where else "")
                 out.write((json.dumps({"type": "alarm", "cycle": row["cycle"],
                                        "t_start_s": row["t_start_s"], "text": msg})
                            if fmt == "jsonl" else msg) + "\n")
