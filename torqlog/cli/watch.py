@@ -90,7 +90,9 @@ def watch_cmd(log: str, fmt: str, poll: float, idle_exit: float | None, exit_on_
     completes; abnormal cycles print an 'ALARM' line; Ctrl-C prints a summary.
 
     The file may end in a partial line, pause, or be replaced by a new file (rotation);
-    memory stays bounded however long it runs.
+    memory stays bounded however long it runs. Cycles appear once the first chunk of
+    rows (100 000, as `cycles` reads them: same figures) and, without --reference, the
+    first --learn-cycles clean cycles are in; after that, two cycles behind the logger.
     """
     from torqlog.cycles import COLUMNS
     from torqlog.errors import CheckFailed
