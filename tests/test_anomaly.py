@@ -218,3 +218,30 @@ def test_abnormal_effect_on_design_energy_swing() -> None:
     assert eff["change"] < 0
     assert an.abnormal_effect({"flag": np.array([""]), "energy_swing_J": np.ones(1),
                                "anomaly_score": np.full(1, np.nan)}) is None
+
+
+def test_trend_rows_carry_the_anomaly_rate_and_chart_it() -> None:
+    # abnormal / scored cycles per shift; a shift with a rise is flagged by the
+    # individuals chart like any other figure (limits from the baseline shifts)
+    import pandas as pd
+
+    from torqlog.shifts import ShiftCalendar
+    from torqlog.trend import DriftOptions, detect_drift, group_cycles
+
+    rng = np.random.default_rng(8)
+    n_shift, per = 12, 200
+    start = pd.Timestamp("2026-03-02T06:00:00Z") + pd.to_timedelta(
+        np.repeat(np.arange(n_shift) * 8.0, per) + np.tile(np.arange(per) * 0.02, n_shift),
+        unit="h")
+    rate = np.where(np.arange(n_shift) < 11, 0.01, 0.2)
+    score = np.where(rng.random(n_shift * per) < np.repeat(rate, per), 3.0, 0.5)
+    score[:5] = np.nan  # not scored (learning)
+    cycles = pd.DataFrame({
+        "machine": "C2", "file": "f", "start_time": start, "cycle": np.arange(start.size) + 1,
+        "flag": "", "duration_s": 0.1, "energy_swing_J": 700.0, "cs": 0.04,
+        "torque_peak_Nm": 560.0, "work_J": 1000.0, "anomaly_score": score})
+    _, g = group_cycles(cycles, ShiftCalendar())
+    first = int((score[:per] > 1).sum())
+    assert g["anomaly_rate"].iloc[0] == pytest.approx(first / (per - 5))
+    flags, *_ = detect_drift(g, DriftOptions(figures=("anomaly_rate",)))
+    assert flags[11] and all(f.startswith("anomaly_rate:") for f in flags[11])
