@@ -493,8 +493,9 @@ def fit_model(curves: dict[str, np.ndarray], *, revs_per_cycle: int = 1,
     k = int(np.searchsorted(share, variance) + 1)
     k = max(1, min(k, MAX_COMPONENTS, n - 2, p - 1, int((lam > 1e-12 * lam[0]).sum()) - 1))
     alpha = sidak_alpha(false_alarm)
-    # residual eigenvalues: all p of them (zeros beyond rank n − 1 carry no variance)
     resid = lam[k:]
+    if n >= 2 * MIN_REFERENCE_CYCLES:  # out-of-sample residual variance (split sample)
+        resid = resid * (_residual_eigenvalues(z, k).sum() / resid.sum())
     return ShapeModel(channels=channels, bins=bins, revs_per_cycle=int(revs_per_cycle),
                       mean=mean, sd=sd, scale=scale, components=vt[:k].copy(),
                       eigenvalues=lam[:k].copy(), residual_eigenvalues=resid.copy(),
@@ -502,6 +503,26 @@ def fit_model(curves: dict[str, np.ndarray], *, revs_per_cycle: int = 1,
                       t2_limit=t2_limit(k, n, alpha), q_limit=q_limit(resid, alpha),
                       duration=float(duration), source=source,
                       template=np.zeros(0) if template is None else np.asarray(template))
+
+
+def _residual_eigenvalues(z: np.ndarray, k: int) -> np.ndarray:
+    """Residual eigenvalues of cycles the model plane was not fitted to.
+
+    In-sample residuals are too small when the features are many for the cycles (the
+    fitted plane takes up part of the noise: the smallest sample eigenvalues are biased
+    low), so a Q limit from them alarms too often on new cycles. Here the plane is fitted
+    on the first half of the reference and the residuals taken from the second half; the
+    caller rescales the in-sample residual eigenvalues to their total (θ₁), keeping the
+    in-sample spread for θ₂ and θ₃ (the half-sample spread is wider still).
+    """
+    half = z.shape[0] // 2
+    a, b = z[:half], z[half:]
+    ma = a.mean(axis=0)
+    _, _, va = np.linalg.svd(a - ma, full_matrices=False)
+    p = va[:k]
+    e = (b - ma) - ((b - ma) @ p.T) @ p
+    s = np.linalg.svd(e, compute_uv=False)
+    return s * s / (b.shape[0] - 1)
 
 
 # ----------------------------------------------------------------------------- where
