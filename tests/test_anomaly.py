@@ -245,3 +245,31 @@ def test_trend_rows_carry_the_anomaly_rate_and_chart_it() -> None:
     assert g["anomaly_rate"].iloc[0] == pytest.approx(first / (per - 5))
     flags, *_ = detect_drift(g, DriftOptions(figures=("anomaly_rate",)))
     assert flags[11] and all(f.startswith("anomaly_rate:") for f in flags[11])
+
+
+def test_cli_simulate_fault_and_cycles_shape_options(logs, tmp_path) -> None:
+    from click.testing import CliRunner
+
+    from torqlog.cli import cli
+
+    r = CliRunner()
+    out = tmp_path / "leak.csv"
+    res = r.invoke(cli, ["simulate", "compressor", "-o", str(out), "--duration", "5",
+                         "--fault", "valve-leak", "--fault-every", "4"])
+    assert res.exit_code == 0, res.output
+    truth = json.loads((tmp_path / "leak.csv.truth.json").read_text())
+    assert truth["fault"]["name"] == "valve-leak" and truth["fault"]["pick"] == "every"
+    assert len(truth["fault"]["events"]) >= 10
+    model = tmp_path / "m.json"
+    res = r.invoke(cli, ["cycles", str(logs["healthy_c"][0]), "--save-shape-model", str(model),
+                         "--format", "json"])
+    assert res.exit_code == 0, res.output
+    res = r.invoke(cli, ["cycles", str(out), "--shape-model", str(model), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    d = json.loads(res.stdout)
+    assert d["summary"]["anomaly"]["abnormal"] >= 10
+    res = r.invoke(cli, ["cycles", str(logs["healthy_p"][0]), "--shape-model", str(model)])
+    assert res.exit_code == 1
+    assert "reference cycles last" in res.output
+    res = r.invoke(cli, ["simulate", "press", "-o", str(tmp_path / "x.csv"), "--fault", "dent"])
+    assert res.exit_code == 2 and "unknown fault 'dent'; valid faults:" in res.output
