@@ -49,6 +49,7 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -433,6 +434,7 @@ class FlywheelResult:
             "shape": g.shape,
             "material": self.material.name,
             "material_designation": self.material.designation,
+            "material_source": self.material.source,
             "outer_diameter_m": g.outer_diameter,
             "bore_m": g.bore,
             "width_m": g.width,
@@ -820,7 +822,10 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
                           interference: float | None = None, density: float | None = None,
                           strength: float | None = None, poisson: float | None = None,
                           modulus: float | None = None,
-                          material_factor: float | None = None) -> FlywheelResult:
+                          material_factor: float | None = None,
+                          brittle: bool | None = None, material_name: str | None = None,
+                          materials: Mapping[str, Material] | None = None,
+                          ) -> FlywheelResult:
     """Size or check a flywheel from given values over a profile and a sizing result.
 
     What ``torqlog flywheel`` and the report both run. A value given here wins; None
@@ -840,15 +845,23 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
         The JSON contract of ``torqlog size`` (:func:`torqlog.inertia.size_log_dict`).
     size_source : str
         Where ``size`` came from, for messages and ``options["from_size"]``.
-    material : str, optional
-        A name of :data:`torqlog.materials.MATERIALS`.
+    material : str or mapping, optional
+        A name of :data:`torqlog.materials.MATERIALS` or of ``materials``, or a table of
+        properties (the profile's ``[flywheel] material = { ... }``).
     shape, outer_diameter, bore, width, max_width, max_outer_diameter,
     rim_inner_diameter, rim_depth, web_width : [m] for lengths
         See :func:`design_flywheel`.
     overspeed, slowdown, interference, material_factor
         See :func:`check_flywheel` (overspeed default 1.2).
     density [kg/m^3], strength [Pa], poisson, modulus [Pa] : float, optional
-        Override the material's values.
+        Override the material's values; with no material named, all four make a
+        material of its own (:func:`torqlog.materials.resolve_material`).
+    brittle : bool, optional
+        The ductile/brittle choice for a material given by its properties.
+    material_name : str, optional
+        The user's name for a material given by its properties (default ``"custom"``).
+    materials : mapping of str to Material, optional
+        A plant's own materials table (:func:`torqlog.materials.load_materials`).
 
     Returns
     -------
@@ -864,7 +877,7 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
     ----------
     Timoshenko & Goodier, *Theory of Elasticity*, 3rd ed., section 32.
     """
-    from torqlog.materials import MATERIALS, custom_material
+    from torqlog.materials import resolve_material
 
     fw = profile.flywheel if profile is not None else {}
     mach = profile.machine if profile is not None else {}
@@ -883,13 +896,11 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
     def pick(value: Any, key: str, default: Any = None) -> Any:
         return value if value is not None else fw.get(key, default)
 
-    material = pick(material, "material")
-    if material is None:
-        raise UsageError(f"give --material; known: {', '.join(MATERIALS)}")
-    mat = get_material(material)
-    if any(v is not None for v in (density, strength, poisson, modulus)):
-        mat = custom_material(mat, density=density, modulus=modulus, poisson=poisson,
-                              strength=strength)
+    spec = pick(material, "material")
+    mat = resolve_material(spec, table=materials, density=density, modulus=modulus,
+                           poisson=poisson, strength=strength, brittle=brittle,
+                           name=material_name,
+                           where=f"{getattr(profile, 'source', '<profile>')} [flywheel] material")
     shape = pick(shape, "shape", "annular-disc")
     outer_diameter = pick(outer_diameter, "outer_diameter")
     bore = pick(bore, "bore", 0.0)

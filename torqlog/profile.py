@@ -36,7 +36,7 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
     },
     "flywheel": {
         "shape": (str, None),
-        "material": (str, None),
+        "material": ((str, dict), None),
         "outer_diameter_m": ((int, float), 1.0),
         "bore_m": ((int, float), 1.0),
         "max_width_m": ((int, float), 1.0),

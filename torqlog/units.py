@@ -28,6 +28,7 @@ SI_UNITS: dict[str, str] = {
     "time": "s",
     "torque": "N*m",
     "speed": "rad/s",
+    "velocity": "m/s",
     "angle": "rad",
     "inertia": "kg*m**2",
     "length": "m",

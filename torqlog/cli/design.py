@@ -272,6 +272,14 @@ def _flywheel_text(data: dict[str, Any]) -> str:
 @click.option("--poisson", type=float, default=None, help="Override Poisson's ratio.")
 @click.option("--modulus", type=QuantityType("stress", "GPa"), default=None,
               help="Override Young's modulus [GPa].")
+@click.option("--behaviour", type=click.Choice(["ductile", "brittle"]), default=None,
+              help="Ductile (von Mises vs yield) or brittle (max principal vs tensile) "
+                   "for a material given by its properties.")
+@click.option("--material-name", default=None,
+              help="Your name for a material given by its properties [default: custom].")
+@click.option("--materials", "materials_path", type=click.Path(dir_okay=False),
+              default=None, help="The plant's own materials table (TOML), one table "
+                                 "per material.")
 @click.option("--material-factor", type=float, default=None,
               help="Factor on strength kept at the overspeed [default: 1.5 ductile, "
                    "3.0 grey iron].")
@@ -293,6 +301,8 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
                  rim_depth: float | None, web_width: float | None, overspeed: float | None,
                  slowdown: float | None, interference: float | None, density: float | None,
                  strength: float | None, poisson: float | None, modulus: float | None,
+                 behaviour: str | None, material_name: str | None,
+                 materials_path: str | None,
                  material_factor: float | None, profile_path: str | None,
                  size_path: str | None, strict: bool, plot_path: str | None, fmt: str,
                  output: str | None) -> None:
@@ -305,6 +315,7 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
     """
     from torqlog.errors import CheckFailed, DataError, UsageError
     from torqlog.flywheel import flywheel_from_profile
+    from torqlog.materials import load_materials
     from torqlog.profile import load_profile
 
     prof = load_profile(profile_path) if profile_path else None
@@ -324,7 +335,10 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
         width=width, max_width=max_width, max_outer_diameter=max_outer_diameter,
         rim_inner_diameter=rim_inner_diameter, rim_depth=rim_depth, web_width=web_width,
         overspeed=overspeed, slowdown=slowdown, interference=interference, density=density,
-        strength=strength, poisson=poisson, modulus=modulus, material_factor=material_factor)
+        strength=strength, poisson=poisson, modulus=modulus, material_factor=material_factor,
+        brittle=None if behaviour is None else behaviour == "brittle",
+        material_name=material_name, materials=load_materials(materials_path)
+        if materials_path else None)
     data = result.to_dict()
     if profile_path:
         data["options"]["profile"] = profile_path
