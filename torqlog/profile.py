@@ -59,6 +59,9 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "band": ((int, float), 1.0),
         "min_share": ((int, float), 1.0),
     },
+    "output": {
+        "units": (str, None),
+    },
     "shifts": {
         "starts": (list, None),
         "names": (list, None),
@@ -78,7 +81,7 @@ class MachineProfile:
     ----------
     source : str
         Path of the TOML file ("" when built in code).
-    machine, motor, flywheel, shaft, torsional, shifts : dict
+    machine, motor, flywheel, shaft, torsional, shifts, output : dict
         One dict per section. Numeric values are SI and the keys lose their unit
         suffix (``speed_rpm`` becomes ``speed`` [rad/s], ``inertia_kgm2`` becomes
         ``inertia`` [kg*m^2], ``power_kW`` becomes ``power`` [W]); lists and text keep
@@ -92,6 +95,7 @@ class MachineProfile:
     shaft: dict[str, Any] = field(default_factory=dict)
     torsional: dict[str, Any] = field(default_factory=dict)
     shifts: dict[str, Any] = field(default_factory=dict)
+    output: dict[str, Any] = field(default_factory=dict)
     raw: dict[str, Any] = field(default_factory=dict)
 
 
@@ -157,6 +161,9 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
     if role is not None and role not in ("load", "drive"):
         raise DataError(f"{source}: [machine] torque_role must be \"load\" or \"drive\", "
                         f"got {role!r}")
+    units = sections.get("output", {}).get("units")
+    if units is not None and units not in ("si", "us"):
+        raise DataError(f"{source}: [output] units must be \"si\" or \"us\", got {units!r}")
     rpc = sections.get("machine", {}).get("revs_per_cycle")
     if rpc is not None and rpc < 1:
         raise DataError(f"{source}: [machine] revs_per_cycle must be 1 or more, got {rpc}")

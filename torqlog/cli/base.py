@@ -25,7 +25,9 @@ from torqlog.units import parse_quantity
 if TYPE_CHECKING:
     import pandas as pd
 
-FORMATS = ("table", "csv", "json")
+FORMATS = ("table", "csv", "json", "xlsx", "parquet")
+#: Formats that carry the full result table.
+TABULAR = ("csv", "xlsx", "parquet")
 
 
 # --------------------------------------------------------------------------- helpers
@@ -83,19 +85,57 @@ def to_json(data: dict[str, Any]) -> str:
     return json.dumps(_jsonable(data), indent=2, ensure_ascii=False)
 
 
+def output_settings() -> dict[str, Any]:
+    """Unit system, digits and units row chosen by the output options of this command."""
+    ctx = click.get_current_context(silent=True)
+    settings = {"units": "si", "digits": None, "full_precision": False, "units_row": False}
+    if ctx is not None:
+        settings.update(ctx.meta.get("torqlog.output", {}))
+        prof = ctx.params.get("profile") or ctx.params.get("profile_path")
+        if "units" not in ctx.meta.get("torqlog.output", {}) and isinstance(prof, str):
+            settings["units"] = load_profile_opt(prof).output.get("units", "si")
+    return settings
+
+
 def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | None,
-         text: str | None = None) -> None:
+         text: str | Callable[[dict[str, Any]], str] | None = None,
+         sheets: dict[str, pd.DataFrame] | None = None) -> None:
     """Write a result in the chosen format to ``out`` (a path) or stdout.
 
     ``table`` is printed for ``table`` and ``csv``; ``text`` (if given) is printed
-    before the table in ``table`` format; ``data`` is the JSON contract.
+    before the table in ``table`` format -- a function of the (unit-converted) data, or
+    fixed text (then shown in SI only); ``data`` is the JSON contract. ``--units us``
+    converts data and table (:func:`torqlog.units.convert_keys`); xlsx and Parquet go
+    through :mod:`torqlog.exporting`, with ``sheets`` as extra xlsx sheets.
     """
+    from torqlog.exporting import DEFAULT_DIGITS, to_csv_text, write_binary
+    from torqlog.units import convert_frame, convert_keys
+
+    opts = output_settings()
+    system = opts["units"]
+    if system != "si":
+        data = convert_keys(data, system)
+        table = convert_frame(table, system) if table is not None else None
+        sheets = {k: convert_frame(v, system) for k, v in (sheets or {}).items()}
+    if callable(text):
+        try:
+            text = text(data)
+        except KeyError:  # a text layout that knows SI keys only: list the values
+            text = "\n".join(f"  {k:<34} {_fmt_float(v) if isinstance(v, float) else v}"
+                             for k, v in _flat(data).items() if k != "options"
+                             and not k.startswith("options.")) + "\n"
+    if fmt in ("xlsx", "parquet"):
+        path = write_binary(fmt, out, _jsonable(data), table, system, sheets)
+        click.echo(f"wrote {path}", err=True)
+        return
     if fmt == "json":
         body = to_json(data) + "\n"
     elif fmt == "csv":
         import pandas as pd
 
-        body = (table if table is not None else pd.DataFrame([_flat(data)])).to_csv(index=False)
+        digits = None if opts["full_precision"] else (opts["digits"] or DEFAULT_DIGITS)
+        body = to_csv_text(table if table is not None else pd.DataFrame([_flat(data)]),
+                           digits=digits, units_row=opts["units_row"], system=system)
     else:
         import pandas as pd
 
@@ -134,8 +174,34 @@ def _flat(data: dict[str, Any], prefix: str = "") -> dict[str, Any]:
     return flat
 
 
+def _store(key: str) -> Callable[[click.Context, click.Parameter, Any], Any]:
+    def callback(ctx: click.Context, param: click.Parameter, value: Any) -> Any:
+        if value is not None:
+            ctx.meta.setdefault("torqlog.output", {})[key] = value
+        return value
+
+    return callback
+
+
 def output_options(f: Callable) -> Callable:
-    """Add ``--format`` and ``-o/--output`` to a command."""
+    """Add ``--format``, ``-o/--output`` and the unit/precision options to a command.
+
+    ``--units``, ``--digits``, ``--full-precision`` and ``--units-row`` are read by
+    :func:`emit` (through :func:`output_settings`), not passed to the command.
+    """
+    f = click.option("--units-row", is_flag=True, default=None, expose_value=False,
+                     callback=_store("units_row"),
+                     help="CSV: a second line with each column's unit.")(f)
+    f = click.option("--full-precision", is_flag=True, default=None, expose_value=False,
+                     callback=_store("full_precision"),
+                     help="CSV: keep every digit of each number (default: rounded).")(f)
+    f = click.option("--digits", type=click.IntRange(1, 17), default=None,
+                     expose_value=False, callback=_store("digits"),
+                     help="CSV: significant digits of each number  [default: 6].")(f)
+    f = click.option("--units", "units_system", type=click.Choice(["si", "us"]),
+                     default=None, expose_value=False, callback=_store("units"),
+                     help="Units of the output: si, or us (lbf·ft, ft·lbf, lb·ft², in, "
+                          "ksi, lb, hp, rpm)  [default: si, or the profile].")(f)
     f = click.option("-o", "--output", "output", type=click.Path(dir_okay=False),
                      default=None, help="Write the result to this file instead of stdout.")(f)
     f = click.option("--format", "fmt", type=click.Choice(FORMATS), default="table",

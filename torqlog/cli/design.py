@@ -203,7 +203,7 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
         plot_shaft(result, plot_path, spectrum=spectrum)
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, result.to_pandas(), fmt, output,
-         text=_shaft_text(data, profile.machine.get("name", "")))
+         text=lambda d: _shaft_text(d, profile.machine.get("name", "")))
     if strict and result.failures:
         reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
         raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")
@@ -347,7 +347,7 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
 
         plot_flywheel_stresses(result, plot_path)
         click.echo(f"wrote {plot_path}", err=True)
-    emit(data, None, fmt, output, text=_flywheel_text(data) if fmt == "table" else None)
+    emit(data, None, fmt, output, text=_flywheel_text if fmt == "table" else None)
     if data["verdict"] != "pass":
         if fmt != "table" or output:
             click.echo(f"flywheel check: FAIL ({', '.join(data['failed'])})", err=True)

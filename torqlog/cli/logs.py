@@ -9,6 +9,7 @@ from typing import Any
 import click
 
 from torqlog.cli.base import (
+    TABULAR,
     QuantityType,
     cli,
     cycle_options,
@@ -61,7 +62,7 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
     ]
     if d["preamble"]:
         lines.append("preamble    " + "; ".join(f"{k}: {v}" for k, v in d["preamble"].items()))
-    emit(d, cols if fmt == "csv" else cols.rename(columns={"si_factor": "SI factor"}), fmt,
+    emit(d, cols if fmt in TABULAR else cols.rename(columns={"si_factor": "SI factor"}), fmt,
          output, text="\n".join(lines) + "\n")
 
 
@@ -99,7 +100,7 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         "",
     ])
     table = None  # the JSON needs no pandas table (and so no pandas)
-    if fmt == "csv":
+    if fmt in TABULAR:
         table = res.table
     elif fmt == "table":
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
@@ -196,8 +197,8 @@ def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quant
         plot_drive_curve(result.to_pandas(), plot_path, target_cs=target_cs,
                          recommended=data["added_inertia_kgm2"])
         click.echo(f"wrote {plot_path}", err=True)
-    emit(data, result.to_pandas() if fmt == "csv" and result.curve is not None else None,
-         fmt, output, text=_size_text(data, res.source))
+    emit(data, result.to_pandas() if fmt in TABULAR and result.curve is not None else None,
+         fmt, output, text=lambda d: _size_text(d, res.source))
 
 
 
@@ -379,7 +380,7 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
                                          table["start_time"]],
                              flags=[_short_flags(f) for f in res.groups["flags"]])
         table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95"])
-    emit(d, table, fmt, output, text=_trend_text(d, n_all))
+    emit(d, table, fmt, output, text=lambda dd: _trend_text(dd, n_all))
     if res.failed:
         click.echo(f"Error: {len(res.failed)} of {n_all} file(s) failed: "
                    + "; ".join(f"{f['file']}: {f['reason']}" for f in res.failed), err=True)
