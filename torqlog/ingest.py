@@ -311,6 +311,13 @@ class LogReader:
             yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
                                        columns=[c.name for c in wanted])
             return
+        if lay.kind in ("mdf4", "hdf5"):
+            from torqlog.read_hdf import iter_hdf_batches
+            from torqlog.read_mdf import iter_mdf_batches
+
+            read = iter_mdf_batches if lay.kind == "mdf4" else iter_hdf_batches
+            yield from read(lay, [c.name for c in wanted])
+            return
         names = [c.name for c in lay.columns]
         types: dict[str, pa.DataType] = {}
         for c in wanted:

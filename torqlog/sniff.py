@@ -99,7 +99,7 @@ class Layout:
     path : str
         The file.
     kind : str
-        "csv" or "parquet".
+        "csv", "parquet", "mdf4" or "hdf5".
     delimiter, decimal : str
         Field delimiter and decimal mark.
     encoding : str
@@ -281,7 +281,7 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
     Parameters
     ----------
     path : str or Path
-        CSV, CSV.gz or Parquet file.
+        CSV, CSV.gz, Parquet, MDF4 (``.mf4``) or HDF5 (``.h5``) file.
     roles : dict, optional
         Role → column name overrides (``{"torque": "Drehmoment"}``).
     units : dict, optional
@@ -308,6 +308,12 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
             raise UsageError(f"unknown channel role {k!r}; valid: {', '.join(ROLES)}")
     if p.suffix.lower() in (".parquet", ".pq"):
         return _sniff_parquet(p, roles, units, rate, start)
+    from torqlog import read_hdf, read_mdf
+
+    if p.suffix.lower() in read_mdf.SUFFIXES:
+        return read_mdf.sniff_mdf(p, roles, units, rate, start)
+    if p.suffix.lower() in read_hdf.SUFFIXES:
+        return read_hdf.sniff_hdf(p, roles, units, rate, start)
     text, enc, cut = _read_head(p)
     # pyarrow ends lines at \n, \r and \r\n only; str.splitlines() would also split at
     # \x85, \x0c, \u2028 ... and shift every line number (and skip_rows) after them
