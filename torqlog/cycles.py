@@ -31,6 +31,7 @@ from torqlog import condition as cond
 from torqlog import energy as en
 from torqlog.errors import DataError, UsageError
 from torqlog.ingest import Chunk, Layout, LogReader
+from torqlog.notebook import result_html
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -220,6 +221,8 @@ class CycleResult:
     def clean(self) -> pd.DataFrame:
         """Rows without a flag."""
         return self.table[self.table["flag"] == ""]
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract of ``torqlog cycles`` (NaN and NaT become None)."""

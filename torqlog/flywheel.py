@@ -67,6 +67,7 @@ from torqlog.discs import (
 )
 from torqlog.errors import DataError, UsageError
 from torqlog.materials import Material, get_material
+from torqlog.notebook import result_html
 
 SHAPES = ("solid-disc", "annular-disc", "rim")
 CRITERIA = ("von-mises", "max-principal")
@@ -419,6 +420,8 @@ class FlywheelResult:
         """Allowable criterion stress at the operating speed, strength / required factor
         [Pa]."""
         return self.material.strength / self.required_stress_factor
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract (units in the key names)."""

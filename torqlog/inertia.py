@@ -40,6 +40,7 @@ from torqlog.drive import (
 )
 from torqlog.errors import DataError, UsageError
 from torqlog.identify import IdentifyResult, check_role, identify_inertia_cycle
+from torqlog.notebook import result_html
 
 _RPM = 60.0 / (2.0 * math.pi)  # rad/s -> rpm
 
@@ -325,6 +326,8 @@ class SizeResult:
         if self.added_inertia is None:
             return None
         return self.added_inertia / self.flywheel_speed_ratio ** 2
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """JSON contract of the sizing."""

@@ -40,6 +40,7 @@ from scipy.integrate import solve_ivp
 
 from torqlog.errors import UsageError
 from torqlog.machines import PROFILE_PARTS, DemoMachine, get_machine
+from torqlog.notebook import result_html
 from torqlog.units import si_factor
 
 #: Channels :func:`simulate` can produce, in the order they appear in the data.
@@ -199,6 +200,8 @@ class SimulatedLog:
     def rate(self) -> float:
         """Sample rate [Hz]."""
         return float(self.options["rate"])
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """Summary for JSON output: machine, rows, duration, channels, options."""

@@ -15,6 +15,7 @@ import numpy as np
 from torqlog import condition as cond
 from torqlog.angle import pick_cycle_source
 from torqlog.ingest import Layout, LogReader
+from torqlog.notebook import result_html
 
 _MAX_GAPS_LISTED = 20
 
@@ -35,6 +36,8 @@ class Survey:
     clipped: dict[str, int]
     cycle_source: str | None
     cycle_source_note: str
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """JSON contract of ``torqlog inspect``."""

@@ -335,6 +335,12 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
 @click.option("--out-dir", type=click.Path(file_okay=False), default=None,
               help="Write cycles.parquet (every cycle), shifts.csv (the rows) and the PNG "
                    "plots into this folder.")
+@click.option("--fleet", "fleet_flag", is_flag=True,
+              help="Add the fleet table: one row per machine (Cs median and worst decile "
+                   "against target, added inertia, motor RMS load, drift, last log); it "
+                   "becomes the printed table.")
+@click.option("--fleet-sort", default="cs_p90_over_target", show_default=True,
+              metavar="COLUMN", help="Rank the fleet table by this column (worst first).")
 @output_options
 def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: str | None,
               machine: str | None, folder_profiles: bool, shifts: str | None,
@@ -342,7 +348,7 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
               baseline_path: str | None, figures: str, limits_method: str,
               ewma_lambda: float, ewma_l: float, run_rule: str, n_jobs: int | None,
               use_dask: bool, scheduler: str | None, out_dir: str | None,
-              **kw: Any) -> None:
+              fleet_flag: bool, fleet_sort: str, **kw: Any) -> None:
     """Trend many logs across shifts (and machines): per-shift figures, control limits
     and the first shift where drift began. PATHS are files, folders or glob patterns."""
     from contextlib import ExitStack, nullcontext
@@ -380,7 +386,19 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
                                          table["start_time"]],
                              flags=[_short_flags(f) for f in res.groups["flags"]])
         table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95"])
-    emit(d, table, fmt, output, text=lambda dd: _trend_text(dd, n_all))
+    sheets = None
+    if fleet_flag:
+        from torqlog.cli.fleet import fleet_for
+        from torqlog.fleet import rank_rows
+
+        rank_rows([], fleet_sort)  # an unknown column is refused before the sizing runs
+        fleet = fleet_for(res, jobs, profile, folder_profiles, fleet_sort)
+        d["fleet"] = fleet.to_dict()
+        sheets = {"shifts": table}
+        table = fleet.to_pandas()
+        if out_dir:
+            fleet.to_pandas().to_csv(Path(out_dir) / "fleet.csv", index=False)
+    emit(d, table, fmt, output, text=lambda dd: _trend_text(dd, n_all), sheets=sheets)
     if res.failed:
         click.echo(f"Error: {len(res.failed)} of {n_all} file(s) failed: "
                    + "; ".join(f"{f['file']}: {f['reason']}" for f in res.failed), err=True)
