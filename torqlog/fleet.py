@@ -196,8 +196,12 @@ def fleet_table(cycles: pd.DataFrame, *, targets: Mapping[str, float | None] | N
         p90 = float(np.quantile(cs, 0.9)) if cs.size else None
         target = targets.get(machine)
         ratio = p90 / target if (p90 is not None and target) else None
-        status = "no target" if ratio is None else ("within target" if ratio <= 1.0
-                                                    else "over target")
+        if p90 is None:
+            status = "no Cs in the logs"
+        elif not target:
+            status = "no target"
+        else:
+            status = "within target" if ratio <= 1.0 else "over target"
         anomaly = None
         if "anomaly" in c:
             anomaly = float(np.mean(c["anomaly"].astype(bool)))

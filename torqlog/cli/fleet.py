@@ -32,3 +32,41 @@ def fleet_for(res: Any, jobs: list[Any], profile: Any, folder_profiles: bool,
         else:
             profiles[m] = profile
     return fleet_from_trend(res, latest, profiles, size=size, sort_by=sort_by)
+
+
+def write_demo_fleet(runs: list[Any], out_dir: str | Path) -> list[Path]:
+    """Trend every demo machine's logs and write the plant's fleet table.
+
+    Writes ``fleet.xlsx`` (sheets fleet, shifts, options), ``fleet.csv`` (with a units
+    row) and ``fleet.json`` into ``out_dir``; returns their paths.
+    """
+    from torqlog.batch import FileJob
+    from torqlog.cli.base import make_cycle_options, to_json
+    from torqlog.demo import DEMO_START
+    from torqlog.exporting import to_csv_text, write_xlsx
+    from torqlog.fleet import fleet_from_trend
+    from torqlog.trend import DriftOptions, ShiftCalendar, run_trend
+
+    jobs, profiles = [], {}
+    for run in runs:
+        prof = load_profile_opt(str(run.profile))
+        name = prof.machine.get("name") or run.key
+        profiles[name] = prof
+        opts = make_cycle_options({}, prof)
+        # a log that states no start of its own is placed at the demo's first shift
+        start = None if len(run.logs) > 1 else DEMO_START.isoformat()
+        jobs += [FileJob(str(log), opts, name, {}, start) for log in run.logs]
+    press = profiles[next(iter(profiles))]
+    res = run_trend(jobs, ShiftCalendar.build(None, None, None, press),
+                    drift=DriftOptions(), workers=1)
+    latest = {}
+    for f in sorted(res.files, key=lambda f: f["start_time"]):
+        latest[f["machine"]] = next(j for j in jobs if j.path == f["file"])
+    fleet = fleet_from_trend(res, latest, profiles)
+    out = Path(out_dir)
+    table = fleet.to_pandas()
+    paths = [write_xlsx(out / "fleet.xlsx", {"fleet": table, "shifts": res.to_pandas()},
+                        fleet.options)]
+    (out / "fleet.csv").write_text(to_csv_text(table, units_row=True), encoding="utf-8")
+    (out / "fleet.json").write_text(to_json(fleet.to_dict()) + "\n", encoding="utf-8")
+    return [*paths, out / "fleet.csv", out / "fleet.json"]

@@ -124,7 +124,8 @@ def demo_cmd(out_dir: str) -> None:
     from torqlog.report import build_report, write_report
 
     reports = []
-    for run in write_demo_inputs(out_dir):
+    runs = write_demo_inputs(out_dir)
+    for run in runs:
         data = build_report(list(run.logs), run.profile, figure_dir=run.folder)
         stages = data.stage_json()
         for name in ("inspect", "cycles"):
@@ -141,6 +142,10 @@ def demo_cmd(out_dir: str) -> None:
         for why in data.skipped.values():
             click.echo(f"  note: {why}", err=True)
         reports.append(html)
+    from torqlog.cli.fleet import write_demo_fleet
+
+    click.echo("fleet table: " + ", ".join(str(p) for p in write_demo_fleet(runs, out_dir)),
+               err=True)
     first = reports.pop(0)
     for html in reports:
         click.echo(f"report: {html}")
