@@ -171,6 +171,12 @@ def get_material(name: str, table: Mapping[str, Material] | None = None) -> Mate
     ------
     UsageError
         ``unknown material 'xyz'; known: ...`` listing every name.
+
+    Examples
+    --------
+    >>> m = get_material("steel-c45")
+    >>> m.density, m.strength / 1e6, m.designation
+    (7850.0, 305.0, 'C45+N (EN 10083-2)')
     """
     key = str(name).strip().lower()
     if key in MATERIALS:
