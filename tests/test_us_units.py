@@ -85,3 +85,18 @@ def test_cli_units_us_json_and_profile_setting(tmp_path):
     assert by_profile["mass_lb"] == pytest.approx(us["mass_lb"], rel=1e-12)
     table = CliRunner().invoke(cli, [*args[:-2], "--units", "us"]).stdout
     assert "inertia_lbft2" in table and "stress_von_mises_max_ksi" in table
+
+
+def test_profile_keys_take_numbers_with_units():
+    from torqlog.errors import DataError
+    from torqlog.profile import parse_profile
+
+    p = parse_profile({"machine": {"speed_rpm": "4.772 rad/s", "inertia_kgm2": "7356.4 lb*ft**2"},
+                       "flywheel": {"outer_diameter_m": "55 in"}}, "p.toml")
+    assert p.machine["speed"] == pytest.approx(4.772, rel=1e-12)
+    # NIST SP 811 B.9: 1 lb*ft^2 = 4.214011E-02 kg*m^2; 1 in = 0.0254 m (exact)
+    assert p.machine["inertia"] == pytest.approx(7356.4 * 4.214011e-2, rel=1e-6)
+    assert p.flywheel["outer_diameter"] == pytest.approx(55 * 0.0254, rel=1e-12)
+    with pytest.raises(DataError) as err:
+        parse_profile({"flywheel": {"bore_m": "3 kg"}}, "p.toml")
+    assert str(err.value).startswith("p.toml: [flywheel] bore_m = '3 kg': give a number in m")

@@ -109,6 +109,21 @@ def _plain(key: str) -> str:
     return key
 
 
+def _with_unit(text: str, key: str, sec: str, source: str) -> float:
+    """A number written with its unit (``outer_diameter_m = "55 in"``) in the key's unit."""
+    from torqlog.units import KEY_UNITS, registry
+
+    suffix = next((s for s in sorted(KEY_UNITS, key=len, reverse=True)
+                   if key.endswith(s)), None)
+    unit = KEY_UNITS[suffix][1] if suffix else ""
+    try:
+        return float(registry().Quantity(text).to(unit).magnitude)
+    except Exception:  # noqa: BLE001 - pint raises several types for bad text
+        raise DataError(f"{source}: [{sec}] {key} = {text!r}: give a number in "
+                        f"{unit or 'no unit'}, or a number with a unit of that kind "
+                        f"(e.g. \"1.2 {unit}\")") from None
+
+
 def _check_table(items: list, allowed: set[str], where: str, path: str) -> None:
     for i, item in enumerate(items):
         if not isinstance(item, dict):
@@ -142,6 +157,8 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
                 raise DataError(f"{source}: unknown key {key!r} in [{sec}]; valid keys: "
                                 f"{', '.join(_SCHEMA[sec])}")
             typ, factor = _SCHEMA[sec][key]
+            if isinstance(value, str) and typ == (int, float) and factor is not None:
+                value = _with_unit(value, key, sec, source)
             if typ in ((int, float), int) and isinstance(value, bool):
                 raise DataError(f"{source}: [{sec}] {key} must be a number, not {value!r}")
             if not isinstance(value, typ):
