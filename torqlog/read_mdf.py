@@ -32,7 +32,12 @@ SUFFIXES = (".mf4", ".mdf", ".mf3")
 FRAGMENT_BYTES = 1 << 20
 
 
-def _open(p: Path) -> Any:
+def _open(p: Path) -> tuple[Any, Any]:
+    """The MDF object and the file handle it reads through (close both).
+
+    A file handle rather than a path: given a path, asammdf maps the whole file into
+    memory, and the resident size then grows with the file as it is read.
+    """
     try:
         from asammdf import MDF
     except ImportError:
@@ -40,12 +45,21 @@ def _open(p: Path) -> Any:
                          "with pip install 'torqlog[formats]'") from None
     if not p.is_file():
         raise DataError(f"{p}: file does not exist; check the path")
+    handle = open(p, "rb")  # noqa: SIM115 - closed by the caller, with the MDF
     try:
-        mdf = MDF(str(p))
+        mdf = MDF(handle)
     except Exception as exc:  # noqa: BLE001 - asammdf raises several types
+        handle.close()
         raise DataError(f"{p}: not a readable MDF file ({exc})") from None
     mdf.configure(read_fragment_size=FRAGMENT_BYTES)
-    return mdf
+    return mdf, handle
+
+
+def _close(mdf: Any, handle: Any) -> None:
+    try:
+        mdf.close()
+    finally:
+        handle.close()
 
 
 def _groups(mdf: Any) -> list[dict[str, Any]]:
@@ -115,7 +129,7 @@ def sniff_mdf(p: Path, roles: dict[str, str], units: dict[str, str], rate: float
     """
     from torqlog.sniff import _build_layout
 
-    mdf = _open(p)
+    mdf, handle = _open(p)
     try:
         groups = _groups(mdf)
         g = choose_group(groups, roles, p)
@@ -126,7 +140,7 @@ def sniff_mdf(p: Path, roles: dict[str, str], units: dict[str, str], rate: float
             except (AttributeError, ValueError):
                 st = None
     finally:
-        mdf.close()
+        _close(mdf, handle)
     master = g["master_name"] or "time"
     names = [master] + [n for n, _, _ in g["channels"]]
     unit_row = [g["master_unit"] or "s"] + [u for _, u, _ in g["channels"]]
@@ -160,7 +174,7 @@ def iter_mdf_batches(lay: Layout, names: list[str]) -> Iterator[pa.RecordBatch]:
     group = int(lay.preamble["mdf group"])
     time_col = lay.column("time")
     data_names = [n for n in names if time_col is None or n != time_col.name]
-    mdf = _open(p)
+    mdf, handle = _open(p)
     try:
         index = {c.name: i for i, c in enumerate(mdf.groups[group].channels)}
         iters = [mdf.iter_get(n, group=group, index=index[n]) for n in data_names]
@@ -176,4 +190,4 @@ def iter_mdf_batches(lay: Layout, names: list[str]) -> Iterator[pa.RecordBatch]:
                 cols[time_col.name] = np.asarray(sigs[0].timestamps, dtype=np.float64)
             yield pa.RecordBatch.from_pydict({k: cols[k] for k in names})
     finally:
-        mdf.close()
+        _close(mdf, handle)
