@@ -50,7 +50,8 @@ def _open(p: Path) -> tuple[Any, Any]:
         mdf = MDF(handle)
     except Exception as exc:  # noqa: BLE001 - asammdf raises several types
         handle.close()
-        raise DataError(f"{p}: not a readable MDF file ({exc})") from None
+        raise DataError(f"{p}: not a readable MDF file ({str(exc).split(': ', 1)[-1]})") \
+            from None
     mdf.configure(read_fragment_size=FRAGMENT_BYTES)
     return mdf, handle
 
