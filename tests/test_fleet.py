@@ -93,3 +93,16 @@ def test_fleet_table_html_and_anomaly_column():
     assert row["anomaly_rate"] == 0.25 and row["flagged_share"] == 0.25
     assert row["status"] == "within target"
     assert "<th>cs_p90_over_target</th>" in r._repr_html_()
+
+
+def test_fleet_page_is_sortable_and_cautions(tmp_path):
+    import pandas as pd
+
+    cycles = pd.DataFrame({"machine": ["M", "N"], "file": ["f", "g"],
+                           "start_time": pd.to_datetime(["2026-03-02", "2026-03-03"]),
+                           "cs": [0.1, 0.3], "flag": ["", ""]})
+    page = fleet_table(cycles, targets={"M": 0.2, "N": 0.2}).write_html(tmp_path / "f.html")
+    text = page.read_text(encoding="utf-8")
+    assert "<table id=fleet><tr><th>rank</th>" in text
+    assert "approved by a qualified, licensed engineer" in text
+    assert text.index("<td>N</td>") < text.index("<td>M</td>")  # N is further over target

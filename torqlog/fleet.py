@@ -15,6 +15,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -104,6 +105,47 @@ class FleetResult:
         from torqlog.notebook import frame_html
 
         return frame_html("Fleet", self.to_pandas(), self.options, self.notes)
+
+    def write_html(self, path: str | Path, title: str = "Fleet") -> Path:
+        """Write the fleet table as a self-contained HTML page (click a header to sort)."""
+        import html
+
+        from torqlog.notebook import frame_html
+
+        body = frame_html(title, self.to_pandas(), self.options, self.notes)
+        body = body.replace("<table><tr><th>", "<table id=fleet><tr><th>", 1)
+        page = (f"<!doctype html><html lang=en><head><meta charset=utf-8>"
+                f"<title>{html.escape(title)}</title></head><body>{body}"
+                f"<p><small>{html.escape(FLEET_CAUTION)}</small></p>"
+                f"<script>{_SORT_SCRIPT}</script></body></html>")
+        p = Path(path)
+        p.write_text(page, encoding="utf-8")
+        return p
+
+
+#: Shown under every fleet page: the added inertia is a sizing estimate, not a design.
+FLEET_CAUTION = ("Added inertia figures are preliminary engineering estimates; a flywheel "
+                 "retrofit, its guards and its shaft follow the applicable codes and "
+                 "standards and are approved by a qualified, licensed engineer.")
+
+# Click a column header to sort by it (again to reverse); empty cells go last.
+_SORT_SCRIPT = """
+document.querySelectorAll('#fleet tr:first-child th').forEach(function (th, i) {
+  th.style.cursor = 'pointer';
+  th.addEventListener('click', function () {
+    var t = document.getElementById('fleet'), rows = Array.from(t.rows).slice(1);
+    var down = th.dataset.down !== '1'; th.dataset.down = down ? '1' : '0';
+    rows.sort(function (a, b) {
+      var x = a.cells[i].textContent, y = b.cells[i].textContent;
+      if (x === '' || y === '') { return (x === '') - (y === ''); }
+      var nx = parseFloat(x), ny = parseFloat(y);
+      var c = (isNaN(nx) || isNaN(ny)) ? x.localeCompare(y) : nx - ny;
+      return down ? -c : c;
+    });
+    rows.forEach(function (r) { t.appendChild(r); });
+  });
+});
+"""
 
 
 #: Columns where a larger value is better, so ranking puts the smallest first.

@@ -17,7 +17,8 @@ if TYPE_CHECKING:
 
 #: Rows of a result's table shown in the notebook.
 HEAD_ROWS = 10
-_STYLE = ("<style>.torqlog td,.torqlog th{padding:2px 8px;text-align:left}"
+_STYLE = ("<style>.torqlog{font-family:sans-serif}.torqlog td,.torqlog th{padding:2px 8px;"
+          "text-align:left;white-space:nowrap}"
           ".torqlog td.n{text-align:right;font-variant-numeric:tabular-nums}</style>")
 
 

@@ -69,4 +69,5 @@ def write_demo_fleet(runs: list[Any], out_dir: str | Path) -> list[Path]:
                         fleet.options)]
     (out / "fleet.csv").write_text(to_csv_text(table, units_row=True), encoding="utf-8")
     (out / "fleet.json").write_text(to_json(fleet.to_dict()) + "\n", encoding="utf-8")
-    return [*paths, out / "fleet.csv", out / "fleet.json"]
+    page = fleet.write_html(out / "fleet.html", "Brindlemoor Works: fleet")
+    return [*paths, out / "fleet.csv", out / "fleet.json", page]

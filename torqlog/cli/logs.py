@@ -398,6 +398,9 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
         table = fleet.to_pandas()
         if out_dir:
             fleet.to_pandas().to_csv(Path(out_dir) / "fleet.csv", index=False)
+            fleet.write_html(Path(out_dir) / "fleet.html")
+            click.echo(f"wrote {Path(out_dir) / 'fleet.csv'}, {Path(out_dir) / 'fleet.html'}",
+                       err=True)
     emit(d, table, fmt, output, text=lambda dd: _trend_text(dd, n_all), sheets=sheets)
     if res.failed:
         click.echo(f"Error: {len(res.failed)} of {n_all} file(s) failed: "
