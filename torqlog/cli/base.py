@@ -117,6 +117,9 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
         data = convert_keys(data, system)
         table = convert_frame(table, system) if table is not None else None
         sheets = {k: convert_frame(v, system) for k, v in (sheets or {}).items()}
+    if isinstance(text, str) and system != "si":
+        text = (text.rstrip("\n")
+                + f"\n(the lines above in SI; the table in {system.upper()} units)\n")
     if callable(text):
         try:
             text = text(data)
