@@ -51,7 +51,7 @@ def cycle_table(energy_swing, speed_mean, speed_min=None, speed_max=None, flags=
         "work_J": np.full(n, 6283.0) if torque else nan,
         "energy_swing_J": np.asarray(energy_swing, dtype=float) if torque else nan,
         "cs": nan,
-        "cs_predicted": nan,
+        "cs_constant_drive": nan,
         "flag": [""] * n if flags is None else flags,
     })
 

@@ -103,7 +103,7 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         table = res.table
     elif fmt == "table":
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
-                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
+                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_constant_drive",
                            "flag"]]
     emit(res.to_dict(), table, fmt, output, text=text)
 
