@@ -43,6 +43,9 @@ from torqlog.errors import DataError, UsageError
 from torqlog.identify import IdentifyResult
 
 _RPM = 60.0 / (2.0 * math.pi)  # rad/s -> rpm
+#: Integration tolerance inside root finding (Cs to ~6 digits; the reported states use the
+#: default 1e-9).
+_SIZING_RTOL = 1e-7
 
 #: Relative difference between the model's Cs at the existing inertia and the measured
 #: median Cs within which a model is taken to explain the log (common practice, stated).
@@ -290,7 +293,7 @@ def simulate_after(model: DriveModel, added_inertia: float, angle: np.ndarray,
 
 def _cs(model: DriveModel, total: float, angle: np.ndarray, load: np.ndarray,
         revs: int, drive: LinearDrive) -> float:
-    return simulate_drive(angle, load, total, drive, revs).cs
+    return simulate_drive(angle, load, total, drive, revs, rtol=_SIZING_RTOL).cs
 
 
 def inertia_for_cs(model: DriveModel, angle: np.ndarray, torque: np.ndarray,

@@ -397,6 +397,8 @@ def _finite(col: pd.Series) -> np.ndarray:
 
 #: Given and identified inertia further apart than this are reported as a conflict.
 INERTIA_CONFLICT_REL = 0.20
+#: Nameplate slope within this of the log's is said to agree (common practice, stated).
+NAMEPLATE_AGREES_REL = 0.05
 
 
 def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = None, *,
@@ -648,9 +650,10 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     if (nameplate_slope is not None and mp.get("name") == "calibrated drive"
             and torque_role == "load"):
         gap = nameplate_slope / mp["slope_Nms_per_rad"] - 1.0
+        verb = "disagrees with" if abs(gap) > NAMEPLATE_AGREES_REL else "agrees with"
         messages.append(f"the nameplate motor's slope {nameplate_slope:.4g} N m s/rad "
-                        f"disagrees with the log's {mp['slope_Nms_per_rad']:.4g} ± "
-                        f"{mp['slope_se_Nms_per_rad']:.2g} N m s/rad by {gap:+.0%}"
+                        f"{verb} the log's {mp['slope_Nms_per_rad']:.4g} ± "
+                        f"{mp['slope_se_Nms_per_rad']:.2g} N m s/rad ({gap:+.0%})"
                         + ("; the log's slope is used" if rec["model"] == "calibrated drive"
                            else ""))
     options["flywheel_speed_ratio"] = ratio
@@ -675,7 +678,9 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
 def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None,
              machine_class: str | None = None, quantile: float | str = 0.95,
              motor: Mapping[str, float] | None = None,
-             flywheel_speed_ratio: float | None = None, seed: int = 0) -> SizeResult:
+             flywheel_speed_ratio: float | None = None, seed: int = 0,
+             tolerance: float = TOLERANCE_REL,
+             hours_per_year: float = HOURS_PER_YEAR) -> SizeResult:
     """Size a flywheel from the cycles of one log and a machine profile.
 
     The values given here win over the profile's; this is what ``torqlog size`` and the
@@ -702,6 +707,10 @@ def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None
         Flywheel shaft speed / logged shaft speed (default: profile, else 1).
     seed : int
         Bootstrap seed.
+    tolerance : float
+        Relative Cs error within which a drive model explains the log.
+    hours_per_year : float [h]
+        Running hours per year for the copper-loss change.
 
     Returns
     -------
@@ -733,7 +742,8 @@ def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None
                             quantile=quantile, existing_inertia=o["inertia"],
                             flywheel_speed_ratio=ratio, motor=model,
                             revs_per_cycle=o["revs_per_cycle"], seed=seed,
-                            torque_role=o["torque_role"], speed=o.get("nominal_speed"))
+                            torque_role=o["torque_role"], speed=o.get("nominal_speed"),
+                            tolerance=tolerance, hours_per_year=hours_per_year)
 
 
 def size_log_dict(result: SizeResult, cycles: Any) -> dict[str, Any]:
