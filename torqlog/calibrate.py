@@ -64,7 +64,7 @@ LIKELY_REASONS: tuple[str, ...] = (
     "a controlled drive (inverter or servo speed control) that does not follow a fixed "
     "torque–speed line",
 )
-BOUND_NOTE = ("constant-drive bound: I = ΔE/(Cs·ω̄²) assumes the drive torque stays "
+BOUND_NOTE = ("I = ΔE/(Cs·ω̄²) assumes the drive torque stays "
               "constant through the cycle, so the flywheel alone carries the swing; a "
               "slipping motor carries part of it, so this is an upper bound")
 

@@ -525,7 +525,8 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     rotor = motor.referred_inertia if motor is not None else 0.0
     identified: IdentifyResult | None = None
     mc_ok = (mean_cycle is not None and {"angle", "torque_mean", "speed_mean"} <=
-             set(mean_cycle.columns))
+             set(mean_cycle.columns)
+             and bool(np.all(np.isfinite(mean_cycle["speed_mean"].to_numpy(float)))))
     if mc_ok and chosen == "torque":
         try:
             identified = identify_inertia_cycle(
@@ -622,6 +623,11 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     model_inertia = (rec.get("model_params") or {}).get("inertia_kgm2")
     if rec["model"] != "constant drive" and model_inertia is not None:
         total_existing = float(model_inertia)
+    elif identified is not None and given is not None:
+        total_existing = given
+        options["existing_inertia_source"] = "given"
+        messages.append(f"no model explains the log, so its identified inertia is not "
+                        f"trusted either: the given {given:.4g} kg m^2 is used")
     added: float | None = None
     added_ci: tuple[float, float] | None = None
     if total_existing is not None:

@@ -30,6 +30,7 @@ import pandas as pd
 
 from torqlog.calibrate import (
     BOUND_NOTE,
+    LIKELY_REASONS,
     DriveModel,
     Validation,
     copper_loss_change,
@@ -222,8 +223,18 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
         out["model_reason"] = ("the log has no speed channel, so no model can be checked "
                                "against a measured Cs; the nameplate motor leads, unchecked")
     else:
-        why = (reasons_text(failed[0][1].error_rel) if failed else
-               "no drive model could be built from the log or a nameplate")
+        refused = [m for m in messages if m.startswith(("no calibrated drive model",
+                                                         "the log cannot separate"))]
+        if failed:
+            why = reasons_text(failed[0][1].error_rel)
+        elif refused:
+            why = ("no drive model explains the log (" + refused[-1] + "); likely reasons: "
+                   + "; ".join(LIKELY_REASONS))
+        elif cs_measured is None:
+            why = ("the log has no speed channel, so no drive model can be calibrated on it "
+                   "or checked against a measured Cs, and no nameplate motor was given")
+        else:
+            why = "no drive model could be built from the log or a nameplate"
         out["model_reason"] = f"{why}; the constant-drive bound leads: {BOUND_NOTE}"
         messages.append(why)
     out["validation"] = (lead_val or (failed[0][1] if failed else None))
