@@ -597,12 +597,9 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     cs_all = _finite(clean["cs"]) if "cs" in clean else np.array([])
     cs_all = cs_all[np.isfinite(cs_all)]
     cs_measured = float(np.median(cs_all)) if has_speed and cs_all.size else None
-    measured = {
-        "speed_min_rpm_measured": (float(np.median(w_min[np.isfinite(w_min)])) * _RPM
-                                   if has_speed else None),
-        "speed_max_rpm_measured": (float(np.median(w_max[np.isfinite(w_max)])) * _RPM
-                                   if has_speed else None),
-    }
+    measured = {f"speed_{name}_rpm_measured": (float(np.median(x[np.isfinite(x)])) * _RPM
+                                                if np.any(np.isfinite(x)) else None)
+                for name, x in (("min", w_min), ("max", w_max))}
 
     rec = recommend(
         mean_cycle if mc_ok or (mean_cycle is not None and "torque_mean" in mean_cycle)
