@@ -266,6 +266,8 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
         messages.append(f"no drive simulation of the machine now and after: {exc}")
         return out
     state_now = machine_state(now, sim, target_cs=target_cs)
+    state_now["messages"] = [m.replace("would run hot", "runs hot")
+                             for m in state_now["messages"]]
     state_now.update({"cs_measured": cs_measured, **measured, "model": sim.name})
     state_after = machine_state(after, sim, target_cs=target_cs)
     state_after["model"] = sim.name
@@ -273,7 +275,7 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
         state_after.update(copper_loss_change(state_now["drive_torque_rms_Nm"],
                                               state_after["drive_torque_rms_Nm"], motor,
                                               hours_per_year=hours_per_year))
-    messages.extend(f"now: {m}" for m in now.messages)
+    messages.extend(f"now: {m.replace('would run hot', 'runs hot')}" for m in now.messages)
     messages.extend(f"after: {m}" for m in after.messages)
     out["now"], out["after"] = state_now, state_after
     out["curve"] = curve_frame(sims)
