@@ -196,3 +196,45 @@ def test_cli_torque_only_without_speed_or_inertia(comp_log, tmp_path):
         "leads")
     assert ("no existing inertia given or identified: the required inertia is the total at "
             "the logged shaft, existing parts included") in d["messages"]
+
+
+# ------------------------------------------------------------------ several logs, retrofit
+def test_cli_size_on_worst_and_first(comp_log, tmp_path):
+    import dataclasses
+
+    heavy = dataclasses.replace(COMPRESSOR, harmonics=((1, 221.0, 0.0), (2, 91.0, 0.7)))
+    path = tmp_path / "k7_heavy.csv"
+    simulate_log(heavy, path, seed=4)
+    res = run("size", comp_log, path, "--target-cs", "0.01", "--format", "json")
+    assert res.exit_code == 0, res.output
+    d = json.loads(res.stdout)
+    # the fluctuation is 1.3 × larger, so its swing and its need are 1.3 × larger
+    assert d["size_on"]["sized_on"] == "k7_heavy.csv"
+    assert d["size_on"]["why"].startswith("the log that needs the most inertia (design swing "
+                                          "/ mean speed², 1.3")
+    assert d["source"].endswith("k7_heavy.csv")
+    assert [r["log"] for r in d["size_on"]["logs"]] == ["k7.csv", "k7_heavy.csv"]
+    from torqlog.errors import UsageError
+    from torqlog.logchoice import choose_log
+    with pytest.raises(UsageError) as exc:
+        choose_log([], "biggest")
+    assert str(exc.value) == "unknown --size-on 'biggest'; valid choices: worst, latest, first"
+
+
+def test_cli_after_log_checks_the_prediction(comp_log, tmp_path):
+    import dataclasses
+
+    # the retrofit added 4.5 kg m² on the true machine; the before-model predicts its Cs
+    after = tmp_path / "k7_after.csv"
+    simulate_log(dataclasses.replace(COMPRESSOR, inertia=8.5), after, seed=3)
+    res = run("size", comp_log, "--target-cs", "0.01", "--after", after, "--format", "json")
+    assert res.exit_code == 0, res.output
+    rf = json.loads(res.stdout)["retrofit"]
+    assert rf["added_identified_kgm2"] == pytest.approx(4.5, rel=0.03)
+    assert abs(rf["cs_after_error_rel"]) < 0.03
+    # truth: the true machine at 8.5 kg m² (bisection helper's steady-state solver)
+    from calibsim import steady_cs
+    assert rf["cs_after_measured"] == pytest.approx(
+        steady_cs(COMPRESSOR, 8.5), rel=0.03)
+    assert rf["prediction_within_tolerance"] is True
+    assert any(m.endswith("the prediction held") for m in rf["messages"])

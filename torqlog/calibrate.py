@@ -135,7 +135,23 @@ class DriveModel:
             "speed_ratio": self.speed_ratio,
             "rated_torque_motor_Nm": self.rated_torque,
             "source": self.source,
+            "speed_mean_rpm": None if self.speed_mean is None else self.speed_mean * _RPM,
         }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> DriveModel:
+        """Rebuild a model from :meth:`to_dict` (e.g. the ``drive_model`` of size JSON)."""
+        rpm = 1.0 / _RPM
+        wbar = data.get("speed_mean_rpm")
+        return cls(name=data["name"], inertia=float(data["inertia_kgm2"]),
+                   slope=float(data["slope_Nms_per_rad"]),
+                   no_load_speed=float(data["no_load_speed_rpm"]) * rpm,
+                   torque_role=data.get("torque_role", "load"),
+                   speed_ratio=float(data.get("speed_ratio", 1.0)),
+                   rated_torque=data.get("rated_torque_motor_Nm"),
+                   inertia_se=data.get("inertia_se_kgm2"),
+                   slope_se=data.get("slope_se_Nms_per_rad"), source=data.get("source", ""),
+                   speed_mean=None if wbar is None else float(wbar) * rpm)
 
 
 def model_from_fit(fit: IdentifyResult, speed_mean: float, *,
