@@ -221,7 +221,9 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
     elif cs_measured is None and models and models[-1].name == "nameplate drive":
         lead = models[-1]
         out["model_reason"] = ("the log has no speed channel, so no model can be checked "
-                               "against a measured Cs; the nameplate motor leads, unchecked")
+                               "against a measured Cs; the nameplate motor leads, unchecked, "
+                               "and its interval holds no model error because none can be "
+                               "measured")
     else:
         refused = [m for m in messages if m.startswith(("no calibrated drive model",
                                                          "the log cannot separate"))]
