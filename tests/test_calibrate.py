@@ -191,9 +191,9 @@ def test_cli_torque_only_without_speed_or_inertia(comp_log, tmp_path):
     d = json.loads(res.stdout)
     assert d["model"] == "constant drive" and d["added_inertia_kgm2"] is None
     assert d["model_reason"].startswith(
-        "the log has no speed channel, so no drive model can be calibrated on it or checked "
-        "against a measured Cs, and no nameplate motor was given; the constant-drive bound "
-        "leads")
+        "the log shows no speed within the cycle (no speed or angle channel), so no drive "
+        "model can be calibrated on it or checked against a measured Cs, and no nameplate "
+        "motor was given; the constant-drive bound leads")
     assert ("no existing inertia given or identified: the required inertia is the total at "
             "the logged shaft, existing parts included") in d["messages"]
 

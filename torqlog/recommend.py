@@ -220,10 +220,10 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
             f"{abs(lead_val.error_rel):.1%} (tolerance {tolerance:.0%})")
     elif cs_measured is None and models and models[-1].name == "nameplate drive":
         lead = models[-1]
-        out["model_reason"] = ("the log has no speed channel, so no model can be checked "
-                               "against a measured Cs; the nameplate motor leads, unchecked, "
-                               "and its interval holds no model error because none can be "
-                               "measured")
+        out["model_reason"] = ("the log shows no speed within the cycle (no speed or angle "
+                               "channel), so no model can be checked against a measured Cs; "
+                               "the nameplate motor leads, unchecked, and its interval holds "
+                               "no model error because none can be measured")
     else:
         refused = [m for m in messages if m.startswith(("no calibrated drive model",
                                                          "the log cannot separate"))]
@@ -233,8 +233,9 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
             why = ("no drive model explains the log (" + refused[-1] + "); likely reasons: "
                    + "; ".join(LIKELY_REASONS))
         elif cs_measured is None:
-            why = ("the log has no speed channel, so no drive model can be calibrated on it "
-                   "or checked against a measured Cs, and no nameplate motor was given")
+            why = ("the log shows no speed within the cycle (no speed or angle channel), "
+                   "so no drive model can be calibrated on it or checked against a measured "
+                   "Cs, and no nameplate motor was given")
         else:
             why = "no drive model could be built from the log or a nameplate"
         out["model_reason"] = f"{why}; the constant-drive bound leads: {BOUND_NOTE}"
