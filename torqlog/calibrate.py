@@ -43,8 +43,7 @@ from torqlog.errors import DataError, UsageError
 from torqlog.identify import IdentifyResult
 
 _RPM = 60.0 / (2.0 * math.pi)  # rad/s -> rpm
-#: Integration tolerance inside root finding (Cs to ~6 digits; the reported states use the
-#: default 1e-9).
+#: Integration tolerance of the sizing simulations (Cs to about six digits).
 _SIZING_RTOL = 1e-7
 
 #: Relative difference between the model's Cs at the existing inertia and the measured
@@ -280,7 +279,7 @@ def cycle_energy_swing(angle: np.ndarray, torque: np.ndarray) -> float:
 
 def simulate_after(model: DriveModel, added_inertia: float, angle: np.ndarray,
                    torque: np.ndarray, revs_per_cycle: int = 1, *,
-                   swing_scale: float = 1.0) -> DriveCycle:
+                   swing_scale: float = 1.0, rtol: float = 1e-7) -> DriveCycle:
     """The machine of ``model`` with ``added_inertia`` more, over the logged mean cycle.
 
     Parameters
@@ -297,6 +296,8 @@ def simulate_after(model: DriveModel, added_inertia: float, angle: np.ndarray,
         Shaft revolutions per cycle.
     swing_scale : float
         Factor on the load fluctuation (see :func:`load_torque`).
+    rtol : float
+        Integration tolerance (1e-7 keeps Cs and torques to about six digits).
 
     Returns
     -------
@@ -313,7 +314,7 @@ def simulate_after(model: DriveModel, added_inertia: float, angle: np.ndarray,
     load = load_torque(torque, model.torque_role, swing_scale)
     return simulate_drive(np.asarray(angle, dtype=float), load,
                           model.inertia + float(added_inertia), model.characteristic(),
-                          revs_per_cycle, added_inertia=float(added_inertia))
+                          revs_per_cycle, added_inertia=float(added_inertia), rtol=rtol)
 
 
 def _cs(model: DriveModel, total: float, angle: np.ndarray, load: np.ndarray,
