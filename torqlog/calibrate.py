@@ -351,7 +351,8 @@ def inertia_for_cs(model: DriveModel, angle: np.ndarray, torque: np.ndarray,
     Returns
     -------
     float [kg*m^2]
-        Total inertia; the model's own inertia when it already meets the target.
+        Total inertia; below the model's own when it already meets the target (the
+        model's own if the drive could not carry the load at a lighter inertia).
 
     References
     ----------
@@ -368,8 +369,18 @@ def inertia_for_cs(model: DriveModel, angle: np.ndarray, torque: np.ndarray,
 
     x0 = math.log(model.inertia)
     f0 = f(x0)
-    if f0 <= 0:
+    if f0 == 0:
         return model.inertia
+    if f0 < 0:  # already meets the target: the inertia it needs lies below its own
+        hi, x1 = x0, x0 + min(1.2 * f0, -0.05)
+        try:
+            f1 = f(x1)
+            while f1 < 0:
+                hi, x1 = x1, x1 + min(1.2 * f1, -0.05)
+                f1 = f(x1)
+        except DataError:  # the drive cannot carry the load that light: say "no less"
+            return model.inertia
+        return float(math.exp(brentq(f, x1, hi, xtol=rtol, rtol=rtol)))
     x1 = max(math.log(guess) if guess else x0 + f0, x0 + 1e-6)
     f1 = f(x1)
     lo = x0
