@@ -180,6 +180,11 @@ def test_cli_target_above_measured_cs_nothing_to_add(comp_log):
     assert "added inertia         0 kg·m²" in res.stdout
     assert "note: nothing to add: the machine already meets Cs ≤ 0.05 with its existing " \
            "inertia" in res.stdout
+    # the required inertia is what the machine needs, below what it has
+    import re
+    req, have = map(float, re.search(r"\(required ([\d.]+) kg m\^2, existing ([\d.]+) kg m\^2",
+                                     res.stdout).groups())
+    assert req < 0.9 * have
 
 
 def test_cli_torque_only_without_speed_or_inertia(comp_log, tmp_path):
