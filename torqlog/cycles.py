@@ -51,7 +51,7 @@ _WARM_BLOCK_BYTES = 8 << 20
 COLUMNS = ("cycle", "t_start_s", "start_time", "duration_s", "speed_mean_rpm",
            "speed_min_rpm", "speed_max_rpm", "torque_mean_Nm", "torque_peak_Nm",
            "torque_min_Nm", "work_J", "energy_swing_J", "angle_speed_min_deg",
-           "angle_speed_max_deg", "cs", "cs_predicted", "flag")
+           "angle_speed_max_deg", "cs", "cs_constant_drive", "flag")
 
 
 @dataclass(frozen=True)
@@ -69,7 +69,7 @@ class CycleOptions:
     pulses_per_rev : float
         Encoder counts per revolution.
     inertia : float or None [kg*m^2]
-        Rotating inertia referred to the logged shaft (for ``cs_predicted`` and the
+        Rotating inertia referred to the logged shaft (for ``cs_constant_drive`` and the
         speed-only energy swing).
     speed_cutoff_orders : float
         Zero-phase low-pass of speed before max − min, in cycle orders (0 = off).
@@ -627,7 +627,7 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
         "angle_speed_min_deg": cols.get("angle_speed_min", nan) * deg,
         "angle_speed_max_deg": cols.get("angle_speed_max", nan) * deg,
         "cs": cs,
-        "cs_predicted": cs_pred,
+        "cs_constant_drive": cs_pred,
         "flag": cols["flag"].astype(str),
     }
 

@@ -104,7 +104,7 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         table = res.table
     elif fmt == "table":
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
-                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
+                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_constant_drive",
                            "flag"]]
     emit(res.to_dict(), table, fmt, output, text=text)
 
@@ -113,41 +113,108 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
 
 # --- size
 def _size_text(d: dict[str, Any], source: str) -> str:
-    """Readable summary of a sizing result."""
+    """Readable summary of a sizing result: the leading answer first, then why."""
     def kg(x: float | None) -> str:
         return "-" if x is None else f"{x:,.4g} kg·m²"
 
+    def pct(x: float | None) -> str:
+        return "-" if x is None else f"{100 * x:.0f} %"
+
     lo, hi = d["ci95_kgm2"]
     q = d["quantile"]
+    bound = d["model"] == "constant drive"
     lines = [
-        f"{source}: flywheel sizing by {d['method']} ({d['cycles_used']} clean cycles, "
-        f"mean speed {d['speed_mean_rpm']:.4g} rpm)",
-        f"design energy swing   {d['design_energy_swing_J'] / 1e3:.4g} kJ "
-        f"({'max' if q == 'max' else f'p{100 * float(q):g}'} of the cycles)",
-        f"target Cs             {d['target_cs']:.4g}",
+        f"{source}: {d['cycles_used']} clean cycles, mean speed {d['speed_mean_rpm']:.4g} rpm, "
+        f"target Cs {d['target_cs']:.4g}",
+        f"answer from           {d['model']}" + ("  (upper bound)" if bound else ""),
+        f"added inertia         {kg(d['added_inertia_kgm2'])}"
+        + (f"  (95 % interval {kg(d['added_ci95_kgm2'][0])} to "
+           f"{kg(d['added_ci95_kgm2'][1])})" if d.get("added_ci95_kgm2") else ""),
         f"required inertia      {kg(d['required_inertia_kgm2'])}  "
         f"(95 % interval {kg(lo)} to {kg(hi)})",
         f"existing inertia      {kg(d['existing_inertia_kgm2'])}",
-        f"added inertia         {kg(d['added_inertia_kgm2'])}",
     ]
     if d["flywheel_speed_ratio"] != 1.0:
         lines.append(f"  at the flywheel shaft (×{d['flywheel_speed_ratio']:g} speed): "
                      f"{kg(d['added_inertia_at_flywheel_kgm2'])}")
-    if d["identified"]:
-        idf = d["identified"]
-        lines.append(f"identified from log   {kg(idf.get('inertia_kgm2'))} (R² "
-                     f"{idf.get('r2', float('nan')):.3f})")
-    drive = d.get("drive") or {}
-    if drive.get("added_inertia_for_target_cs_kgm2") is not None:
-        lines.append(f"with motor slip       {kg(drive['added_inertia_for_target_cs_kgm2'])} "
-                     "added meets the target")
-    lines += [f"note: {m}" for m in d["messages"]]
+    lines.append(f"why                   {d['model_reason']}")
+    if d.get("cs_model_existing") is not None:
+        lines.append(f"check at existing     measured Cs {d['cs_measured']:.4g}, "
+                     f"{d['cs_model_of']} model {d['cs_model_existing']:.4g} "
+                     f"({d['cs_model_error_rel']:+.1%}, tolerance "
+                     f"±{d['cs_model_tolerance_rel']:.0%})")
+    if d.get("drive_slope_Nms_per_rad") is not None:
+        se = d.get("drive_slope_se_Nms_per_rad")
+        lines.append(f"drive slope           {d['drive_slope_Nms_per_rad']:.4g}"
+                     + (f" ± {se:.2g}" if se else "") + " N·m·s/rad at the logged shaft"
+                     + (f" (nameplate {d['drive_slope_nameplate_Nms_per_rad']:.4g})"
+                        if d.get("drive_slope_nameplate_Nms_per_rad") else ""))
+    parts = d.get("ci95_parts_kgm2") or {}
+    if parts:
+        lines.append("interval parts        " + ", ".join(
+            f"{k.removesuffix('_kgm2').replace('_', ' ')} {v[0]:+.3g}/{v[1]:+.3g}"
+            for k, v in parts.items()) + " kg·m²")
+    lines.append(f"constant-drive bound  {kg(d['bound_constant_drive_required_inertia_kgm2'])} "
+                 f"required, {kg(d['bound_constant_drive_added_inertia_kgm2'])} added "
+                 f"(design swing {d['design_energy_swing_J'] / 1e3:.4g} kJ, "
+                 f"{'max' if q == 'max' else f'p{100 * float(q):g}'} of the cycles; "
+                 f"assumes a constant drive torque: an upper bound)")
+    now, after = d.get("machine_now"), d.get("machine_after")
+    if now and after:
+        lines += ["", f"{'':22}{'now':>12}{'after':>12}   ({now['model']} model, median cycle)",
+                  f"{'Cs':22}{now['cs']:>12.4g}{after['cs']:>12.4g}"
+                  + (f"   measured now {now['cs_measured']:.4g}"
+                     if now.get("cs_measured") is not None else ""),
+                  f"{'speed min rpm':22}{now['speed_min_rpm']:>12.5g}"
+                  f"{after['speed_min_rpm']:>12.5g}",
+                  f"{'speed max rpm':22}{now['speed_max_rpm']:>12.5g}"
+                  f"{after['speed_max_rpm']:>12.5g}"]
+        for key, label in (("peak", "drive torque peak"), ("mean", "drive torque mean"),
+                           ("rms", "drive torque RMS")):
+            k = f"drive_torque_{key}_Nm"
+            if k in now:
+                share = f"drive_torque_{key}_share_of_rated"
+                extra = (f"   {pct(now[share])} → {pct(after[share])} of rated"
+                         if share in now else "")
+                lines.append(f"{label + ' N·m':22}{now[k]:>12.4g}{after[k]:>12.4g}{extra}")
+        if "copper_loss_change_kWh_per_year" in after:
+            lines.append(f"copper loss change    {after['copper_loss_change_rel']:+.0%}, "
+                         f"{after['copper_loss_change_kWh_per_year']:+,.0f} kWh/year at "
+                         f"{after['hours_per_year']:g} h/year (loss ∝ torque², see JSON)")
+    choice = d.get("size_on")
+    if choice:
+        lines += ["", f"sized on {choice['sized_on']}: {choice['why']} "
+                      f"(--size-on {choice['size_on']})"]
+        lines += [f"  {r['log']}: design swing {r['design_energy_swing_J'] / 1e3:.4g} kJ at "
+                  f"{r['speed_mean_rpm']:.4g} rpm" for r in choice["logs"]]
+    rf = d.get("retrofit")
+    if rf:
+        lines += ["", f"retrofit check against {rf['after_log']}",
+                  f"  inertia added         {kg(rf['added_identified_kgm2'])} identified "
+                  f"(planned {kg(rf['added_planned_kgm2'])})",
+                  f"  Cs after              measured {rf['cs_after_measured']:.4g}, predicted "
+                  f"{rf['cs_after_predicted']:.4g} ({rf['cs_after_error_rel']:+.1%}); target "
+                  f"{rf['target_cs']:g}: {'met' if rf['meets_target'] else 'NOT met'}"]
+        if rf.get("drive_torque_rms_predicted_Nm") is not None and \
+                rf.get("drive_torque_rms_after_log_Nm") is not None:
+            lines.append(f"  drive torque RMS      predicted "
+                         f"{rf['drive_torque_rms_predicted_Nm']:.4g} N·m, after-log "
+                         f"{rf['drive_torque_rms_after_log_Nm']:.4g} N·m")
+        lines += [f"  {m}" for m in rf["messages"]]
+    lines += [""] + [f"note: {m}" for m in d["messages"]]
     lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
     return "\n".join(lines)
 
 
 @cli.command("size")
-@click.argument("log", type=click.Path(dir_okay=True))
+@click.argument("logs", nargs=-1, required=True, type=click.Path(dir_okay=True))
+@click.option("--size-on", type=click.Choice(["worst", "latest", "first"]), default="worst",
+              show_default=True,
+              help="With several logs of one machine: size on the log that needs the most "
+                   "inertia, the one that starts last, or the first given.")
+@click.option("--after", "after_log", type=click.Path(dir_okay=True), default=None,
+              help="A log taken after adding inertia: set the model's prediction beside what "
+                   "it measures.")
 @click.option("--target-cs", type=float, default=None,
               help="Target coefficient of speed fluctuation (0 < Cs < 1).")
 @click.option("--machine-class", default=None, metavar="NAME",
@@ -167,33 +234,59 @@ def _size_text(d: dict[str, Any], source: str) -> str:
 @click.option("--flywheel-speed-ratio", type=float, default=None,
               help="Flywheel shaft speed / logged shaft speed.  [default: 1, or profile]")
 @click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
+@click.option("--tolerance", type=click.FloatRange(0, 1, min_open=True), default=0.10,
+              show_default=True,
+              help="Relative Cs error within which a drive model explains the log.")
+@click.option("--hours-per-year", type=click.FloatRange(min=0), default=4000.0,
+              show_default=True, help="Running hours per year, for the copper-loss change.")
 @cycle_options
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
               help="Write a PNG: Cs and motor peak torque against added inertia.")
 @output_options
-def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quantile: str,
+def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
+             target_cs: float | None, machine_class: str | None, quantile: str,
              motor_power: float | None, sync_rpm: float | None, rated_rpm: float | None,
              motor_ratio: float | None, flywheel_speed_ratio: float | None, seed: int,
+             tolerance: float, hours_per_year: float,
              plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
-    """Flywheel inertia to reach a target Cs, with its interval and the motor's view."""
+    """Flywheel inertia to reach a target Cs, from a drive model checked against the log.
+
+    With several LOGS of one machine, --size-on picks the one to size on; --after checks
+    the model's prediction against a log taken after the retrofit.
+    """
     from torqlog.errors import UsageError
     from torqlog.inertia import size_log, size_log_dict
+    from torqlog.logchoice import choose_log
 
-    res, profile = run_cycles(log, kw)
+    fresh = dict(kw)
+    results = []
+    for path in logs:
+        res, profile = run_cycles(path, kw if not results else dict(fresh))
+        results.append(res)
     q = parse_quantile(quantile)
+    idx, choice = choose_log(results, size_on, quantile=q)
+    res = results[idx]
     motor = {"power": motor_power, "sync": sync_rpm, "rated": rated_rpm,
              "speed_ratio": motor_ratio}
     result = size_log(res, profile, target_cs=target_cs, machine_class=machine_class,
                       quantile=q, motor=motor, flywheel_speed_ratio=flywheel_speed_ratio,
-                      seed=seed)
+                      seed=seed, tolerance=tolerance, hours_per_year=hours_per_year)
     data = size_log_dict(result, res)
+    data["size_on"] = choice if len(results) > 1 else None
+    data["retrofit"] = None
+    if after_log:
+        from torqlog.retrofit import retrofit_from_size
+
+        after, _ = run_cycles(after_log, dict(fresh))
+        data["retrofit"] = retrofit_from_size(result, after, tolerance=tolerance).to_dict()
     target_cs = result.target_cs
     if plot_path:
         from torqlog.plots import plot_drive_curve
 
         if result.curve is None:
-            raise UsageError("--plot needs a motor (--motor-power, --sync-rpm, --rated-rpm, "
-                             "--motor-ratio, or [motor] in the profile) to simulate the drive")
+            raise UsageError("--plot needs a drive model: a log with torque and speed, or a "
+                             "motor (--motor-power, --sync-rpm, --rated-rpm, --motor-ratio, "
+                             "or [motor] in the profile)")
         plot_drive_curve(result.to_pandas(), plot_path, target_cs=target_cs,
                          recommended=data["added_inertia_kgm2"])
         click.echo(f"wrote {plot_path}", err=True)
