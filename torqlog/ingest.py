@@ -307,9 +307,14 @@ class LogReader:
         if lay.kind == "parquet":
             import pyarrow.parquet as pq
 
-            pf = pq.ParquetFile(lay.path)
-            yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
-                                       columns=[c.name for c in wanted])
+            try:
+                pf = pq.ParquetFile(lay.path)
+                yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
+                                           columns=[c.name for c in wanted])
+            except (OSError, pa.ArrowException) as exc:
+                raise DataError(f"{lay.path}: not a readable Parquet file ("
+                                f"{_first_line(exc)}); check that the file is complete") \
+                    from None
             return
         names = [c.name for c in lay.columns]
         types: dict[str, pa.DataType] = {}
@@ -337,6 +342,17 @@ class LogReader:
             yield from reader
         except pa.ArrowInvalid as exc:
             raise _explain_arrow_error(lay, wanted, exc) from None
+        except (OSError, EOFError, pa.ArrowException) as exc:
+            gz = lay.path.lower().endswith(".gz")
+            raise DataError(f"{lay.path}: cannot be read {'as gzip ' if gz else ''}to the end "
+                            f"({_first_line(exc)}); the file is damaged or was cut short: "
+                            "export or copy it again") from None
+
+
+def _first_line(exc: BaseException) -> str:
+    """First line of an exception's message, at most 120 characters."""
+    text = (str(exc).strip().splitlines() or [type(exc).__name__])[0]
+    return text if len(text) <= 120 else text[:117] + "..."
 
 
 def _numbers(arr: pa.Array | pa.ChunkedArray, dtype: type = np.float64) -> np.ndarray:
@@ -404,13 +420,16 @@ def _find_line(lay: Layout, col: Column, bad: str) -> int | None:
     idx = [c.name for c in lay.columns].index(col.name)
     opener = gzip.open if lay.path.lower().endswith(".gz") else open
     enc = "utf-8" if lay.encoding == "utf8" else "latin-1"
-    with opener(lay.path, "rt", encoding=enc, errors="replace") as fh:
-        for n, line in enumerate(fh, start=1):
-            if n <= lay.skip_rows:
-                continue
-            f = split_fields(line.rstrip("\r\n"), lay.delimiter)
-            if idx < len(f) and f[idx] == bad:
-                return n
+    try:
+        with opener(lay.path, "rt", encoding=enc, errors="replace") as fh:
+            for n, line in enumerate(fh, start=1):
+                if n <= lay.skip_rows:
+                    continue
+                f = split_fields(line.rstrip("\r\n"), lay.delimiter)
+                if idx < len(f) and f[idx] == bad:
+                    return n
+    except (OSError, EOFError):  # a damaged file: the caller still names the value
+        return None
     return None
 
 

@@ -665,8 +665,10 @@ def write_pdf(data: ReportData, path: str | Path) -> Path:
     for line in report_text(data):
         wrapped += textwrap.wrap(line, 100, subsequent_indent="    ") or [""]
     per_page = 62
+    from torqlog.outputs import atomic_path
+
     p = Path(path)
-    with plt.rc_context(style()), PdfPages(p) as pdf:
+    with plt.rc_context(style()), atomic_path(p) as tmp, PdfPages(tmp) as pdf:
         info = pdf.infodict()
         info["Title"] = f"torqlog report: {data.machine}"
         info["Creator"] = f"torqlog {data.version}"
@@ -695,8 +697,9 @@ def write_pdf(data: ReportData, path: str | Path) -> Path:
 def write_report(data: ReportData, html: str | Path, pdf: str | Path | None = None
                  ) -> list[Path]:
     """Write the HTML report (and the PDF); returns the files written."""
-    out = Path(html)
-    out.write_text(render_html(data), encoding="utf-8")
+    from torqlog.outputs import write_text
+
+    out = write_text(html, render_html(data))
     written = [out]
     if pdf is not None:
         written.append(write_pdf(data, pdf))

@@ -25,7 +25,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from torqlog.errors import DataError, UsageError
-from torqlog.units import si_factor
+from torqlog.units import is_unit, looks_like_unit_of, si_factor
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -255,8 +255,23 @@ def _detect_role(name: str) -> str | None:
     return None
 
 
+#: Last words of a column name that are words, not units, though pint may read some
+#: of them as one ("in" inch, "min" minute, "a" year): ``speed_in``, ``torque_max``.
+_NOT_UNIT_WORDS = frozenset({"mean", "raw", "filt", "filtered", "avg", "max", "min", "rms",
+                             "in", "out", "act", "actual", "set", "ref", "cmd", "meas",
+                             "motor", "shaft", "crank", "drive", "load", "value", "val",
+                             "abs", "pk", "peak", "sum", "std", "a", "b", "c", "x", "y",
+                             "z", "l", "r"})
+
+
 def _suffix_unit(name: str, role: str | None) -> str:
-    """Unit given as a name suffix: ``time_s``, ``Speed_rpm``, ``speed_rad_s``."""
+    """Unit given as a name suffix: ``time_s``, ``Speed_rpm``, ``speed_rad_s``.
+
+    A last word that is a unit of another kind (``torque_kg``, ``speed_furlongs``) or a
+    misspelt unit of this kind (``torque_kNx``: a torque unit followed by junk) is
+    returned too, so that reading the column fails with a message naming it rather than
+    taking the values as SI.
+    """
     if role is None or role in ("index", "counts"):
         return ""
     parts = name.split("_")
@@ -270,7 +285,15 @@ def _suffix_unit(name: str, role: str | None) -> str:
                 return cand
             except UsageError:
                 continue
-    return ""
+    if len(parts) < 2:
+        return ""
+    last = parts[-1]
+    if (not last or last.lower() in _NOT_UNIT_WORDS or last.isdigit()
+            or _words(last) and _detect_role(last)):
+        return ""
+    if is_unit(last):
+        return last  # a unit, but not of this kind: refused by the caller
+    return last if looks_like_unit_of(last, ROLES[role]) else ""  # kNx: "kN" then junk
 
 
 def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,

@@ -9,7 +9,10 @@ from typing import Any
 import click
 
 from torqlog.cli.base import (
+    FIGURE_FILE,
     QuantityType,
+    atomic_path,
+    check_outputs,
     cli,
     cycle_options,
     emit,
@@ -18,6 +21,7 @@ from torqlog.cli.base import (
     make_cycle_options,
     output_options,
     parse_quantile,
+    positive_float,
     read_kwargs,
     run_cycles,
 )
@@ -36,6 +40,8 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
     import pandas as pd
 
     from torqlog.survey import survey_log
+
+    check_outputs({"-o": output}, {"log": log})
 
     s = survey_log(log, nominal_speed=speed_rpm, **read_kwargs(kw))
     d = s.to_dict()
@@ -69,11 +75,12 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 @cli.command()
 @click.argument("log", type=click.Path(dir_okay=True))
 @cycle_options
-@click.option("--plot", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", type=FIGURE_FILE, default=None,
               help="Write a PNG: torque, E(θ) and speed against crank angle.")
 @output_options
 def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) -> None:
     """Split a log into machine cycles: energy swing, Cs and torque per cycle."""
+    check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
     res, _ = run_cycles(log, kw)
     if plot:
         res.plot(plot)
@@ -161,13 +168,13 @@ def _size_text(d: dict[str, Any], source: str) -> str:
               help="Motor synchronous speed [rpm].")
 @click.option("--rated-rpm", type=QuantityType("speed", "rpm"), default=None,
               help="Motor rated (full-load) speed [rpm].")
-@click.option("--motor-ratio", type=float, default=None,
+@click.option("--motor-ratio", type=positive_float(), default=None,
               help="Motor speed / logged shaft speed (belt or gear ratio).")
-@click.option("--flywheel-speed-ratio", type=float, default=None,
+@click.option("--flywheel-speed-ratio", type=positive_float(), default=None,
               help="Flywheel shaft speed / logged shaft speed.  [default: 1, or profile]")
 @click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
 @cycle_options
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
               help="Write a PNG: Cs and motor peak torque against added inertia.")
 @output_options
 def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quantile: str,
@@ -178,6 +185,8 @@ def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quant
     from torqlog.errors import UsageError
     from torqlog.inertia import size_log, size_log_dict
 
+    check_outputs({"-o": output, "--plot": plot_path},
+                  {"log": log, "--profile": kw.get("profile")})
     res, profile = run_cycles(log, kw)
     q = parse_quantile(quantile)
     motor = {"power": motor_power, "sync": sync_rpm, "rated": rated_rpm,
@@ -240,7 +249,6 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
                 machine: str | None, folder_profiles: bool
                 ) -> tuple[list[Any], list[dict[str, str]], Any]:
     """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
-    import pandas as pd
 
     from torqlog.batch import FileJob, discover
     from torqlog.errors import UsageError
@@ -249,12 +257,6 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
     if kw.get("start") and len(files) > 1:
         raise UsageError("--start places a single file; for several files give --name-time "
                          "PATTERN or logs that carry their own timestamps")
-    if kw.get("start"):
-        try:
-            pd.Timestamp(kw["start"])
-        except ValueError:
-            raise UsageError(f"--start {kw['start']!r} is not an ISO time, e.g. "
-                             "2026-03-02T06:00:00") from None
     if name_time:
         from torqlog.batch import name_time_regex
 
@@ -347,9 +349,18 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     from contextlib import ExitStack, nullcontext
 
     from torqlog.batch import dask_client
+    from torqlog.outputs import parquet_metadata, write_text
     from torqlog.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
 
+    profile_path = kw.get("profile")
     jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
+    figure_names = [f"trend_{f.strip()}.png" for f in figures.split(",") if f.strip()]
+    out_files = ([Path(out_dir) / n for n in ("cycles.parquet", "shifts.csv",
+                                               *figure_names, "energy_swing_box.png")]
+                 if out_dir else None)
+    check_outputs({"-o": output, "--out-dir": out_files},
+                  {"log": [j.path for j in jobs], "--profile": profile_path,
+                   "--baseline": baseline_path})
     calendar = ShiftCalendar.build(shifts, shift_names, timezone, profile)
     drift = DriftOptions(figures=tuple(f.strip() for f in figures.split(",") if f.strip()),
                          baseline_groups=baseline_shifts, lam=ewma_lambda, L=ewma_l,
@@ -369,8 +380,15 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     if out_dir:
         out = Path(out_dir)
         out.mkdir(parents=True, exist_ok=True)
-        res.cycles_table().to_parquet(out / "cycles.parquet", index=False)
-        res.to_pandas().to_csv(out / "shifts.csv", index=False)
+        import pyarrow as pa
+        import pyarrow.parquet as pq
+
+        table = pa.Table.from_pandas(res.cycles_table(), preserve_index=False)
+        table = table.replace_schema_metadata({**(table.schema.metadata or {}),
+                                               **parquet_metadata("trend-cycles")})
+        with atomic_path(out / "cycles.parquet") as tmp:
+            pq.write_table(table, tmp)
+        write_text(out / "shifts.csv", res.to_pandas().to_csv(index=False))
         written = [out / "cycles.parquet", out / "shifts.csv", *res.plot(out)]
         click.echo("wrote " + ", ".join(str(p) for p in written), err=True)
     table = res.to_pandas()
