@@ -484,6 +484,13 @@ class FlywheelResult:
 
 
 # --------------------------------------------------------------------------- checks
+#: Largest face width / outer diameter a flywheel may have (common practice). The disc
+#: formulas used here assume plane stress, true of a disc thin against its diameter
+#: (Timoshenko & Goodier, 3rd ed., sec. 32); a part wider than its diameter is a long
+#: cylinder (plane strain, same section) and no flywheel a shop would make.
+MAX_WIDTH_TO_DIAMETER = 1.0
+
+
 def _validate_speed(speed: float) -> None:
     if not (math.isfinite(speed) and speed > 0):
         raise UsageError(f"speed must be positive, got {speed / _RPM:g} rpm "
@@ -582,11 +589,21 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
     if mat.rim_speed_limit is not None:
         checks.append(Check("rim_speed_m_s", rim_speed, mat.rim_speed_limit,
                             rim_speed <= mat.rim_speed_limit))
+    proportion = geometry.width / geometry.outer_diameter
+    checks.append(Check("width_to_outer_diameter", proportion, MAX_WIDTH_TO_DIAMETER,
+                        proportion <= MAX_WIDTH_TO_DIAMETER))
     if required_inertia is not None:
         checks.append(Check("inertia_kgm2", i_total, required_inertia,
                             i_total >= required_inertia * (1.0 - 1e-9)))
 
     cautions = list(CAUTIONS)
+    if proportion > MAX_WIDTH_TO_DIAMETER:
+        cautions.insert(0, (
+            f"The face width ({geometry.width:.4g} m) is more than "
+            f"{MAX_WIDTH_TO_DIAMETER:g} x the outer diameter ({geometry.outer_diameter:.4g} m):"
+            " this is a long cylinder, not a disc, so the disc stresses above do not apply and"
+            " it cannot be built as a flywheel; give a larger outer diameter or a smaller "
+            "inertia."))
     if geometry.shape == "rim":
         cautions.append(
             "Rim shape: web and rim are modelled as a stepped disc; the stress raiser at "

@@ -110,11 +110,16 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
     data = build_report(list(logs), profile_path, cycle_options=opts, read=read,
                         target_cs=target_cs, quantile=parse_quantile(quantile),
                         figure_dir=figure_dir)
-    for why in data.skipped.values():
-        click.echo(f"note: {why}", err=True)
+    for stage, why in data.skipped.items():
+        if not stage.startswith("log "):
+            click.echo(f"note: {why}", err=True)
     for path in write_report(data, output, pdf_path):
         click.echo(f"wrote {path}", err=True)
     click.echo(output)
+    if data.failed_logs:
+        click.echo(f"Error: {len(data.failed_logs)} of {len(logs)} log(s) left out of the "
+                   "report: " + "; ".join(f["reason"] for f in data.failed_logs), err=True)
+        raise click.exceptions.Exit(1)
 
 
 # --- demo
