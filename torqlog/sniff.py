@@ -103,7 +103,7 @@ class Layout:
     delimiter, decimal : str
         Field delimiter and decimal mark.
     encoding : str
-        Text encoding ("utf8" or "latin1").
+        Text encoding ("utf8", "latin1" or "utf-16").
     skip_rows : int
         Lines before the first data row (preamble, header, unit row).
     columns : tuple of Column
@@ -165,6 +165,14 @@ def _read_head(path: Path) -> tuple[str, str, bool]:
                         f" ({exc}); check that the file is complete") from None
     if not raw.strip():
         raise DataError(f"{path}: the file is empty; export the log again")
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff"):  # UTF-16 with its byte-order mark
+        cut16 = len(raw) >= _SNIFF_BYTES
+        try:
+            text = raw[: len(raw) // 2 * 2].decode("utf-16", errors="strict")
+        except UnicodeDecodeError:
+            raise DataError(f"{path}: starts as UTF-16 text but is not valid UTF-16; save "
+                            "the export again as UTF-8 CSV") from None
+        return text, "utf-16", cut16
     if b"\x00" in raw[:4096]:
         raise DataError(f"{path}: binary content, not a text export; give a CSV, CSV.gz or "
                         "Parquet file")
@@ -202,7 +210,16 @@ def split_fields(line: str, delimiter: str) -> list[str]:
     -------
     list of str
     """
-    return [f.strip().strip('"').strip("'").strip() for f in line.split(delimiter)]
+    if '"' in line:  # quoted fields may hold the delimiter ("12,5" in a comma file)
+        import csv
+
+        try:
+            parts = next(csv.reader([line], delimiter=delimiter), [])
+        except csv.Error:
+            parts = line.split(delimiter)
+    else:
+        parts = line.split(delimiter)
+    return [f.strip().strip('"').strip("'").strip() for f in parts]
 
 
 def _is_num(s: str, decimal: str) -> bool:
@@ -369,6 +386,8 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
     sample = [split_fields(ln, delim) for ln in lines[data_start:data_start + 50] if ln.strip()]
     if delim == ";" and any("," in x for row in sample for x in row):
         decimal = ","
+    if delim == "," and any("," in x for row in sample for x in row):
+        decimal = ","  # "12,5","46,2": decimal commas inside quoted fields
     header_idx = data_start - 1
     unit_row: list[str] | None = None
     while header_idx >= 0 and not lines[header_idx].strip():
@@ -383,6 +402,14 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
         unit_row = cand
         header_idx = prev
     header = split_fields(lines[header_idx], delim)
+    if len(header) != n_fields and all(_is_value(x, ",") for x in header):
+        # a short or long data row right under the header, not a header
+        head = next((i for i in range(header_idx - 1, -1, -1) if lines[i].strip()), None)
+        where = (f"the header (line {head + 1}) and the other rows have" if head is not None
+                 and len(split_fields(lines[head], delim)) == n_fields else
+                 "the other rows have")
+        raise DataError(f"{p}: line {header_idx + 1}: a data row has {len(header)} fields "
+                        f"where {where} {n_fields}; fix or remove that row")
     if len(header) != n_fields:
         raise DataError(f"{p}: line {header_idx + 1}: the header has {len(header)} fields but "
                         f"the data rows have {n_fields}; check the delimiter")

@@ -302,8 +302,7 @@ _NOMINAL_SPEED_HELP = "Nominal shaft speed [rpm] (cycle source 'nominal')."
 
 
 def _profile_option() -> Callable:
-    return click.option("--profile", type=click.Path(exists=True, dir_okay=False),
-                        default=None,
+    return click.option("--profile", type=click.Path(dir_okay=False), default=None,
                         help="Machine profile (TOML); options given here override it.")
 
 

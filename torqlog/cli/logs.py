@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import sys
 from pathlib import Path
 from typing import Any
@@ -25,6 +26,10 @@ from torqlog.cli.base import (
     read_kwargs,
     run_cycles,
 )
+
+
+def _finite(x: float | None) -> bool:
+    return x is not None and math.isfinite(x)
 
 
 # --------------------------------------------------------------------------- inspect
@@ -52,8 +57,10 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
         + (f", {d['delimiter']}-delimited, decimal '{d['decimal']}'" if d["delimiter"] else ""),
         f"rows        {d['rows']}",
         f"duration    {d['duration_s']:.6g} s",
-        f"sample rate {d['sample_rate_hz']:.6g} Hz (time-step jitter "
-        f"{100 * d['rate_jitter']:.3g} %)",
+        (f"sample rate {d['sample_rate_hz']:.6g} Hz (time-step jitter "
+         f"{100 * d['rate_jitter']:.3g} %)" if _finite(d["sample_rate_hz"]) else
+         f"sample rate not known: {d['rows']} row(s) give no time step; a rate needs at "
+         "least two samples (or give --rate HZ)"),
         f"start       {d['start_time'] or 'not stated'}",
         f"time        {d['time_kind']}",
         f"gaps        {d['gaps']['count']}"
