@@ -281,6 +281,12 @@ def solve_geometry(required_inertia: float, material: Material | str, shape: str
                          "neither; the other one is solved from the inertia")
     if shape not in SHAPES:
         raise UsageError(f"unknown shape {shape!r}; valid: {', '.join(SHAPES)}")
+    for name, value in (("outer diameter", outer_diameter), ("width", width),
+                        ("bore", bore)):
+        if value is not None and not (math.isfinite(value) and value >= 0
+                                      and (value > 0 or name == "bore")):
+            raise UsageError(f"{name} must be {'zero or more' if name == 'bore' else 'positive'}"
+                             f", got {value!r} m")
     r = bore / 2.0
     what = f"{shape} in {mat.name} holding {required_inertia:.4g} kg*m^2"
 

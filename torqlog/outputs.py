@@ -16,7 +16,7 @@ Two rules every command and every writer in torqlog follows:
 Files torqlog writes that a later run might find in a folder of logs (the per-cycle
 Parquet table and the per-shift CSV of ``trend --out-dir``) are recognised by
 :func:`is_torqlog_output` from their name and their content (Parquet metadata key
-:data:`OUTPUT_METADATA_KEY`, or the header of the CSV), not by luck.
+:data:`OUTPUT_METADATA_KEY`, or the columns of the CSV header), not by luck.
 """
 
 from __future__ import annotations
@@ -32,12 +32,13 @@ from torqlog.errors import UsageError
 #: Key torqlog puts in the schema metadata of every Parquet table it writes.
 OUTPUT_METADATA_KEY = b"torqlog.output"
 
-#: First header fields of the CSV tables torqlog writes (per-shift rows, per-cycle rows):
-#: a CSV starting with one of these is an output of torqlog, not a logger export.
-OUTPUT_CSV_HEADERS: tuple[tuple[str, ...], ...] = (
-    ("machine", "date", "shift", "start_time"),
-    ("machine", "file", "start_time", "cycle"),
-    ("cycle", "t_start_s"),
+#: Header columns of the CSV tables torqlog writes (trend rows by shift, day, file or
+#: hour; per-cycle rows of trend and of ``cycles --format csv``): a CSV whose header holds
+#: all of one set is an output of torqlog, not a logger export.
+OUTPUT_CSV_COLUMNS: tuple[frozenset[str], ...] = (
+    frozenset({"machine", "start_time", "cycles", "cycles_total", "flagged_share"}),
+    frozenset({"machine", "file", "start_time", "cycle", "energy_swing_J"}),
+    frozenset({"cycle", "t_start_s", "energy_swing_J", "cs", "flag"}),
 )
 
 #: Names torqlog gives the files of ``trend --out-dir``.
@@ -187,10 +188,10 @@ def is_torqlog_output(path: PathLike) -> bool:
     """Whether a file is a table torqlog itself wrote (so discovery must skip it).
 
     A Parquet file is recognised by the :data:`OUTPUT_METADATA_KEY` in its schema
-    metadata; a CSV by a header that starts like one of :data:`OUTPUT_CSV_HEADERS`; a
-    file named like one of :data:`OUTPUT_NAMES` whose content cannot be read is also
-    skipped only if it carries that mark. Temporary files of :func:`atomic_path`
-    (``.name.XXXX.tmp``) are outputs too.
+    metadata (or, written before that mark, by its name in :data:`OUTPUT_NAMES` and its
+    columns); a CSV by a header holding one of the column sets of
+    :data:`OUTPUT_CSV_COLUMNS` (no logger export has them). Temporary files of
+    :func:`atomic_path` (``.name.XXXX.tmp``) are outputs too.
     """
     p = Path(path)
     name = p.name.lower()
@@ -200,18 +201,22 @@ def is_torqlog_output(path: PathLike) -> bool:
         try:
             import pyarrow.parquet as pq
 
-            meta = pq.read_schema(p).metadata or {}
+            schema = pq.read_schema(p)
         except Exception:  # noqa: BLE001 - unreadable: let the reader name the problem
             return False
-        return OUTPUT_METADATA_KEY in meta
+        if OUTPUT_METADATA_KEY in (schema.metadata or {}):
+            return True
+        # written before the mark existed: its name and its columns
+        return name in OUTPUT_NAMES and any(cols <= set(schema.names)
+                                            for cols in OUTPUT_CSV_COLUMNS)
     if name.endswith((".csv", ".txt")):
         try:
             with open(p, encoding="utf-8", errors="replace") as fh:
                 first = fh.readline(4096)
         except OSError:
             return False
-        fields = tuple(f.strip().strip('"') for f in first.strip().split(","))
-        return any(fields[:len(h)] == h for h in OUTPUT_CSV_HEADERS)
+        fields = {f.strip().strip('"') for f in first.strip().split(",")}
+        return any(cols <= fields for cols in OUTPUT_CSV_COLUMNS)
     return False
 
 
@@ -222,6 +227,6 @@ def parquet_metadata(kind: str) -> dict[bytes, bytes]:
     return {OUTPUT_METADATA_KEY: f'{{"kind": "{kind}", "version": "{__version__}"}}'.encode()}
 
 
-__all__ = ["OUTPUT_CSV_HEADERS", "OUTPUT_METADATA_KEY", "OUTPUT_NAMES", "atomic_path",
+__all__ = ["OUTPUT_CSV_COLUMNS", "OUTPUT_METADATA_KEY", "OUTPUT_NAMES", "atomic_path",
            "check_outputs", "is_torqlog_output", "parquet_metadata", "write_bytes",
            "write_text"]

@@ -356,14 +356,14 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     from contextlib import ExitStack, nullcontext
 
     from torqlog.batch import dask_client
-    from torqlog.outputs import parquet_metadata, write_text
+    from torqlog.outputs import OUTPUT_NAMES, parquet_metadata, write_text
     from torqlog.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
 
     profile_path = kw.get("profile")
     jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
     figure_names = [f"trend_{f.strip()}.png" for f in figures.split(",") if f.strip()]
-    out_files = ([Path(out_dir) / n for n in ("cycles.parquet", "shifts.csv",
-                                               *figure_names, "energy_swing_box.png")]
+    out_files = ([Path(out_dir) / n for n in (*OUTPUT_NAMES, *figure_names,
+                                               "energy_swing_box.png")]
                  if out_dir else None)
     check_outputs({"-o": output, "--out-dir": out_files},
                   {"log": [j.path for j in jobs], "--profile": profile_path,
