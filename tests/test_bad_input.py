@@ -407,7 +407,6 @@ def test_error_inside_the_cycle_stage_names_the_file(work):
     kept = [ln for ln in lines[1:] if not 1.0 <= float(ln.split(",")[0]) < 4.0]
     p = _with_lines(work, "gap.csv", [lines[0], *kept])
     res = run("cycles", p)
-    if res.exit_code != 0:
-        assert res.exit_code == 1
-        assert res.stderr.startswith(f"Error: {p}: ")
-        assert res.stderr.count("\n") == 1
+    assert res.exit_code == 1
+    assert res.stderr.startswith(f"Error: {p}: ")  # the reason itself: the cycle stage's
+    assert res.stderr.count("\n") == 1

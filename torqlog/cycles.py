@@ -339,6 +339,10 @@ class _Stream:
         if n_emit < 1:
             self.carry = buf
             return
+        if n_all > len(theta):  # more cycles than samples: no real machine turns so fast
+            raise DataError("the log's speed or angle implies more cycles than samples (a "
+                            "damaged file, or the wrong unit); check the column's values and "
+                            "unit")
         bounds_all = self.span * np.arange(self.next_m, m_last + 1, dtype=np.float64)
         seg = slice(0, last + 1)
         t, thv = buf["time"][seg], th[seg]

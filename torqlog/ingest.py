@@ -21,6 +21,7 @@ import math
 import queue
 import re
 import threading
+import zlib
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
@@ -311,7 +312,7 @@ class LogReader:
                 pf = pq.ParquetFile(lay.path)
                 yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
                                            columns=[c.name for c in wanted])
-            except (OSError, pa.ArrowException) as exc:
+            except (OSError, ValueError, pa.ArrowException) as exc:  # pyarrow's own types
                 raise DataError(f"{lay.path}: not a readable Parquet file ("
                                 f"{_first_line(exc)}); check that the file is complete") \
                     from None
@@ -439,7 +440,7 @@ def _find_line(lay: Layout, col: Column, bad: str) -> int | None:
                 f = split_fields(line.rstrip("\r\n"), lay.delimiter)
                 if idx < len(f) and f[idx] == bad:
                     return n
-    except (OSError, EOFError):  # a damaged file: the caller still names the value
+    except (OSError, EOFError, zlib.error):  # a damaged file: the caller still names the value
         return None
     return None
 

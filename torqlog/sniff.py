@@ -18,6 +18,7 @@ from __future__ import annotations
 import datetime
 import gzip
 import re
+import zlib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -160,7 +161,7 @@ def _read_head(path: Path) -> tuple[str, str, bool]:
     try:
         with opener(path, "rb") as fh:
             raw = fh.read(_SNIFF_BYTES)
-    except (OSError, EOFError) as exc:
+    except (OSError, EOFError, zlib.error) as exc:
         raise DataError(f"{path}: cannot be read as {'gzip' if opener is gzip.open else 'a file'}"
                         f" ({exc}); check that the file is complete") from None
     if not raw.strip():
@@ -590,12 +591,17 @@ def _sniff_parquet(p: Path, roles: dict[str, str], units: dict[str, str],
     except Exception as exc:  # noqa: BLE001 - pyarrow raises several types
         raise DataError(f"{p}: not a readable Parquet file ({exc})") from None
     names = pf.schema_arrow.names
-    first = pf.read_row_group(0, columns=names).slice(0, 1).to_pylist() if pf.num_row_groups \
-        else []
+    try:
+        first = pf.read_row_group(0, columns=names).slice(0, 1).to_pylist() \
+            if pf.num_row_groups else []
+        meta = {k.decode(): v.decode() for k, v in (pf.schema_arrow.metadata or {}).items()
+                if not k.startswith(b"ARROW") and not k.startswith(b"pandas")}
+    except Exception as exc:  # noqa: BLE001 - pyarrow raises several types
+        text = (str(exc).strip().splitlines() or [type(exc).__name__])[0][:120]
+        raise DataError(f"{p}: not a readable Parquet file ({text}); check that the file is "
+                        "complete") from None
     if not first:
         raise DataError(f"{p}: the Parquet file has no rows")
-    meta = {k.decode(): v.decode() for k, v in (pf.schema_arrow.metadata or {}).items()
-            if not k.startswith(b"ARROW") and not k.startswith(b"pandas")}
     values = [first[0][n] for n in names]
     return _build_layout(p, "parquet", ",", ".", "utf8", 0, names, None, meta, roles, units,
                          rate, start, values)
