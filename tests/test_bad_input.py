@@ -410,3 +410,11 @@ def test_error_inside_the_cycle_stage_names_the_file(work):
     assert res.exit_code == 1
     assert res.stderr.startswith(f"Error: {p}: ")  # the reason itself: the cycle stage's
     assert res.stderr.count("\n") == 1
+
+
+def test_readme_quotes_the_refusal_torqlog_prints():
+    readme = " ".join((ROOT / "README.md").read_text(encoding="utf-8").split())
+    section = readme.split("## Bad input", 1)[1].split("## ", 1)[0]
+    with pytest.raises(UsageError) as err:
+        check_outputs({"-o": "v.csv"}, {"log": "v.csv"})
+    assert f"`Error: {err.value}`" in section
