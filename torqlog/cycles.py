@@ -29,7 +29,7 @@ import numpy as np
 from torqlog import angle as ang
 from torqlog import condition as cond
 from torqlog import energy as en
-from torqlog.errors import DataError, UsageError
+from torqlog.errors import DataError, UsageError, naming_file
 from torqlog.ingest import Chunk, Layout, LogReader
 from torqlog.notebook import result_html
 
@@ -150,9 +150,9 @@ def options_from_profile(profile: Any = None, *, revs_per_cycle: int | None = No
     return CycleOptions(
         revs_per_cycle=int(revs_per_cycle or machine.get("revs_per_cycle", 1)),
         cycle_source=cycle_source,
-        nominal_speed=nominal_speed or machine.get("speed"),
+        nominal_speed=nominal_speed if nominal_speed is not None else machine.get("speed"),
         pulses_per_rev=pulses_per_rev,
-        inertia=inertia or machine.get("inertia"),
+        inertia=inertia if inertia is not None else machine.get("inertia"),
         speed_cutoff_orders=speed_cutoff_orders,
         torque_role=torque_role or machine.get("torque_role", "load"),
         cs_mean=cs_mean,
@@ -342,6 +342,10 @@ class _Stream:
         if n_emit < 1:
             self.carry = buf
             return
+        if n_all > len(theta):  # more cycles than samples: no real machine turns so fast
+            raise DataError("the log's speed or angle implies more cycles than samples (a "
+                            "damaged file, or the wrong unit); check the column's values and "
+                            "unit")
         bounds_all = self.span * np.arange(self.next_m, m_last + 1, dtype=np.float64)
         seg = slice(0, last + 1)
         t, thv = buf["time"][seg], th[seg]
@@ -540,11 +544,14 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed)
     _recycle_temporaries()
     pending = first
-    for chunk in chain(it, [None]):
-        st.feed(pending, final=chunk is None)
-        pending = chunk
-        if progress is not None:
-            progress(reader.fraction_read())
+    try:
+        for chunk in chain(it, [None]):
+            st.feed(pending, final=chunk is None)
+            pending = chunk
+            if progress is not None:
+                progress(reader.fraction_read())
+    except DataError as exc:  # the cycle stage does not know the file: name it here
+        raise naming_file(exc, lay.path) from None
     if st.cycle_no < 2:
         raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
                         f"are needed — record a longer log (cycle source {source!r}, "

@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from torqlog.errors import UsageError
+from torqlog.outputs import atomic_path
 from torqlog.units import key_unit
 
 if TYPE_CHECKING:
@@ -217,7 +218,8 @@ def write_xlsx(path: str | Path, sheets: Mapping[str, pd.DataFrame],
             ws.column_dimensions[ws.cell(row=1, column=j).column_letter].width = \
                 min(max(10, width + 2), 60)
     p = Path(path)
-    wb.save(p)
+    with atomic_path(p) as tmp:
+        wb.save(tmp)
     return p
 
 
@@ -241,7 +243,8 @@ def write_parquet(path: str | Path, table: pd.DataFrame,
         meta[b"torqlog.options"] = json.dumps(dict(flat_items(options))).encode()
     t = t.cast(pa.schema(fields, metadata=meta))
     p = Path(path)
-    pq.write_table(t, p)
+    with atomic_path(p) as tmp:
+        pq.write_table(t, tmp)
     return p
 
 

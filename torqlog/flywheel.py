@@ -290,6 +290,12 @@ def solve_geometry(required_inertia: float, material: Material | str, shape: str
                          "neither; the other one is solved from the inertia")
     if shape not in SHAPES:
         raise UsageError(f"unknown shape {shape!r}; valid: {', '.join(SHAPES)}")
+    for name, value in (("outer diameter", outer_diameter), ("width", width),
+                        ("bore", bore)):
+        if value is not None and not (math.isfinite(value) and value >= 0
+                                      and (value > 0 or name == "bore")):
+            raise UsageError(f"{name} must be {'zero or more' if name == 'bore' else 'positive'}"
+                             f", got {value!r} m")
     r = bore / 2.0
     what = f"{shape} in {mat.name} holding {required_inertia:.4g} kg*m^2"
 
@@ -496,6 +502,13 @@ class FlywheelResult:
 
 
 # --------------------------------------------------------------------------- checks
+#: Largest face width / outer diameter a flywheel may have (common practice). The disc
+#: formulas used here assume plane stress, true of a disc thin against its diameter
+#: (Timoshenko & Goodier, 3rd ed., sec. 32); a part wider than its diameter is a long
+#: cylinder (plane strain, same section) and no flywheel a shop would make.
+MAX_WIDTH_TO_DIAMETER = 1.0
+
+
 def _validate_speed(speed: float) -> None:
     if not (math.isfinite(speed) and speed > 0):
         raise UsageError(f"speed must be positive, got {speed / _RPM:g} rpm "
@@ -594,11 +607,21 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
     if mat.rim_speed_limit is not None:
         checks.append(Check("rim_speed_m_s", rim_speed, mat.rim_speed_limit,
                             rim_speed <= mat.rim_speed_limit))
+    proportion = geometry.width / geometry.outer_diameter
+    checks.append(Check("width_to_outer_diameter", proportion, MAX_WIDTH_TO_DIAMETER,
+                        proportion <= MAX_WIDTH_TO_DIAMETER))
     if required_inertia is not None:
         checks.append(Check("inertia_kgm2", i_total, required_inertia,
                             i_total >= required_inertia * (1.0 - 1e-9)))
 
     cautions = list(CAUTIONS)
+    if proportion > MAX_WIDTH_TO_DIAMETER:
+        cautions.insert(0, (
+            f"The face width ({geometry.width:.4g} m) is more than "
+            f"{MAX_WIDTH_TO_DIAMETER:g} x the outer diameter ({geometry.outer_diameter:.4g} m):"
+            " this is a long cylinder, not a disc, so the disc stresses above do not apply and"
+            " it cannot be built as a flywheel; give a larger outer diameter or a smaller "
+            "inertia."))
     if geometry.shape == "rim":
         cautions.append(
             "Rim shape: web and rim are modelled as a stepped disc; the stress raiser at "

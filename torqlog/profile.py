@@ -69,6 +69,10 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
     },
 }
 
+#: Numeric keys for which zero makes sense (a solid disc has no bore); every other
+#: numeric key must be positive.
+_ZERO_OK = frozenset({"bore_m", "interference_m"})
+
 _SEGMENT_KEYS = {"length_m", "diameter_m", "bore_m", "material"}
 _MASS_KEYS = {"name", "mass_kg", "at_m", "inertia_kgm2"}
 
@@ -166,6 +170,11 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
                                 f"({type(value).__name__}); give a "
                                 f"{'number' if factor is not None else typ.__name__}")
             if factor is not None:
+                least = "zero or more" if key in _ZERO_OK else "greater than zero"
+                if not math.isfinite(value) or value < 0 or (value == 0 and
+                                                             key not in _ZERO_OK):
+                    raise DataError(f"{source}: [{sec}] {key} must be {least}, got {value!r}; "
+                                    "fix the profile")
                 out[_plain(key)] = float(value) * factor
             else:
                 out[key] = value

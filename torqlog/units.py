@@ -172,6 +172,65 @@ def si_factor(unit: str, kind: str) -> float:
     return float(f)
 
 
+@functools.lru_cache(maxsize=256)
+def is_unit(text: str) -> bool:
+    """Whether pint reads ``text`` as a unit of any kind (``"kg"``, ``"furlong"``: yes;
+    ``"motor"``: no). Used to tell a unit suffix of a column name from a word.
+
+    Examples
+    --------
+    >>> is_unit("furlong"), is_unit("crank")
+    (True, False)
+    """
+    norm = _normalise(text)
+    if norm == "" or any((norm, k) in _COMMON for k in SI_UNITS):
+        return norm != ""
+    ureg = registry()
+    try:
+        ureg.Quantity(1.0, norm)
+    except Exception:  # noqa: BLE001 - pint raises several types for text it cannot parse
+        return False
+    return True
+
+
+#: Kinds whose unit may begin with a unit of another kind: a torque unit with a force
+#: unit (kN·m), a speed unit with an angle unit (rad/s, deg/s).
+_LEADING_KINDS: dict[str, tuple[str, ...]] = {
+    "torque": ("torque", "force"),
+    "speed": ("speed", "angle"),
+}
+_FORCE_AND_ANGLE = {"force": "N", "angle": "rad"}
+
+
+def looks_like_unit_of(text: str, kind: str) -> bool:
+    """Whether ``text``, which is not a unit, begins with a unit that fits ``kind``.
+
+    ``"kNx"`` begins with ``kN`` (a force, as a torque unit does) and is taken for a
+    misspelt torque unit; ``"motor"`` is not. Used to refuse unit suffixes of column
+    names that torqlog cannot read instead of assuming SI.
+
+    Examples
+    --------
+    >>> looks_like_unit_of("kNx", "torque"), looks_like_unit_of("motor", "speed")
+    (True, False)
+    """
+    if kind not in ("torque", "speed", "angle"):
+        return False
+    kinds = _LEADING_KINDS.get(kind, (kind,))
+    for n in range(len(text) - 1, 1, -1):
+        head = text[:n]
+        if not is_unit(head):
+            continue
+        for k in kinds:
+            unit = _FORCE_AND_ANGLE.get(k) or SI_UNITS[k]
+            try:
+                registry().Quantity(1.0, _normalise(head)).to(unit)
+                return True
+            except Exception:  # noqa: BLE001 - not this kind
+                continue
+    return False
+
+
 _EXAMPLES = {
     "torque": "kN*m",
     "speed": "rpm",

@@ -20,6 +20,7 @@ import numpy as np
 
 from torqlog import __version__
 from torqlog.errors import TorqlogError
+from torqlog.outputs import atomic_path, check_outputs, write_text  # noqa: F401 (for commands)
 from torqlog.units import parse_quantity
 
 if TYPE_CHECKING:
@@ -34,27 +35,95 @@ TABULAR = ("csv", "xlsx", "parquet")
 class QuantityType(click.ParamType):
     """A click parameter that takes ``1.2`` (in ``default_unit``) or ``"1200 mm"``.
 
-    The converted value is SI.
+    The converted value is SI. ``minimum`` says which values make sense: ``"positive"``
+    (the default: zero and negatives refused, never a silent fall-back to the profile),
+    ``"nonnegative"`` (zero allowed, e.g. the bore of a solid disc) or None (any finite
+    number). A refused value is a usage error (exit 2).
     """
 
     name = "quantity"
 
-    def __init__(self, kind: str, default_unit: str) -> None:
+    def __init__(self, kind: str, default_unit: str, minimum: str | None = "positive"
+                 ) -> None:
         self.kind = kind
         self.default_unit = default_unit
+        self.minimum = minimum
 
     def get_metavar(self, param: click.Parameter, ctx: click.Context | None = None) -> str:
         return f"[{self.default_unit}]"
 
     def convert(self, value: Any, param: click.Parameter | None,
                 ctx: click.Context | None) -> float:
+        name = f"--{param.name.replace('_', '-')}" if param else "value"
         if isinstance(value, float):
-            return value
+            v = value
+        else:
+            try:
+                v = parse_quantity(value, self.default_unit, self.kind, name=name)
+            except TorqlogError as exc:
+                self.fail(str(exc).removeprefix(f"{name}: "), param, ctx)
+        if not math.isfinite(v):
+            self.fail(f"{value!r} is not a finite number", param, ctx)
+        if self.minimum == "positive" and v <= 0:
+            self.fail(f"{value!r} must be greater than zero", param, ctx)
+        if self.minimum == "nonnegative" and v < 0:
+            self.fail(f"{value!r} must not be negative", param, ctx)
+        return v
+
+
+def positive_float(upper: float | None = None, *, upper_open: bool = True,
+                   zero_ok: bool = False) -> click.FloatRange:
+    """A plain number that must be > 0 (or >= 0 with ``zero_ok``), optionally below
+    ``upper``: ratios, factors, fractions."""
+    return click.FloatRange(min=0.0, max=upper, min_open=not zero_ok,
+                            max_open=upper_open and upper is not None)
+
+
+class DateTimeType(click.ParamType):
+    """An ISO 8601 date and time (``2026-03-02T06:00:00``, zone optional).
+
+    Passed on as the text given (the readers parse it again), after checking it parses,
+    so a wrong date is a usage error (exit 2) naming the option.
+    """
+
+    name = "iso-time"
+
+    def get_metavar(self, param: click.Parameter, ctx: click.Context | None = None) -> str:
+        return "ISO"
+
+    def convert(self, value: Any, param: click.Parameter | None,
+                ctx: click.Context | None) -> str:
+        import datetime as dt
+
+        text = str(value).strip()
         try:
-            return parse_quantity(value, self.default_unit, self.kind,
-                                  name=f"--{param.name.replace('_', '-')}" if param else "value")
-        except TorqlogError as exc:
-            self.fail(str(exc), param, ctx)
+            dt.datetime.fromisoformat(text.replace("Z", "+00:00"))
+        except ValueError:
+            self.fail(f"{value!r} is not an ISO 8601 time; write it like "
+                      "2026-03-02T06:00:00 (a zone such as +01:00 may follow)", param, ctx)
+        return text
+
+
+class OutputFile(click.Path):
+    """An output file path whose suffix says its format (``.png``, ``.html``...)."""
+
+    def __init__(self, suffixes: tuple[str, ...], what: str) -> None:
+        super().__init__(dir_okay=False)
+        self.suffixes = suffixes
+        self.what = what
+
+    def convert(self, value: Any, param: click.Parameter | None,
+                ctx: click.Context | None) -> Any:
+        value = super().convert(value, param, ctx)
+        if not str(value).lower().endswith(self.suffixes):
+            ends = (f"{', '.join(self.suffixes[:-1])} or {self.suffixes[-1]}"
+                    if len(self.suffixes) > 1 else self.suffixes[0])
+            self.fail(f"{str(value)!r}: {self.what} must end in {ends}", param, ctx)
+        return value
+
+
+#: Figure files: the formats matplotlib writes without extra software.
+FIGURE_FILE = OutputFile((".png", ".svg", ".pdf"), "a figure file")
 
 
 def _jsonable(obj: Any) -> Any:
@@ -149,7 +218,7 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
                 parts.append(table.to_string(index=False, float_format=_fmt_float))
         body = "\n".join(parts) + "\n"
     if out:
-        Path(out).write_text(body, encoding="utf-8")
+        write_text(out, body)
         click.echo(f"wrote {out}", err=True)
     else:
         click.echo(body, nl=False)
@@ -213,21 +282,41 @@ def output_options(f: Callable) -> Callable:
 
 
 # --------------------------------------------------------------------------- group
+def _oserror_sentence(exc: OSError) -> str:
+    where = f"{exc.filename}: " if exc.filename else ""
+    what = exc.strerror or (str(exc).strip().splitlines() or [type(exc).__name__])[0]
+    return f"{where}{what}; check the path and its permissions"
+
+
 class _Group(click.Group):
-    """Click group that turns torqlog errors into one line on stderr and an exit code."""
+    """Click group that is the one exception boundary of the command line.
+
+    A torqlog error prints its sentence and exits with its code (1 data, 2 usage, 3
+    strict); an operating-system error names the file (exit 1); anything else prints
+    one sentence and "run with --debug for details" (exit 1). ``--debug`` re-raises.
+    Click's own usage errors and exits pass through untouched.
+    """
 
     def invoke(self, ctx: click.Context) -> Any:
         try:
             return super().invoke(ctx)
-        except TorqlogError as exc:
+        except (click.exceptions.ClickException, click.exceptions.Exit,
+                click.exceptions.Abort):
+            raise
+        except Exception as exc:  # noqa: BLE001 - the one boundary: no traceback leaks
             if (ctx.obj or {}).get("debug"):
                 raise
-            click.echo(f"Error: {exc}", err=True)
-            ctx.exit(exc.exit_code)
-        except (FileNotFoundError, IsADirectoryError, PermissionError) as exc:
-            if (ctx.obj or {}).get("debug"):
-                raise
-            click.echo(f"Error: {exc.filename}: {exc.strerror}", err=True)
+            if isinstance(exc, TorqlogError):
+                click.echo(f"Error: {exc}", err=True)
+                ctx.exit(exc.exit_code)
+            if isinstance(exc, OSError):
+                click.echo(f"Error: {_oserror_sentence(exc)}", err=True)
+                ctx.exit(1)
+            text = " ".join(str(exc).split())
+            text = text if len(text) <= 160 else text[:157] + "..."
+            click.echo(f"Error: unexpected {type(exc).__name__}"
+                       + (f" ({text})" if text else "")
+                       + "; run with --debug for details", err=True)
             ctx.exit(1)
 
 
@@ -261,7 +350,7 @@ def log_options(f: Callable) -> Callable:
     for role in reversed(_ROLE_OPTS):
         f = click.option(f"--{role}", f"{role}_col", default=None, metavar="COL",
                          help=f"Column holding {role} (overrides detection by name).")(f)
-    f = click.option("--start", default=None, metavar="ISO",
+    f = click.option("--start", type=DateTimeType(), default=None,
                      help="Absolute time of the first sample, e.g. 2026-03-02T06:00:00.")(f)
     f = click.option("--rate", type=QuantityType("frequency", "Hz"), default=None,
                      help="Sample rate [Hz] when the time column is a sample number or absent.")(f)
@@ -298,7 +387,8 @@ def _cycle_stage(leading: list[Callable], speed_help: str) -> Callable[[Callable
             help="Force how cycles are found (default: best the log allows)."),
         click.option("--speed-rpm", type=QuantityType("speed", "rpm"), default=None,
                      help=speed_help),
-        click.option("--pulses-per-rev", type=float, default=360.0, show_default=True,
+        click.option("--pulses-per-rev", type=positive_float(), default=360.0,
+                     show_default=True,
                      help="Encoder counts per revolution."),
         click.option("--inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
                      help="Rotating inertia at the logged shaft [kg·m²]."),
