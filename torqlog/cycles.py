@@ -29,6 +29,7 @@ import numpy as np
 from torqlog import angle as ang
 from torqlog import condition as cond
 from torqlog import energy as en
+from torqlog import health
 from torqlog.errors import DataError, UsageError
 from torqlog.ingest import Chunk, Layout, LogReader
 
@@ -46,6 +47,8 @@ _HOLD = 2
 MAX_CURVES = 300
 #: A block allocated and freed once before streaming (see :func:`_recycle_temporaries`).
 _WARM_BLOCK_BYTES = 8 << 20
+#: Faulty stretches listed in a result (all are counted).
+_MAX_EVENTS = 200
 
 COLUMNS = ("cycle", "t_start_s", "start_time", "duration_s", "speed_mean_rpm",
            "speed_min_rpm", "speed_max_rpm", "torque_mean_Nm", "torque_peak_Nm",
@@ -278,6 +281,18 @@ class _Stream:
         self.spike_scale: dict[str, float] = {}
         self.samples = 0
         self.cycle_no = 0
+        # channel health (torqlog.health)
+        self.scales: dict[str, health.ChannelScale] = {}
+        self.frozen_len: dict[str, int] = {}
+        self.speed_ref: float | None = None
+        self.prev_speed: float | None = None
+        self.events: list[dict[str, Any]] = []
+        self.event_count: dict[str, int] = {}
+        self.stretches: list[tuple[float, float, str]] = []
+        self.theta_offset = 0.0
+        self.last_time: float | None = None
+        self.last_theta: float | None = None
+        self.durations = np.empty(0)
 
     def feed(self, chunk: Chunk, final: bool) -> None:
         t = chunk.time
@@ -285,31 +300,139 @@ class _Stream:
         if self.dt is None and len(t) > 1:
             self.dt = float(np.median(np.diff(t)))
         new: dict[str, np.ndarray] = {"time": t}
-        nanmask = np.zeros(len(t), dtype=bool)
+        fault = np.zeros(len(t), dtype=np.uint8)
+        channels = dict(chunk.channels)
         for role in ("torque", "speed"):
             if role in chunk.channels:
-                x, bad = cond.fill_nan(t, chunk.channels[role])
-                if bad.any():
-                    long = cond.long_runs(bad, cond.NAN_REPAIR_RUN)
-                    self.nan_filled += int(bad.sum() - long.sum())
-                    nanmask |= long
-                if self.o.despike:
-                    if role not in self.spike_scale:
-                        self.spike_scale[role] = cond.spike_scale(x)
-                    x, sp = cond.despike(x, scale=self.spike_scale[role])
-                    self.spikes += int(sp.sum())
+                x, for_angle = self._condition(role, t, chunk.channels[role], fault)
+                channels[role] = for_angle
                 new[role] = x
-        new["nan"] = nanmask
-        theta = self.tracker.push(t, chunk.channels)
-        new["theta"] = np.asarray(theta, dtype=np.float64)
+        new["fault"] = fault
+        self._record_events(t, fault)
+        theta = np.asarray(self.tracker.push(t, channels), dtype=np.float64)
+        new["theta"] = self._anchor(t, theta)
         buf = new if self.carry is None else {
             k: np.concatenate((self.carry[k], new[k])) for k in new}
         if self.tracker.source == "index" and self.carry is not None:
             nc = len(self.carry["time"])
             head = buf["theta"][:nc]
             if np.isnan(head).any():
-                buf["theta"][:nc] = self.tracker.angle_at(buf["time"][:nc])
+                buf["theta"][:nc] = self.tracker.angle_at(buf["time"][:nc]) + self.theta_offset
         self._process(buf, final)
+
+    def _condition(self, role: str, t: np.ndarray, raw: np.ndarray, fault: np.ndarray
+                   ) -> tuple[np.ndarray, np.ndarray]:
+        """One channel's samples made usable, its faults marked in ``fault`` (see
+        :mod:`torqlog.health`); returns (conditioned, bridged-only for the angle)."""
+        B = health.BITS
+        inf = np.isinf(raw)
+        if inf.any():
+            raw = np.where(inf, np.nan, raw)
+            fault[inf] |= B["nonfinite"]
+        x, bad = cond.fill_nan(t, raw)
+        if bad.any():
+            long = cond.long_runs(bad & ~inf, cond.NAN_REPAIR_RUN)
+            self.nan_filled += int((bad & ~inf).sum() - long.sum())
+            fault[long] |= B["nan"]
+        if role not in self.scales:
+            self.scales[role] = health.ChannelScale.of(x)
+        sc = self.scales[role]
+        sp = health.spike_runs(x, sc)
+        if sp.any():
+            x = health.bridge(t, x, sp)
+            fault[sp] |= B["spikes"]
+        still = np.zeros(x.size, dtype=bool)
+        if role == "speed":
+            if self.speed_ref is None:
+                self.speed_ref = float(np.percentile(x, 75))
+            if self.speed_ref > 0:
+                drop, stop, rev = health.speed_state(x, self.speed_ref, self.prev_speed)
+                self.prev_speed = float(x[-1])
+                if drop.any():
+                    x = health.bridge(t, x, drop)
+                    fault[drop] |= B["dropout"]
+                fault[stop] |= B["stop"]
+                fault[rev] |= B["reversal"]
+                still = stop
+                if stop.any():
+                    self._record_stretches(t, x, stop, rev)
+        # frozen: a run of equal samples too long for the noise, not at the channel's
+        # extremes (that is clipping, judged per cycle) and not a standing machine
+        if role not in self.frozen_len:
+            per_rev = (TWO_PI / (self.speed_ref * self.dt)) if (
+                self.speed_ref and self.dt) else None
+            self.frozen_len[role] = health.frozen_run_length(sc, per_rev)
+        idx = cond.flat_run_index(x, self.frozen_len[role])
+        if idx.size:
+            v = x[idx]
+            edge = ((v >= sc.high) | (v <= sc.low)) if sc.high > sc.low else \
+                np.zeros(v.size, dtype=bool)
+            idx = idx[~edge & ~still[idx]]
+            fault[idx] |= B["frozen"]
+        for_angle = x
+        if self.o.despike:
+            if role not in self.spike_scale:
+                self.spike_scale[role] = cond.spike_scale(x)
+            x, one = cond.despike(x, scale=self.spike_scale[role])
+            one &= ~still
+            self.spikes += int(one.sum())
+        return x, for_angle
+
+    def _record_events(self, t: np.ndarray, fault: np.ndarray) -> None:
+        """Keep the start and end [s] of each faulty or non-running stretch."""
+        if not fault.any():
+            return
+        for name, bit in health.BITS.items():
+            m = (fault & bit) != 0
+            if not m.any():
+                continue
+            s, e = health.runs(m)
+            self.event_count[name] = self.event_count.get(name, 0) + int(s.size)
+            room = _MAX_EVENTS - len(self.events)
+            if room > 0 and name not in ("stop", "reversal"):
+                self.events.extend({"kind": name, "start_s": a, "end_s": b}
+                                   for a, b in zip(t[s[:room]].tolist(),
+                                                   t[e[:room] - 1].tolist(), strict=True))
+
+    def _record_stretches(self, t: np.ndarray, speed: np.ndarray, stop: np.ndarray,
+                          rev: np.ndarray) -> None:
+        """Non-running stretches of the speed channel: what happened, start, end [s]."""
+        s, e = health.runs(stop)
+        reversed_ = np.maximum.reduceat(rev, s)
+        rest = np.minimum.reduceat(np.abs(speed), s) < 0.05 * float(self.speed_ref or 0.0)
+        kind = np.where(reversed_, "reversal", np.where(
+            rest, "stop", "run-down/run-up (below half the running speed)"))
+        self.stretches.extend(zip(t[s].tolist(), t[e - 1].tolist(), kind.tolist(),
+                                  strict=True))
+
+    def _anchor(self, t: np.ndarray, theta: np.ndarray) -> np.ndarray:
+        """Shift the angle after each gap by whole cycles so at most one cycle boundary
+        falls inside the gap: a long gap costs the cycle it interrupts, and the cycles
+        after it keep their phase (measured angle) or start at the gap (angle from time
+        or speed). Records gaps longer than a cycle as non-running stretches."""
+        theta = theta + self.theta_offset if self.theta_offset else theta
+        prev_t, prev_th = self.last_time, self.last_theta
+        self.last_time = float(t[-1])
+        if self.dt is None or theta.size == 0:
+            return theta
+        tt = t if prev_t is None else np.concatenate(([prev_t], t))
+        off = 0 if prev_t is None else 1
+        for j in np.flatnonzero(np.diff(tt) > cond.GAP_FACTOR * self.dt):  # gaps are few
+            i = int(j) + 1 - off  # index in theta of the first sample after the gap
+            before = prev_th if i == 0 else float(theta[i - 1])
+            after = float(theta[i])
+            if before is None or not (math.isfinite(before) and math.isfinite(after)):
+                continue
+            nxt = self.span * (math.floor(before / self.span) + 1)
+            if after >= nxt + self.span:
+                shift = self.span * math.floor((after - nxt) / self.span)
+                theta[i:] -= shift
+                self.theta_offset -= shift
+                self.stretches.append((float(tt[j]), float(tt[j + 1]), "gap"))
+        fin = theta[np.isfinite(theta)]
+        if fin.size:
+            self.last_theta = float(fin[-1])
+        return theta
 
     def _process(self, buf: dict[str, np.ndarray], final: bool) -> None:
         theta = buf["theta"]
@@ -323,7 +446,8 @@ class _Stream:
             buf = {k: v[first:] for k, v in buf.items()}
             theta = buf["theta"]
             last -= first
-        if self.tracker.source in ("angle", "counts"):  # measured angles can jitter back
+        if self.tracker.source in ("angle", "counts", "speed"):
+            # measured angles can jitter back; an integrated speed runs back on a reversal
             th = np.maximum.accumulate(np.where(np.isfinite(theta), theta, -np.inf))
         elif last + 1 < len(theta):  # integrated or interpolated: increasing by construction
             th = theta.copy()
@@ -382,8 +506,8 @@ class _Stream:
             c = cid[i]
             v = tq[lo + i]
             clipped[c[(v == ce.torque_peak[c]) | (v == ce.torque_min[c])]] = True
-        nan = np.zeros(n_emit, dtype=bool)
-        nan[cid[np.flatnonzero(buf["nan"][lo:stop])]] = True
+        # sample faults (torqlog.health bits): OR over each cycle's samples
+        fault = np.bitwise_or.reduceat(buf["fault"][lo:stop], sg.offsets)
         gap = np.zeros(n_emit, dtype=bool)
         if self.dt is not None:  # a step longer than GAP_FACTOR median steps
             limit = cond.GAP_FACTOR * self.dt
@@ -418,8 +542,25 @@ class _Stream:
                 row["angle_speed_min"] = centre[np.argmin(mine, axis=1)]
                 row["angle_speed_max"] = centre[np.argmax(mine, axis=1)]
             row["speed_max"], row["speed_min"] = wmax, wmin
+        if "speed" in self.has:  # clipped speed: a flat run at the cycle's raw extreme
+            w = buf["speed"][lo:stop]
+            i = cond.flat_run_index(w)
+            if i.size:
+                c = cid[i]
+                v = w[i]
+                top = np.maximum.reduceat(w, sg.offsets)
+                bot = np.minimum.reduceat(w, sg.offsets)
+                at = (v == top[c]) | (v == bot[c])
+                at &= (buf["fault"][lo:stop][i] & health.BITS["stop"]) == 0
+                clipped[c[at]] = True
+        length = self._length_check(duration)
+        B = health.BITS
         flags = np.full(n_emit, "", dtype=object)
-        for name, mask in (("gap", gap), ("nan", nan), ("clipped", clipped)):
+        for name, mask in (("gap", gap), ("nan", (fault & B["nan"]) != 0),
+                           ("clipped", clipped), *(
+                               (k, (fault & B[k]) != 0) for k in
+                               ("nonfinite", "spikes", "dropout", "frozen", "stop",
+                                "reversal")), ("length", length)):
             if mask.any():
                 flags[mask] = np.where(flags[mask] == "", name, flags[mask] + "+" + name)
         row["flag"] = flags
@@ -448,6 +589,15 @@ class _Stream:
                     self.curves[k].append(a[:room])
             self.mean_n += int(clean.sum())
             self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
+
+
+    def _length_check(self, duration: np.ndarray) -> np.ndarray:
+        """Cycles off the running median length (last 50 cycles) by more than
+        :data:`torqlog.health.CYCLE_LENGTH_TOL`: merged or split cycles, run-downs."""
+        hist = np.concatenate((self.durations, duration))
+        ref = float(np.median(hist))
+        self.durations = hist[-50:]
+        return np.abs(duration / ref - 1.0) > health.CYCLE_LENGTH_TOL
 
 
 def _recycle_temporaries() -> None:
@@ -569,10 +719,63 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                  **extra})
     opts.pop("block_rows")
     opts.pop("read_ahead")
-    summary = summarise(table, spikes=st.spikes, samples=st.samples)
+    health_summary = _health(st, table, lay.path, source)
+    summary = summarise(table, spikes=st.spikes, samples=st.samples, **health_summary)
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
     return CycleResult(lay.path, table, summary, mean_cycle, curves, opts, lay, notes)
+
+
+def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
+            ) -> dict[str, Any]:
+    """Faults, non-running stretches and running segments of a log; refuses a log with no
+    segment of two clean cycles, or one that is not cyclic, with the reason."""
+    merged: list[list[Any]] = []
+    tol = 2.0 * (st.dt or 0.0)
+    for a, b, kind in sorted(st.stretches):
+        if merged and a <= merged[-1][1] + tol:
+            merged[-1][1] = max(merged[-1][1], b)
+            if kind not in merged[-1][2]:
+                merged[-1][2].append(kind)
+        else:
+            merged.append([a, b, [kind]])
+    not_running = [{"start_s": a, "end_s": b, "what": " + ".join(k)} for a, b, k in merged]
+    t0, flag = table["t_start_s"], table["flag"]
+    edges = [-np.inf] + [x for a, b, _ in merged for x in (a, b)] + [np.inf]
+    segs = []
+    for a, b in zip(edges[::2], edges[1::2], strict=True):
+        inside = (t0 >= a) & (t0 < b)
+        if inside.any():
+            segs.append({"start_s": float(t0[inside][0]), "end_s": float(b) if np.isfinite(b)
+                         else float(t0[inside][-1] + table["duration_s"][inside][-1]),
+                         "cycles": int(inside.sum()),
+                         "clean": int((inside & (flag == "")).sum())})
+    clean = int((flag == "").sum())
+    counts = Counter(r for f in flag[flag != ""] for r in f.split("+"))
+    if clean < 2:
+        why = ", ".join(f"{k} {v}" for k, v in counts.most_common())
+        stops = f"; not running: {len(not_running)} stretch(es), " + ", ".join(
+            f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s" for d in not_running[:3]
+        ) if not_running else ""
+        raise DataError(f"{path}: no running stretch holds 2 clean cycles ({len(flag)} "
+                        f"cycle(s), {clean} clean; flagged: {why}{stops}); see the flag "
+                        "column of `torqlog cycles` for where")
+    share = float("nan")
+    for k in ("torque", "speed"):
+        if k + "1" in st.mean_acc:
+            share = health.cyclic_share(st.mean_acc[k + "1"], st.mean_acc[k + "2"],
+                                        st.mean_n)
+            if share < health.MIN_CYCLIC_SHARE:
+                raise DataError(
+                    f"{path}: the log is not cyclic: over {st.mean_n} clean cycles the mean "
+                    f"cycle explains {share:.0%} of the {k} variation within cycles (a "
+                    f"cyclic machine: at least {health.MIN_CYCLIC_SHARE:.0%}); check the "
+                    f"cycle source ({source!r}) and the revs per cycle, or that the machine "
+                    "was running")
+            break
+    return {"cyclic_share": None if share != share else round(share, 4),
+            "faults": {k: st.event_count[k] for k in health.BITS if k in st.event_count},
+            "fault_list": st.events, "not_running": not_running, "segments": segs}
 
 
 def _isnat(x: Any) -> bool:
