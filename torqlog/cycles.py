@@ -293,6 +293,7 @@ class _Stream:
         self.last_time: float | None = None
         self.last_theta: float | None = None
         self.durations = np.empty(0)
+        self.dead: set[str] = set()
 
     def feed(self, chunk: Chunk, final: bool) -> None:
         t = chunk.time
@@ -342,6 +343,10 @@ class _Stream:
             x = health.bridge(t, x, sp)
             fault[sp] |= B["spikes"]
         still = np.zeros(x.size, dtype=bool)
+        if sc.high <= sc.low:  # one value from the start: a dead sensor or a set-point
+            self.dead.add(role)
+        if role in self.dead:
+            return x, x
         if role == "speed":
             if self.speed_ref is None:
                 self.speed_ref = float(np.percentile(x, 75))
@@ -356,19 +361,10 @@ class _Stream:
                 still = stop
                 if stop.any():
                     self._record_stretches(t, x, stop, rev)
-        # frozen: a run of equal samples too long for the noise, not at the channel's
-        # extremes (that is clipping, judged per cycle) and not a standing machine
-        if role not in self.frozen_len:
+        if role not in self.frozen_len:  # runs this long are frozen (judged per cycle)
             per_rev = (TWO_PI / (self.speed_ref * self.dt)) if (
                 self.speed_ref and self.dt) else None
             self.frozen_len[role] = health.frozen_run_length(sc, per_rev)
-        idx = cond.flat_run_index(x, self.frozen_len[role])
-        if idx.size:
-            v = x[idx]
-            edge = ((v >= sc.high) | (v <= sc.low)) if sc.high > sc.low else \
-                np.zeros(v.size, dtype=bool)
-            idx = idx[~edge & ~still[idx]]
-            fault[idx] |= B["frozen"]
         for_angle = x
         if self.o.despike:
             if role not in self.spike_scale:
@@ -501,13 +497,14 @@ class _Stream:
                 row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_max, ce.angle_e_min
             else:
                 row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_min, ce.angle_e_max
-            # clipped: a flat run (≥ CLIP_RUN equal samples) at the cycle's peak or minimum
-            i = cond.flat_run_index(tq[lo:stop])
-            c = cid[i]
-            v = tq[lo + i]
-            clipped[c[(v == ce.torque_peak[c]) | (v == ce.torque_min[c])]] = True
         # sample faults (torqlog.health bits): OR over each cycle's samples
-        fault = np.bitwise_or.reduceat(buf["fault"][lo:stop], sg.offsets)
+        fault_s = buf["fault"][lo:stop]
+        fault = np.bitwise_or.reduceat(fault_s, sg.offsets)
+        frozen = np.zeros(n_emit, dtype=bool)
+        for role in ("torque", "speed"):
+            if role in self.has and role not in self.dead:
+                self._flat(buf[role][lo:stop], role, sg, fault_s, t[lo:stop], clipped,
+                           frozen)
         gap = np.zeros(n_emit, dtype=bool)
         if self.dt is not None:  # a step longer than GAP_FACTOR median steps
             limit = cond.GAP_FACTOR * self.dt
@@ -542,25 +539,14 @@ class _Stream:
                 row["angle_speed_min"] = centre[np.argmin(mine, axis=1)]
                 row["angle_speed_max"] = centre[np.argmax(mine, axis=1)]
             row["speed_max"], row["speed_min"] = wmax, wmin
-        if "speed" in self.has:  # clipped speed: a flat run at the cycle's raw extreme
-            w = buf["speed"][lo:stop]
-            i = cond.flat_run_index(w)
-            if i.size:
-                c = cid[i]
-                v = w[i]
-                top = np.maximum.reduceat(w, sg.offsets)
-                bot = np.minimum.reduceat(w, sg.offsets)
-                at = (v == top[c]) | (v == bot[c])
-                at &= (buf["fault"][lo:stop][i] & health.BITS["stop"]) == 0
-                clipped[c[at]] = True
         length = self._length_check(duration)
         B = health.BITS
         flags = np.full(n_emit, "", dtype=object)
         for name, mask in (("gap", gap), ("nan", (fault & B["nan"]) != 0),
                            ("clipped", clipped), *(
                                (k, (fault & B[k]) != 0) for k in
-                               ("nonfinite", "spikes", "dropout", "frozen", "stop",
-                                "reversal")), ("length", length)):
+                               ("nonfinite", "spikes", "dropout", "stop", "reversal")),
+                           ("frozen", frozen), ("length", length)):
             if mask.any():
                 flags[mask] = np.where(flags[mask] == "", name, flags[mask] + "+" + name)
         row["flag"] = flags
@@ -590,6 +576,32 @@ class _Stream:
             self.mean_n += int(clean.sum())
             self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
 
+
+    def _flat(self, x: np.ndarray, role: str, sg: en.Segments, fault: np.ndarray,
+              t: np.ndarray, clipped: np.ndarray, frozen: np.ndarray) -> None:
+        """Flat runs of one channel over the emitted cycles: at a cycle's peak or minimum
+        (≥ CLIP_RUN equal samples) the cycle is clipped; elsewhere, longer than the noise
+        makes plausible (``frozen_len``), frozen. A standing machine is neither."""
+        cid, off = sg.cid, sg.offsets
+        top, bot = np.maximum.reduceat(x, off), np.minimum.reduceat(x, off)
+        moving = (fault & health.BITS["stop"]) == 0
+        for n, out in ((cond.CLIP_RUN, clipped), (self.frozen_len.get(role), frozen)):
+            i = cond.flat_run_index(x, n) if n else np.empty(0, dtype=np.int64)
+            if not i.size:
+                continue
+            c, v = cid[i], x[i]
+            at = (v == top[c]) | (v == bot[c])
+            hit = (at if out is clipped else ~at) & moving[i]
+            out[c[hit]] = True
+            if out is frozen and hit.any():
+                j = i[hit]
+                brk = np.flatnonzero(np.diff(j) != 1)
+                s0, e0 = j[np.concatenate(([0], brk + 1))], j[np.concatenate((brk, [j.size - 1]))]
+                self.event_count["frozen"] = self.event_count.get("frozen", 0) + int(s0.size)
+                room = max(_MAX_EVENTS - len(self.events), 0)
+                self.events.extend({"kind": "frozen", "channel": role, "start_s": a,
+                                    "end_s": b} for a, b in zip(
+                    t[s0[:room]].tolist(), t[e0[:room]].tolist(), strict=True))
 
     def _length_check(self, duration: np.ndarray) -> np.ndarray:
         """Cycles off the running median length (last 50 cycles) by more than
@@ -713,6 +725,11 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                      "flag their cycle")
     if st.spikes:
         notes.append(f"{st.spikes} one-sample spike(s) replaced by their neighbours' mean")
+    for role in sorted(st.dead):
+        notes.append(f"the {role} channel holds one value from the start (a dead sensor or "
+                     "a set-point, not a measurement)" + (
+                         ": cycles cut at that speed, Cs left empty" if role == "speed"
+                         else ""))
     opts = asdict(o)
     opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,
                  "angle_grid_bins": nb_mean, "sample_rate_hz": 1.0 / st.dt if st.dt else None,
@@ -798,6 +815,8 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
     nan = np.full(n, np.nan)
     wmean = cols["speed_mean"]
     wmax, wmin = cols.get("speed_max", nan), cols.get("speed_min", nan)
+    if "speed" in st.dead:  # a constant channel cannot tell the fluctuation
+        wmax = wmin = nan
     cs = en.coefficient_of_fluctuation(wmax, wmin, wmean, mean=o.cs_mean)
     de = cols.get("energy_swing")
     if de is None:
