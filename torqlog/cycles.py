@@ -294,6 +294,7 @@ class _Stream:
         self.last_theta: float | None = None
         self.durations = np.empty(0)
         self.dead: set[str] = set()
+        self.last_speed_mean: float | None = None
 
     def feed(self, chunk: Chunk, final: bool) -> None:
         t = chunk.time
@@ -349,18 +350,18 @@ class _Stream:
             return x, x
         if role == "speed":
             if self.speed_ref is None:
-                self.speed_ref = float(np.percentile(x, 75))
-            if self.speed_ref > 0:
-                drop, stop, rev = health.speed_state(x, self.speed_ref, self.prev_speed)
-                self.prev_speed = float(x[-1])
-                if drop.any():
-                    x = health.bridge(t, x, drop)
-                    fault[drop] |= B["dropout"]
-                fault[stop] |= B["stop"]
-                fault[rev] |= B["reversal"]
-                still = stop
-                if stop.any():
-                    self._record_stretches(t, x, stop, rev)
+                self.speed_ref = health.running_speed(x)
+            ref = self.speed_ref or 2.0 * health.MIN_RUNNING_SPEED  # standing so far
+            drop, stop, rev = health.speed_state(x, ref, self.prev_speed)
+            self.prev_speed = float(x[-1])
+            if drop.any():
+                x = health.bridge(t, x, drop)
+                fault[drop] |= B["dropout"]
+            fault[stop] |= B["stop"]
+            fault[rev] |= B["reversal"]
+            still = stop
+            if stop.any():
+                self._record_stretches(t, x, stop, rev)
         if role not in self.frozen_len:  # runs this long are frozen (judged per cycle)
             per_rev = (TWO_PI / (self.speed_ref * self.dt)) if (
                 self.speed_ref and self.dt) else None
@@ -395,7 +396,8 @@ class _Stream:
         """Non-running stretches of the speed channel: what happened, start, end [s]."""
         s, e = health.runs(stop)
         reversed_ = np.maximum.reduceat(rev, s)
-        rest = np.minimum.reduceat(np.abs(speed), s) < 0.05 * float(self.speed_ref or 0.0)
+        ref = self.speed_ref or 2.0 * health.MIN_RUNNING_SPEED
+        rest = np.minimum.reduceat(np.abs(speed), s) < 0.05 * ref
         kind = np.where(reversed_, "reversal", np.where(
             rest, "stop", "run-down/run-up (below half the running speed)"))
         self.stretches.extend(zip(t[s].tolist(), t[e - 1].tolist(), kind.tolist(),
@@ -512,7 +514,9 @@ class _Stream:
                 big = np.flatnonzero(np.diff(t[:stop]) > limit) + 1
             else:
                 big = np.flatnonzero(np.diff(t[lo - 1:stop]) > limit)
+            # the cycle after the gap, and the one before when a boundary fell inside it
             gap[cid[big]] = True
+            gap[cid[np.maximum(big - 1, 0)]] = True
         # speed, per angle bin, low-passed in the angle domain
         wmax = wmin = None
         sp_bins_all = None
@@ -540,13 +544,15 @@ class _Stream:
                 row["angle_speed_max"] = centre[np.argmax(mine, axis=1)]
             row["speed_max"], row["speed_min"] = wmax, wmin
         length = self._length_check(duration)
+        unsteady = self._steady_check(w_mean)
         B = health.BITS
         flags = np.full(n_emit, "", dtype=object)
         for name, mask in (("gap", gap), ("nan", (fault & B["nan"]) != 0),
                            ("clipped", clipped), *(
                                (k, (fault & B[k]) != 0) for k in
                                ("nonfinite", "spikes", "dropout", "stop", "reversal")),
-                           ("frozen", frozen), ("length", length)):
+                           ("frozen", frozen), ("length", length),
+                           ("unsteady", unsteady)):
             if mask.any():
                 flags[mask] = np.where(flags[mask] == "", name, flags[mask] + "+" + name)
         row["flag"] = flags
@@ -585,6 +591,11 @@ class _Stream:
         cid, off = sg.cid, sg.offsets
         top, bot = np.maximum.reduceat(x, off), np.minimum.reduceat(x, off)
         moving = (fault & health.BITS["stop"]) == 0
+        n_tie = self.frozen_len.get(role, cond.CLIP_RUN)
+        if n_tie:  # clipped under noise: many samples tie with the extreme, not in one run
+            ties = np.add.reduceat((x == sg.spread(top)) & moving, off) + \
+                np.add.reduceat((x == sg.spread(bot)) & moving, off)
+            clipped |= ties >= max(n_tie, 2 * cond.CLIP_RUN)
         for n, out in ((cond.CLIP_RUN, clipped), (self.frozen_len.get(role), frozen)):
             i = cond.flat_run_index(x, n) if n else np.empty(0, dtype=np.int64)
             if not i.size:
@@ -602,6 +613,14 @@ class _Stream:
                 self.events.extend({"kind": "frozen", "channel": role, "start_s": a,
                                     "end_s": b} for a, b in zip(
                     t[s0[:room]].tolist(), t[e0[:room]].tolist(), strict=True))
+
+    def _steady_check(self, speed_mean: np.ndarray) -> np.ndarray:
+        """Cycles whose mean speed [rad/s] differs from the previous cycle's by more than
+        :data:`torqlog.health.UNSTEADY_TOL`: the machine is running up or down."""
+        prev = np.concatenate(([self.last_speed_mean if self.last_speed_mean else
+                                speed_mean[0]], speed_mean[:-1]))
+        self.last_speed_mean = float(speed_mean[-1])
+        return np.abs(speed_mean / prev - 1.0) > health.UNSTEADY_TOL
 
     def _length_check(self, duration: np.ndarray) -> np.ndarray:
         """Cycles off the running median length (last 50 cycles) by more than
@@ -635,7 +654,12 @@ def _tracker_for(source: str, opts: CycleOptions, first: Chunk, path: str
     if source == "period":
         sig = first.channels.get("torque", first.channels.get("speed"))
         n = min(len(sig), 1 << 19)
-        est = ang.estimate_period(first.time[:n], sig[:n], path=path)
+        t = first.time[:n]
+        sig = np.where(np.isinf(sig[:n]), np.nan, sig[:n])
+        if not np.isnan(sig).all():  # spike runs would swamp the autocorrelation
+            sig = cond.fill_nan(t, sig)[0]
+            sig = health.bridge(t, sig, health.spike_runs(sig, health.ChannelScale.of(sig)))
+        est = ang.estimate_period(t, sig, path=path)
         period = est.period
         extra = {"period_s": est.period, "period_confidence": round(est.confidence, 4)}
         notes.append(f"no speed, angle or index channel: cycle period estimated from the "
@@ -728,7 +752,9 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     for role in sorted(st.dead):
         notes.append(f"the {role} channel holds one value from the start (a dead sensor or "
                      "a set-point, not a measurement)" + (
-                         ": cycles cut at that speed, Cs left empty" if role == "speed"
+                         ": cycles cut at that speed as if it were constant, Cs left empty, and the "
+                         "energy swing off by up to about Cs (the angle ignores the speed's "
+                         "swing)" if role == "speed"
                          else ""))
     opts = asdict(o)
     opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,

@@ -45,6 +45,9 @@ SPIKE_RUN_MAX = 8
 #: A spike leaves the channel's range [p0.1, p99.9] widened by this share of the range on
 #: each side (common practice: a genuine peak stays inside the range of its neighbours).
 ENVELOPE_MARGIN = 0.25
+#: Slowest shaft counted as running [rad/s] (about 5 rpm; common practice for the
+#: machines torqlog serves).
+MIN_RUNNING_SPEED = 0.5
 #: Below this share of the running speed the shaft is not running (stop, run-down, run-up).
 RUNNING_SHARE = 0.5
 #: A one-step change of speed larger than this share of the running speed is a sensor
@@ -56,6 +59,9 @@ FROZEN_CHANCE = 1e-6
 #: Cycles longer or shorter than the running median cycle by more than this share are
 #: flagged ``length`` (merged or split cycles; common practice).
 CYCLE_LENGTH_TOL = 0.2
+#: Cycles whose mean speed differs from the previous cycle's by more than this share are
+#: flagged ``unsteady`` (running up or down; common practice).
+UNSTEADY_TOL = 0.03
 #: Smallest share of the within-cycle variance the mean cycle must explain for a log to
 #: count as cyclic (common practice; a sine at a signal-to-noise ratio of 1 explains 0.5).
 MIN_CYCLIC_SHARE = 0.3
@@ -230,6 +236,23 @@ def speed_state(speed: np.ndarray, running: float, previous: float | None = None
     stop = low & ~dropout
     reversal = stop & (w < -0.05 * running)
     return dropout, stop, reversal
+
+
+def running_speed(speed: np.ndarray) -> float | None:
+    """The speed [rad/s] a machine runs at in a stretch of log, or None if it stands.
+
+    The median of the samples above half the 99.5th percentile (so stops, run-downs and
+    dropouts in the stretch do not pull it down); None when that percentile is below
+    :data:`MIN_RUNNING_SPEED`.
+    """
+    w = np.asarray(speed, dtype=np.float64)
+    w = w[:: max(1, w.size // 20_000)]
+    if w.size == 0:
+        return None
+    hi = float(np.percentile(w, 99.5))
+    if hi < MIN_RUNNING_SPEED:
+        return None
+    return float(np.median(w[w > 0.5 * hi]))
 
 
 def frozen_run_length(scale: ChannelScale, samples_per_rev: float | None = None) -> int:
