@@ -518,7 +518,7 @@ class _Stream:
             gap[cid[big]] = True
             gap[cid[np.maximum(big - 1, 0)]] = True
         # speed, per angle bin, low-passed in the angle domain
-        wmax = wmin = None
+        wmax = wmin = mine = None
         sp_bins_all = None
         bounds_sp = bounds_all
         if "speed" in self.has or self.speed_from_angle:
@@ -545,6 +545,8 @@ class _Stream:
             row["speed_max"], row["speed_min"] = wmax, wmin
         length = self._length_check(duration)
         unsteady = self._steady_check(w_mean)
+        if mine is not None:  # steady running ends a cycle at the speed it began with
+            unsteady |= np.abs(mine[:, -1] - mine[:, 0]) > health.UNSTEADY_TOL * w_mean
         B = health.BITS
         flags = np.full(n_emit, "", dtype=object)
         for name, mask in (("gap", gap), ("nan", (fault & B["nan"]) != 0),
