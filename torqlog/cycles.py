@@ -754,9 +754,9 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     for role in sorted(st.dead):
         notes.append(f"the {role} channel holds one value from the start (a dead sensor or "
                      "a set-point, not a measurement)" + (
-                         ": cycles cut at that speed as if it were constant, Cs left empty, and the "
-                         "energy swing off by up to about Cs (the angle ignores the speed's "
-                         "swing)" if role == "speed"
+                         ": cycles cut at that speed as if it were constant, Cs left empty, "
+                         "and the energy swing off by up to about Cs (the angle ignores the "
+                         "speed's swing)" if role == "speed"
                          else ""))
     opts = asdict(o)
     opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,
@@ -807,7 +807,7 @@ def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
                         "column of `torqlog cycles` for where")
     share = float("nan")
     for k in ("torque", "speed"):
-        if k + "1" in st.mean_acc:
+        if k + "1" in st.mean_acc and k not in st.dead:
             share = health.cyclic_share(st.mean_acc[k + "1"], st.mean_acc[k + "2"],
                                         st.mean_n)
             if share < health.MIN_CYCLIC_SHARE:
@@ -944,7 +944,7 @@ def _mean_cycle(st: _Stream) -> dict[str, np.ndarray]:
     df = {"angle": a}
     n = max(st.mean_n, 1)
     for k in ("torque", "speed"):
-        if k + "1" in st.mean_acc:
+        if k + "1" in st.mean_acc and k not in st.dead:
             m = st.mean_acc[k + "1"] / n
             var = np.maximum(st.mean_acc[k + "2"] / n - m * m, 0.0)
             df[k + "_mean"], df[k + "_sd"] = m, np.sqrt(var)
