@@ -55,6 +55,8 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
            f"{d['gaps']['list'][0]['after_s']:.6g} s, row {d['gaps']['list'][0]['row']})"
            if d["gaps"]["count"] else ""),
         "NaN rows    " + (", ".join(f"{k} {v}" for k, v in d["nan_rows"].items()) or "none"),
+        *([f"±inf rows   {', '.join(f'{k} {v}' for k, v in d['inf_rows'].items())}"]
+          if d["inf_rows"] else []),
         "clipped     " + (", ".join(f"{k} {v} samples" for k, v in d["clipped_samples"].items())
                           or "none found"),
         f"cycles from {d['cycle_source'] or '-'}: {d['cycle_source_note']}",
