@@ -590,31 +590,44 @@ class _Stream:
         """Flat runs of one channel over the emitted cycles: at a cycle's peak or minimum
         (≥ CLIP_RUN equal samples) the cycle is clipped; elsewhere, longer than the noise
         makes plausible (``frozen_len``), frozen. A standing machine is neither."""
+        i = cond.flat_run_index(x)  # samples in runs of ≥ CLIP_RUN equal values (few)
+        if not i.size:
+            return
         cid, off = sg.cid, sg.offsets
         top, bot = np.maximum.reduceat(x, off), np.minimum.reduceat(x, off)
-        moving = (fault & health.BITS["stop"]) == 0
-        n_tie = self.frozen_len.get(role, cond.CLIP_RUN)
-        if n_tie:  # clipped under noise: many samples tie with the extreme, not in one run
-            ties = np.add.reduceat((x == sg.spread(top)) & moving, off) + \
-                np.add.reduceat((x == sg.spread(bot)) & moving, off)
-            clipped |= ties >= max(n_tie, 2 * cond.CLIP_RUN)
-        for n, out in ((cond.CLIP_RUN, clipped), (self.frozen_len.get(role), frozen)):
-            i = cond.flat_run_index(x, n) if n else np.empty(0, dtype=np.int64)
-            if not i.size:
-                continue
-            c, v = cid[i], x[i]
-            at = (v == top[c]) | (v == bot[c])
-            hit = (at if out is clipped else ~at) & moving[i]
-            out[c[hit]] = True
-            if out is frozen and hit.any():
-                j = i[hit]
-                brk = np.flatnonzero(np.diff(j) != 1)
-                s0, e0 = j[np.concatenate(([0], brk + 1))], j[np.concatenate((brk, [j.size - 1]))]
-                self.event_count["frozen"] = self.event_count.get("frozen", 0) + int(s0.size)
-                room = max(_MAX_EVENTS - len(self.events), 0)
-                self.events.extend({"kind": "frozen", "channel": role, "start_s": a,
-                                    "end_s": b} for a, b in zip(
-                    t[s0[:room]].tolist(), t[e0[:room]].tolist(), strict=True))
+        stop = health.BITS["stop"]
+        c, v = cid[i], x[i]
+        at = (v == top[c]) | (v == bot[c])
+        moving = (fault[i] & stop) == 0
+        hit = at & moving
+        if hit.any():
+            clipped[c[hit]] = True
+            # a rail under noise: the samples that reach it tie with the extreme without
+            # forming one run; counted only once a run at an extreme was seen
+            n_tie = max(self.frozen_len.get(role, 0), 2 * cond.CLIP_RUN)
+            still = (fault & stop) != 0
+            ties = np.add.reduceat((x == sg.spread(top)) & ~still, off) + \
+                np.add.reduceat((x == sg.spread(bot)) & ~still, off)
+            clipped |= ties >= n_tie
+        n = self.frozen_len.get(role)
+        if not n:
+            return
+        # frozen: runs of ≥ n equal samples away from the cycle's extremes
+        brk = np.flatnonzero((np.diff(i) != 1) | (v[1:] != v[:-1])) + 1
+        first = np.concatenate(([0], brk))
+        length = np.diff(np.append(first, i.size))
+        sel = np.repeat(length >= n, length) & ~at & moving
+        if not sel.any():
+            return
+        frozen[c[sel]] = True
+        j = i[sel]
+        brk = np.flatnonzero(np.diff(j) != 1)
+        s0, e0 = j[np.concatenate(([0], brk + 1))], j[np.concatenate((brk, [j.size - 1]))]
+        self.event_count["frozen"] = self.event_count.get("frozen", 0) + int(s0.size)
+        room = max(_MAX_EVENTS - len(self.events), 0)
+        self.events.extend({"kind": "frozen", "channel": role, "start_s": a, "end_s": b}
+                           for a, b in zip(t[s0[:room]].tolist(), t[e0[:room]].tolist(),
+                                           strict=True))
 
     def _steady_check(self, speed_mean: np.ndarray) -> np.ndarray:
         """Cycles whose mean speed [rad/s] differs from the previous cycle's by more than
