@@ -480,3 +480,63 @@ def test_commands_agree_on_a_faulty_log(name, tmp_path):
     insp = run(cli, ["inspect", path, "--format", "json"])
     assert insp.exit_code == 0, insp.output
     assert "Warning" not in insp.stderr and "RuntimeWarning" not in cyc.stderr
+
+
+# ------------------------------------------------------------------ other cycle sources
+def test_torque_only_stop_is_flagged_and_reported(tmp_path):
+    # no speed channel: cycles from the torque's period; a stretch where the torque hardly
+    # moves is a stop (torqlog.health.QUIET_SHARE, common practice)
+    log = stop_restart(base("compressor"), at=0.5)
+    res = analyse_cycles(log.write(tmp_path / "q.csv", speed=False), _opts(log))
+    assert res.options["cycle_source"] == "period"
+    assert res.summary["flags"].get("stop", 0) >= 15
+    assert "torque quiet" in res.summary["not_running"][0]["what"]
+    clean = clean_stats("compressor", tmp_path)
+    assert res.summary["energy_swing_J"]["median"] == pytest.approx(clean["de_median"],
+                                                                    rel=0.005)
+
+
+def test_angle_channel_reversal_is_flagged(tmp_path):
+    sim = simulate("compressor", duration=8.0, rate=RATE, seed=3, channels="torque,angle")
+    d = sim.data
+    th = d["angle"].to_numpy().copy()
+    i = 4000
+    back = 1.5 * np.sin(np.linspace(0, np.pi, 300))  # turns back 1.5 rad and forward again
+    th[i:i + 300] = th[i] - back
+    th[i + 300:] = th[i + 300:] - (th[i + 300] - th[i])
+    wrapped = np.mod(th, 2 * np.pi)
+    path = tmp_path / "a.csv"
+    np.savetxt(path, np.column_stack((d["time"], d["torque"], np.degrees(wrapped))),
+               delimiter=",", header="time_s,torque_Nm,angle_deg", comments="", fmt="%.9g")
+    res = analyse_cycles(str(path))
+    assert res.options["cycle_source"] == "angle"
+    flag = res.columns["flag"]
+    a = res.columns["t_start_s"]
+    b = a + res.columns["duration_s"]
+    t0, t1 = d["time"][i], d["time"][i + 299]
+    touch = (a <= t1) & (b >= t0)
+    assert touch.any() and all("reversal" in f for f in flag[touch]), list(flag[touch])
+    assert res.summary["not_running"][0]["what"] == "reversal"
+    far = (b < t0 - 0.2) | (a > t1 + 0.2)
+    assert np.all(flag[far] == "")
+
+
+def test_index_source_missed_pulse_flags_the_merged_cycle(tmp_path):
+    sim = simulate("press", duration=16.0, rate=RATE, seed=3, channels="torque,index")
+    d = sim.data
+    idx = d["index"].to_numpy().copy()
+    hi = idx > 0.5 * (idx.max() + idx.min())
+    starts = _starts(hi)
+    k = starts[len(starts) // 2]  # blank one pulse: two revolutions read as one
+    e = _ends(hi)[len(starts) // 2]
+    idx[k:e + 1] = np.median(idx)
+    path = tmp_path / "i.csv"
+    np.savetxt(path, np.column_stack((d["time"], d["torque"], idx)), delimiter=",",
+               header="time_s,torque_Nm,index_V", comments="", fmt="%.9g")
+    res = analyse_cycles(str(path))
+    assert res.options["cycle_source"] == "index"
+    flag = res.columns["flag"]
+    merged = np.flatnonzero(res.columns["duration_s"] > 1.5 * np.median(
+        res.columns["duration_s"]))
+    assert merged.size == 1 and "length" in flag[merged[0]]
+    assert np.sum(flag != "") <= 2

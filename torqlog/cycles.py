@@ -295,6 +295,8 @@ class _Stream:
         self.durations = np.empty(0)
         self.dead: set[str] = set()
         self.last_speed_mean: float | None = None
+        self.theta_max = -np.inf
+        self.activity = np.empty(0)
 
     def feed(self, chunk: Chunk, final: bool) -> None:
         t = chunk.time
@@ -310,8 +312,10 @@ class _Stream:
                 channels[role] = for_angle
                 new[role] = x
         new["fault"] = fault
-        self._record_events(t, fault)
         theta = np.asarray(self.tracker.push(t, channels), dtype=np.float64)
+        if self.tracker.source in ("angle", "counts"):
+            self._angle_reversal(t, theta, fault)
+        self._record_events(t, fault)
         new["theta"] = self._anchor(t, theta)
         buf = new if self.carry is None else {
             k: np.concatenate((self.carry[k], new[k])) for k in new}
@@ -374,6 +378,20 @@ class _Stream:
             one &= ~still
             self.spikes += int(one.sum())
         return x, for_angle
+
+    def _angle_reversal(self, t: np.ndarray, theta: np.ndarray, fault: np.ndarray) -> None:
+        """A measured angle that runs back more than :data:`torqlog.health.REVERSAL_ANGLE`
+        behind its running maximum: the shaft turned backwards (jitter is far smaller)."""
+        fin = np.where(np.isfinite(theta), theta, -np.inf)
+        run = np.maximum.accumulate(np.concatenate(([self.theta_max], fin)))[1:]
+        self.theta_max = float(run[-1])
+        back = run - fin > health.REVERSAL_ANGLE
+        back &= np.isfinite(fin)
+        if back.any():
+            fault[back] |= health.BITS["reversal"]
+            s, e = health.runs(back)
+            self.stretches.extend(zip(t[s].tolist(), t[e - 1].tolist(),
+                                      ["reversal"] * s.size, strict=True))
 
     def _record_events(self, t: np.ndarray, fault: np.ndarray) -> None:
         """Keep the start and end [s] of each faulty or non-running stretch."""
@@ -544,6 +562,14 @@ class _Stream:
                 row["angle_speed_max"] = centre[np.argmax(mine, axis=1)]
             row["speed_max"], row["speed_min"] = wmax, wmin
         length = self._length_check(duration)
+        if tq is not None and ("speed" not in self.has or "speed" in self.dead):
+            # no speed to tell a stop by: a cycle whose torque hardly moves is not running
+            quiet = self._quiet(ce.torque_peak - ce.torque_min)
+            if quiet.any():
+                fault[quiet] |= health.BITS["stop"]
+                self.stretches.extend(
+                    (float(tb[k]), float(tb[k + 1]), "stop (torque quiet; no speed channel)")
+                    for k in np.flatnonzero(quiet))
         unsteady = self._steady_check(w_mean)
         if mine is not None:  # steady running ends a cycle at the speed it began with
             unsteady |= np.abs(mine[:, -1] - mine[:, 0]) > health.UNSTEADY_TOL * w_mean
@@ -628,6 +654,13 @@ class _Stream:
         self.events.extend({"kind": "frozen", "channel": role, "start_s": a, "end_s": b}
                            for a, b in zip(t[s0[:room]].tolist(), t[e0[:room]].tolist(),
                                            strict=True))
+
+    def _quiet(self, torque_range: np.ndarray) -> np.ndarray:
+        """Cycles whose torque range [N*m] is below :data:`torqlog.health.QUIET_SHARE` of
+        the running median (last 50 cycles): the machine stood or idled unloaded."""
+        hist = np.concatenate((self.activity, torque_range))
+        self.activity = hist[-50:]
+        return torque_range < health.QUIET_SHARE * float(np.median(hist))
 
     def _steady_check(self, speed_mean: np.ndarray) -> np.ndarray:
         """Cycles whose mean speed [rad/s] differs from the previous cycle's by more than

@@ -62,6 +62,12 @@ CYCLE_LENGTH_TOL = 0.2
 #: Cycles whose mean speed differs from the previous cycle's by more than this share are
 #: flagged ``unsteady`` (running up or down; common practice).
 UNSTEADY_TOL = 0.03
+#: A measured angle this far [rad] behind its running maximum is a reversal (about 6°;
+#: encoder jitter is a count or two).
+REVERSAL_ANGLE = 0.1
+#: Without a speed channel, a cycle whose torque range is below this share of the running
+#: median counts as not running (common practice).
+QUIET_SHARE = 0.2
 #: Smallest share of the within-cycle variance the mean cycle must explain for a log to
 #: count as cyclic (common practice; a sine at a signal-to-noise ratio of 1 explains 0.5).
 MIN_CYCLIC_SHARE = 0.3
