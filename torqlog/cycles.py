@@ -315,7 +315,6 @@ class _Stream:
         theta = np.asarray(self.tracker.push(t, channels), dtype=np.float64)
         if self.tracker.source in ("angle", "counts"):
             self._angle_reversal(t, theta, fault)
-        self._record_events(t, fault)
         new["theta"] = self._anchor(t, theta)
         buf = new if self.carry is None else {
             k: np.concatenate((self.carry[k], new[k])) for k in new}
@@ -335,11 +334,13 @@ class _Stream:
         if inf.any():
             raw = np.where(inf, np.nan, raw)
             fault[inf] |= B["nonfinite"]
+            self._event(role, "nonfinite", t, inf)
         x, bad = cond.fill_nan(t, raw)
         if bad.any():
             long = cond.long_runs(bad & ~inf, cond.NAN_REPAIR_RUN)
             self.nan_filled += int((bad & ~inf).sum() - long.sum())
             fault[long] |= B["nan"]
+            self._event(role, "nan", t, long)
         if role not in self.scales:
             self.scales[role] = health.ChannelScale.of(x)
         sc = self.scales[role]
@@ -347,6 +348,7 @@ class _Stream:
         if sp.any():
             x = health.bridge(t, x, sp)
             fault[sp] |= B["spikes"]
+            self._event(role, "spikes", t, sp)
         still = np.zeros(x.size, dtype=bool)
         if sc.high <= sc.low:  # one value from the start: a dead sensor or a set-point
             self.dead.add(role)
@@ -361,6 +363,7 @@ class _Stream:
             if drop.any():
                 x = health.bridge(t, x, drop)
                 fault[drop] |= B["dropout"]
+                self._event(role, "dropout", t, drop)
             fault[stop] |= B["stop"]
             fault[rev] |= B["reversal"]
             still = stop
@@ -393,21 +396,16 @@ class _Stream:
             self.stretches.extend(zip(t[s].tolist(), t[e - 1].tolist(),
                                       ["reversal"] * s.size, strict=True))
 
-    def _record_events(self, t: np.ndarray, fault: np.ndarray) -> None:
-        """Keep the start and end [s] of each faulty or non-running stretch."""
-        if not fault.any():
+    def _event(self, role: str, kind: str, t: np.ndarray, mask: np.ndarray) -> None:
+        """Count the faulty stretches of one kind and keep the first ones (start, end)."""
+        if not mask.any():
             return
-        for name, bit in health.BITS.items():
-            m = (fault & bit) != 0
-            if not m.any():
-                continue
-            s, e = health.runs(m)
-            self.event_count[name] = self.event_count.get(name, 0) + int(s.size)
-            room = _MAX_EVENTS - len(self.events)
-            if room > 0 and name not in ("stop", "reversal"):
-                self.events.extend({"kind": name, "start_s": a, "end_s": b}
-                                   for a, b in zip(t[s[:room]].tolist(),
-                                                   t[e[:room] - 1].tolist(), strict=True))
+        s, e = health.runs(mask)
+        self.event_count[kind] = self.event_count.get(kind, 0) + int(s.size)
+        room = max(_MAX_EVENTS - len(self.events), 0)
+        self.events.extend({"kind": kind, "channel": role, "start_s": a, "end_s": b}
+                           for a, b in zip(t[s[:room]].tolist(), t[e[:room] - 1].tolist(),
+                                           strict=True))
 
     def _record_stretches(self, t: np.ndarray, speed: np.ndarray, stop: np.ndarray,
                           rev: np.ndarray) -> None:
@@ -646,14 +644,9 @@ class _Stream:
         if not sel.any():
             return
         frozen[c[sel]] = True
-        j = i[sel]
-        brk = np.flatnonzero(np.diff(j) != 1)
-        s0, e0 = j[np.concatenate(([0], brk + 1))], j[np.concatenate((brk, [j.size - 1]))]
-        self.event_count["frozen"] = self.event_count.get("frozen", 0) + int(s0.size)
-        room = max(_MAX_EVENTS - len(self.events), 0)
-        self.events.extend({"kind": "frozen", "channel": role, "start_s": a, "end_s": b}
-                           for a, b in zip(t[s0[:room]].tolist(), t[e0[:room]].tolist(),
-                                           strict=True))
+        mask = np.zeros(x.size, dtype=bool)
+        mask[i[sel]] = True
+        self._event(role, "frozen", t, mask)
 
     def _quiet(self, torque_range: np.ndarray) -> np.ndarray:
         """Cycles whose torque range [N*m] is below :data:`torqlog.health.QUIET_SHARE` of

@@ -98,6 +98,10 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         *(f"note: {n}" for n in res.notes),
         *([f"flagged cycles: {', '.join(f'{k} {v}' for k, v in s['flags'].items())} "
            "(kept in the table, left out of the figures above)"] if s["flags"] else []),
+        *([f"not running: {len(s['not_running'])} stretch(es): " + "; ".join(
+            f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s"
+            for d in s["not_running"][:5]) + ("; ..." if len(s["not_running"]) > 5 else "")]
+          if s.get("not_running") else []),
         "",
     ])
     table = None  # the JSON needs no pandas table (and so no pandas)
