@@ -347,6 +347,10 @@ class _Stream:
         sp = health.spike_runs(x, sc)
         if sp.any():
             x = health.bridge(t, x, sp)
+            # a lone sample is repaired and counted (as despike does); a run is flagged
+            lone = sp & ~cond.long_runs(sp, 1)
+            self.spikes += int(lone.sum())
+            sp &= ~lone
             fault[sp] |= B["spikes"]
             self._event(role, "spikes", t, sp)
         still = np.zeros(x.size, dtype=bool)
