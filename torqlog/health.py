@@ -154,8 +154,8 @@ def spike_runs(x: np.ndarray, scale: ChannelScale, *, k: float = cond.SPIKE_K,
     Examples
     --------
     >>> import numpy as np
-    >>> x = np.sin(np.linspace(0, 20, 2000))
-    >>> x[500:504] = 50.0
+    >>> x = np.sin(np.linspace(0, 200, 20000))
+    >>> x[5000:5004] = 50.0
     >>> int(spike_runs(x, ChannelScale.of(x)).sum())
     4
     """
