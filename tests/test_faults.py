@@ -550,3 +550,22 @@ def test_index_source_missed_pulse_flags_the_merged_cycle(tmp_path):
         res.columns["duration_s"]))
     assert merged.size == 1 and "length" in flag[merged[0]]
     assert np.sum(flag != "") <= 2
+
+
+@pytest.mark.parametrize(("name", "make"), [
+    ("torque spike run", lambda g, at: spike_run(g, at=at, n=6)),
+    ("speed spike run", lambda g, at: spike_run(g, at=at, n=3, channel="speed", height=3.0)),
+    ("speed dropout", lambda g, at: speed_dropout(g, at=at)),
+    ("stop", lambda g, at: stop_restart(g, at=at)),
+])
+@pytest.mark.parametrize("offset", [-3, 0, 2])
+def test_faults_across_a_chunk_boundary(name, make, offset, tmp_path):
+    # the log is read in chunks of 2 000 rows; the fault starts a few samples before, on
+    # or after a boundary, and must be found whole
+    import dataclasses
+
+    log = base("compressor")
+    log = make(log, (4000 + offset) / log.t.size)
+    opts = dataclasses.replace(_opts(log), block_rows=2000)
+    res = analyse_cycles(log.write(tmp_path / "b.csv"), opts)
+    check_flagged(res, log, stats_of=clean_stats("compressor", tmp_path))

@@ -296,6 +296,7 @@ class _Stream:
         self.dead: set[str] = set()
         self.last_speed_mean: float | None = None
         self.theta_max = -np.inf
+        self.tails: dict[str, tuple[np.ndarray, np.ndarray]] = {}
         self.activity = np.empty(0)
 
     def feed(self, chunk: Chunk, final: bool) -> None:
@@ -344,15 +345,7 @@ class _Stream:
         if role not in self.scales:
             self.scales[role] = health.ChannelScale.of(x)
         sc = self.scales[role]
-        sp = health.spike_runs(x, sc)
-        if sp.any():
-            x = health.bridge(t, x, sp)
-            # a lone sample is repaired and counted (as despike does); a run is flagged
-            lone = sp & ~cond.long_runs(sp, 1)
-            self.spikes += int(lone.sum())
-            sp &= ~lone
-            fault[sp] |= B["spikes"]
-            self._event(role, "spikes", t, sp)
+        x = self._spike_runs(role, t, x, sc, fault)
         still = np.zeros(x.size, dtype=bool)
         if sc.high <= sc.low:  # one value from the start: a dead sensor or a set-point
             self.dead.add(role)
@@ -399,6 +392,35 @@ class _Stream:
             s, e = health.runs(back)
             self.stretches.extend(zip(t[s].tolist(), t[e - 1].tolist(),
                                       ["reversal"] * s.size, strict=True))
+
+    def _spike_runs(self, role: str, t: np.ndarray, x: np.ndarray,
+                    sc: health.ChannelScale, fault: np.ndarray) -> np.ndarray:
+        """Find spike runs in this chunk with the previous chunk's last samples in front,
+        so a run across the chunk boundary is seen whole; repair them; a lone sample is
+        counted as a one-sample spike, a run is flagged (also on the carried samples)."""
+        k = health.SPIKE_RUN_MAX + 1
+        tail = self.tails.get(role)
+        n0 = 0 if tail is None else tail[1].size
+        xx = x if tail is None else np.concatenate((tail[1], x))
+        sp = health.spike_runs(xx, sc)
+        if sp.any():
+            tt = t if tail is None else np.concatenate((tail[0], t))
+            xx = health.bridge(tt, xx, sp)
+            lone = sp & ~cond.long_runs(sp, 1)
+            self.spikes += int(lone.sum())
+            sp &= ~lone
+            self._event(role, "spikes", tt, sp)
+            fault[sp[n0:]] |= health.BITS["spikes"]
+            back = sp[:n0]
+            if back.any() and self.carry is not None:
+                m = min(n0, len(self.carry["time"]))
+                if m:
+                    self.carry["fault"][-m:][back[-m:]] |= health.BITS["spikes"]
+                    self.carry[role][-m:] = np.where(back[-m:], xx[n0 - m:n0],
+                                                     self.carry[role][-m:])
+            x = xx[n0:]
+        self.tails[role] = (t[-k:], x[-k:])
+        return x
 
     def _event(self, role: str, kind: str, t: np.ndarray, mask: np.ndarray) -> None:
         """Count the faulty stretches of one kind and keep the first ones (start, end)."""
