@@ -358,7 +358,9 @@ class _Stream:
             drop, stop, rev = health.speed_state(x, ref, self.prev_speed)
             self.prev_speed = float(x[-1])
             if drop.any():
-                x = health.bridge(t, x, drop)
+                lag = int(round(self.span / (ref * self.dt))) if self.dt else 0
+                hist = self.carry[role] if self.carry is not None else None
+                x = health.bridge_periodic(t, x, drop, lag, hist)
                 fault[drop] |= B["dropout"]
                 self._event(role, "dropout", t, drop)
             fault[stop] |= B["stop"]

@@ -202,6 +202,48 @@ def bridge(time: np.ndarray, x: np.ndarray, bad: np.ndarray) -> np.ndarray:
     return cond.fill_nan(time, y)[0]
 
 
+def bridge_periodic(time: np.ndarray, x: np.ndarray, bad: np.ndarray, lag: int,
+                    before: np.ndarray | None = None) -> np.ndarray:
+    """``x`` with the ``bad`` runs replaced by the signal one cycle earlier.
+
+    A cyclic signal repeats itself one cycle (``lag`` samples) back, so a missing stretch
+    is filled with the samples ``lag`` (or a whole multiple of it) before, plus a straight
+    line that makes both ends meet the good neighbours. A run with no cycle of history
+    before it is bridged by a straight line (:func:`bridge`).
+
+    Parameters
+    ----------
+    time : ndarray [s]
+    x : ndarray
+        Signal (any unit).
+    bad : ndarray of bool
+    lag : int
+        Samples per cycle.
+    before : ndarray, optional
+        The samples just before ``x`` (streaming history).
+    """
+    if not bad.any():
+        return x
+    k = 0 if before is None else before.size
+    xx = np.concatenate((before, x)) if k else np.array(x, dtype=np.float64)
+    n = xx.size
+    s, e = runs(bad)
+    linear = np.zeros(x.size, dtype=bool)
+    for a, b in zip((s + k).tolist(), (e + k).tolist(), strict=True):  # runs are few
+        if lag < 2 or a - lag < 1 or b >= n:
+            linear[a - k:b - k] = True
+            continue
+        idx = np.arange(a, b + 1)  # the run and its right neighbour
+        src = idx - ((idx - a) // lag + 1) * lag
+        copy = xx[src]
+        left = xx[a - 1] - xx[a - 1 - lag]  # mismatch at each end
+        right = xx[b] - copy[-1]
+        ramp = np.linspace(0.0, 1.0, idx.size)
+        xx[a:b] = (copy + left + (right - left) * ramp)[:-1]
+    out = xx[k:]
+    return bridge(time, out, linear) if linear.any() else out
+
+
 def speed_state(speed: np.ndarray, running: float, previous: float | None = None
                 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Dropouts, stops and reversals in a speed channel.
