@@ -4,7 +4,10 @@
 tracks the shaft angle, cuts a cycle every ``revs_per_cycle`` × 2π, and reduces each
 cycle to its figures (work, energy swing, Cs ...) with vectorised segment reductions. A
 cycle that spans a chunk boundary is carried over to the next chunk. Cycles with a gap,
-NaNs or clipped samples stay in the table with a ``flag`` and are left out of the summary.
+NaNs, clipped samples or another channel fault (:mod:`torqlog.health`: spike runs,
+dropouts, frozen runs, ±inf, stops, reversals, off-length or unsteady cycles) stay in the
+table with a ``flag`` and are left out of the summary; a log with no two clean cycles, or
+one that is not cyclic, is refused with the reason.
 
 References
 ----------
@@ -448,10 +451,10 @@ class _Stream:
                                   strict=True))
 
     def _anchor(self, t: np.ndarray, theta: np.ndarray) -> np.ndarray:
-        """Shift the angle after each gap by whole cycles so at most one cycle boundary
-        falls inside the gap: a long gap costs the cycle it interrupts, and the cycles
-        after it keep their phase (measured angle) or start at the gap (angle from time
-        or speed). Records gaps longer than a cycle as non-running stretches."""
+        """Shift the angle after each gap back by whole cycles so at most one cycle
+        boundary falls inside the gap: a long gap costs the cycle it interrupts (and the
+        one before), and the cycles after it keep the phase their angle source gives.
+        Records gaps longer than a cycle as non-running stretches."""
         theta = theta + self.theta_offset if self.theta_offset else theta
         prev_t, prev_th = self.last_time, self.last_theta
         self.last_time = float(t[-1])
@@ -840,50 +843,18 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
 
 def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
             ) -> dict[str, Any]:
-    """Faults, non-running stretches and running segments of a log; refuses a log with no
-    segment of two clean cycles, or one that is not cyclic, with the reason."""
-    merged: list[list[Any]] = []
-    tol = 2.0 * (st.dt or 0.0)
-    for a, b, kind in sorted(st.stretches):
-        if merged and a <= merged[-1][1] + tol:
-            merged[-1][1] = max(merged[-1][1], b)
-            if kind not in merged[-1][2]:
-                merged[-1][2].append(kind)
-        else:
-            merged.append([a, b, [kind]])
-    not_running = [{"start_s": a, "end_s": b, "what": " + ".join(k)} for a, b, k in merged]
-    t0, flag = table["t_start_s"], table["flag"]
-    edges = [-np.inf] + [x for a, b, _ in merged for x in (a, b)] + [np.inf]
-    segs = []
-    for a, b in zip(edges[::2], edges[1::2], strict=True):
-        inside = (t0 >= a) & (t0 < b)
-        if inside.any():
-            segs.append({"start_s": float(t0[inside][0]), "end_s": float(b) if np.isfinite(b)
-                         else float(t0[inside][-1] + table["duration_s"][inside][-1]),
-                         "cycles": int(inside.sum()),
-                         "clean": int((inside & (flag == "")).sum())})
-    clean = int((flag == "").sum())
-    counts = Counter(r for f in flag[flag != ""] for r in f.split("+"))
-    if clean < 2:
-        why = ", ".join(f"{k} {v}" for k, v in counts.most_common())
-        stops = f"; not running: {len(not_running)} stretch(es), " + ", ".join(
-            f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s" for d in not_running[:3]
-        ) if not_running else ""
-        raise DataError(f"{path}: no running stretch holds 2 clean cycles ({len(flag)} "
-                        f"cycle(s), {clean} clean; flagged: {why}{stops}); see the flag "
-                        "column of `torqlog cycles` for where")
+    """Faults, non-running stretches and running segments of a log (summary keys);
+    refuses a log with no segment of two clean cycles, or one that is not cyclic."""
+    not_running, segs = health.running_segments(
+        st.stretches, table["t_start_s"], table["duration_s"], table["flag"],
+        join=2.0 * (st.dt or 0.0))
+    health.refuse_without_clean_cycles(path, table["flag"], not_running)
     share = float("nan")
     for k in ("torque", "speed"):
         if k + "1" in st.mean_acc and k not in st.dead:
             share = health.cyclic_share(st.mean_acc[k + "1"], st.mean_acc[k + "2"],
                                         st.mean_n)
-            if share < health.MIN_CYCLIC_SHARE:
-                raise DataError(
-                    f"{path}: the log is not cyclic: over {st.mean_n} clean cycles the mean "
-                    f"cycle explains {share:.0%} of the {k} variation within cycles (a "
-                    f"cyclic machine: at least {health.MIN_CYCLIC_SHARE:.0%}); check the "
-                    f"cycle source ({source!r}) and the revs per cycle, or that the machine "
-                    "was running")
+            health.refuse_if_not_cyclic(path, share, st.mean_n, k, source)
             break
     return {"cyclic_share": None if share != share else round(share, 4),
             "faults": {k: st.event_count[k] for k in health.BITS if k in st.event_count},

@@ -31,11 +31,14 @@ References
 from __future__ import annotations
 
 import math
+from collections import Counter
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
 from torqlog import condition as cond
+from torqlog.errors import DataError
 
 #: Bit of each per-sample fault in the mask the cycle stage carries, and its flag name.
 BITS: dict[str, int] = {"nan": 1, "nonfinite": 2, "spikes": 4, "dropout": 8, "frozen": 16,
@@ -337,3 +340,77 @@ def cyclic_share(s1: np.ndarray, s2: np.ndarray, n: int) -> float:
     between = max(float(np.var(m)) - within / n, 0.0)
     total = between + within
     return between / total if total > 0 else 0.0
+
+
+def running_segments(stretches: list[tuple[float, float, str]], t_start: np.ndarray,
+                     duration: np.ndarray, flag: np.ndarray, join: float = 0.0
+                     ) -> tuple[list[dict[str, Any]], list[dict[str, Any]]]:
+    """Non-running stretches merged, and the running segments between them.
+
+    Parameters
+    ----------
+    stretches : list of (start [s], end [s], what)
+        Stops, run-downs, reversals, gaps as found (may overlap).
+    t_start, duration : ndarray [s]
+        Start and length of each cycle.
+    flag : ndarray of str
+        Each cycle's flags ("" when clean).
+    join : float [s]
+        Stretches closer than this are one.
+
+    Returns
+    -------
+    not_running : list of dict
+        ``start_s``, ``end_s``, ``what`` (kinds joined by " + ").
+    segments : list of dict
+        ``start_s``, ``end_s``, ``cycles``, ``clean`` of each running segment.
+    """
+    merged: list[list[Any]] = []
+    for a, b, kind in sorted(stretches):
+        if merged and a <= merged[-1][1] + join:
+            merged[-1][1] = max(merged[-1][1], b)
+            if kind not in merged[-1][2]:
+                merged[-1][2].append(kind)
+        else:
+            merged.append([a, b, [kind]])
+    not_running = [{"start_s": a, "end_s": b, "what": " + ".join(k)} for a, b, k in merged]
+    edges = [-np.inf] + [x for a, b, _ in merged for x in (a, b)] + [np.inf]
+    segs = []
+    for a, b in zip(edges[::2], edges[1::2], strict=True):
+        inside = (t_start >= a) & (t_start < b)
+        if inside.any():
+            end = float(b) if np.isfinite(b) else float(t_start[inside][-1] +
+                                                        duration[inside][-1])
+            segs.append({"start_s": float(t_start[inside][0]), "end_s": end,
+                         "cycles": int(inside.sum()),
+                         "clean": int((inside & (flag == "")).sum())})
+    return not_running, segs
+
+
+def refuse_without_clean_cycles(path: str, flag: np.ndarray,
+                                not_running: list[dict[str, Any]], need: int = 2) -> None:
+    """Raise DataError naming the flags and the stops when fewer than ``need`` cycles are
+    clean: no running segment holds enough for a statistic."""
+    clean = int((flag == "").sum())
+    if clean >= need:
+        return
+    counts = Counter(r for f in flag[flag != ""] for r in f.split("+"))
+    why = ", ".join(f"{k} {v}" for k, v in counts.most_common())
+    stops = f"; not running: {len(not_running)} stretch(es), " + ", ".join(
+        f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s" for d in not_running[:3]
+    ) if not_running else ""
+    raise DataError(f"{path}: no running stretch holds {need} clean cycles ({len(flag)} "
+                    f"cycle(s), {clean} clean; flagged: {why}{stops}); see the flag column "
+                    "of `torqlog cycles` for where")
+
+
+def refuse_if_not_cyclic(path: str, share: float, cycles: int, channel: str,
+                         source: str) -> None:
+    """Raise DataError with the measured figure when the mean cycle explains less than
+    :data:`MIN_CYCLIC_SHARE` of the variation within cycles (see :func:`cyclic_share`)."""
+    if share < MIN_CYCLIC_SHARE:
+        raise DataError(
+            f"{path}: the log is not cyclic: over {cycles} clean cycles the mean cycle "
+            f"explains {share:.0%} of the {channel} variation within cycles (a cyclic "
+            f"machine: at least {MIN_CYCLIC_SHARE:.0%}); check the cycle source "
+            f"({source!r}) and the revs per cycle, or that the machine was running")
