@@ -69,6 +69,8 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
            f"{d['gaps']['list'][0]['after_s']:.6g} s, row {d['gaps']['list'][0]['row']})"
            if d["gaps"]["count"] else ""),
         "NaN rows    " + (", ".join(f"{k} {v}" for k, v in d["nan_rows"].items()) or "none"),
+        *([f"±inf rows   {', '.join(f'{k} {v}' for k, v in d['inf_rows'].items())}"]
+          if d["inf_rows"] else []),
         "clipped     " + (", ".join(f"{k} {v} samples" for k, v in d["clipped_samples"].items())
                           or "none found"),
         f"cycles from {d['cycle_source'] or '-'}: {d['cycle_source_note']}",
@@ -111,6 +113,10 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         *(f"note: {n}" for n in res.notes),
         *([f"flagged cycles: {', '.join(f'{k} {v}' for k, v in s['flags'].items())} "
            "(kept in the table, left out of the figures above)"] if s["flags"] else []),
+        *([f"not running: {len(s['not_running'])} stretch(es): " + "; ".join(
+            f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s"
+            for d in s["not_running"][:5]) + ("; ..." if len(s["not_running"]) > 5 else "")]
+          if s.get("not_running") else []),
         "",
     ])
     table = None  # the JSON needs no pandas table (and so no pandas)
