@@ -185,7 +185,7 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
     ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
             color=PALETTE["reference"], ms=10, label="bearing")
     state = "after" if result.after is not None else "current"
-    ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× highest forcing "
+    ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× shaft speed "
                  f"{cur.forcing_hz:.2f} Hz: {cur.verdict}")
     ax.set_xlabel("position along shaft x [m]")
     ax.set_ylabel("relative deflection [-]")

@@ -50,7 +50,16 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "segments": (list, None),
         "masses": (list, None),
         "required_ratio": ((int, float), 1.0),
+        "separation_margin": ((int, float), 1.0),
         "self_weight": (bool, None),
+        "surface": (str, None),
+        "ultimate_strength_MPa": ((int, float), 1e6),
+        "yield_strength_MPa": ((int, float), 1e6),
+        "reliability": ((int, float), 1.0),
+        "temperature_C": ((int, float), 1.0),
+        "service_factor": ((int, float), 1.0),
+        "bearing_ratings_N": (list, None),
+        "bearing_type": (str, None),
     },
     "torsional": {
         "names": (list, None),
@@ -66,8 +75,9 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
     },
 }
 
-_SEGMENT_KEYS = {"length_m", "diameter_m", "bore_m", "material"}
-_MASS_KEYS = {"name", "mass_kg", "at_m", "inertia_kgm2"}
+_SEGMENT_KEYS = {"length_m", "diameter_m", "bore_m", "material", "fillet_m"}
+_MASS_KEYS = {"name", "mass_kg", "at_m", "inertia_kgm2", "seat", "hub_length_m",
+              "key_width_m", "key_height_m", "key_length_m"}
 
 
 @dataclass(frozen=True)

@@ -503,7 +503,12 @@ def fe_modes(model: ShaftModel, n: int = 3, *, rotary_inertia: bool = False,
 
 @dataclass(frozen=True, eq=False)
 class LateralResult:
-    """Lateral check of one shaft layout. ``to_dict()`` is the JSON contract."""
+    """Lateral check of one shaft layout. ``to_dict()`` is the JSON contract.
+
+    ``forcing_hz`` is the running speed of the shaft itself (1×, unbalance) and
+    ``forcing_2x_hz`` twice that (misalignment); ``ratio`` is the first lateral natural
+    frequency over 1×. Torque orders do not drive lateral modes and are not used here.
+    """
 
     rayleigh_hz: float
     dunkerley_hz: float
@@ -519,6 +524,14 @@ class LateralResult:
     x: np.ndarray = field(repr=False)           # node positions [m]
     deflection: np.ndarray = field(repr=False)  # static deflection [m]
     mode_shapes: np.ndarray = field(repr=False)  # (n_modes, n_nodes)
+    margin: float = 0.15
+    regime: str = "stiff"
+    separation: tuple[dict[str, Any], ...] = ()
+
+    @property
+    def forcing_2x_hz(self) -> float:
+        """Twice the shaft speed (misalignment) [Hz]."""
+        return 2.0 * self.forcing_hz
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract (frequencies in Hz, deflection in mm)."""
@@ -528,28 +541,48 @@ class LateralResult:
             "fe_hz": list(self.fe_hz),
             "static_deflection_max_mm": self.static_deflection_max * 1e3,
             "forcing_hz": self.forcing_hz,
+            "forcing_2x_hz": self.forcing_2x_hz,
             "ratio": self.ratio,
             "required_ratio": self.required_ratio,
+            "separation_margin": self.margin,
+            "regime": self.regime,
+            "separation": [dict(d) for d in self.separation],
             "verdict": self.verdict,
             "margin_text": self.margin_text,
             "method": self.method,
         }
 
 
-def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
-                  required_ratio: float = 3.0, *, include_self_weight: bool = False,
+def lateral_check(model: ShaftModel, shaft_speed_hz: float, required_ratio: float = 3.0,
+                  *, margin: float = 0.15, include_self_weight: bool = False,
                   method: str = "fe", n_modes: int = 3, rotary_inertia: bool = False
                   ) -> LateralResult:
-    """Hold the first lateral natural frequency against the highest forcing frequency.
+    """Hold the lateral natural frequencies against 1× and 2× the shaft's own speed.
+
+    Lateral modes are driven by unbalance (once per revolution of the shaft that carries
+    the masses) and misalignment (twice per revolution); the orders of the torque drive
+    torsional modes and are held against those in :mod:`torqlog.torsion`.
+
+    Two rules, both common practice (no published source):
+
+    * a *stiff* shaft runs below its first critical speed, and the first critical must be
+      at least ``required_ratio`` × the running speed (3 to 4 is usual; default 3);
+    * a shaft whose first critical lies below 1× (a *flexible* shaft, run through its
+      first critical) needs every lateral mode at least ``margin`` (default ±15 %) away
+      from 1× and 2×.
+
+    A shaft whose first critical lies between 1× and ``required_ratio`` × fails the stiff
+    rule.
 
     Parameters
     ----------
     model : ShaftModel
-    forcing_hz : float or sequence of float [Hz]
-        Forcing frequencies; the highest one counts.
+    shaft_speed_hz : float [Hz]
+        Running speed of this shaft (the flywheel shaft speed ratio already applied).
     required_ratio : float
-        Required ratio of first natural frequency to highest forcing frequency. The
-        default 3 is common practice (3 to 4 is usual).
+        Required first critical / running speed for a stiff shaft (default 3).
+    margin : float
+        Separation margin of every mode from 1× and 2× for a flexible shaft (default 0.15).
     include_self_weight : bool
         Include the shaft's own mass in Rayleigh and Dunkerley and its weight in the
         static deflection (the finite-element modes always include the shaft's mass).
@@ -559,15 +592,23 @@ def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
     Returns
     -------
     LateralResult
+
+    References
+    ----------
+    Thomson and Dahleh, *Theory of Vibration with Applications*, whirling of rotating
+    shafts (critical speed at the lateral natural frequency, excited by unbalance at 1×).
     """
     if method not in LATERAL_METHODS:
         raise UsageError(f"unknown lateral method {method!r}; valid: "
                          f"{', '.join(LATERAL_METHODS)}")
-    forcing = float(np.max(np.atleast_1d(np.asarray(forcing_hz, float))))
-    if not forcing > 0:
-        raise UsageError(f"forcing frequency must be positive, got {forcing:g} Hz")
-    if not required_ratio > 0:
-        raise UsageError(f"required ratio must be positive, got {required_ratio:g}")
+    speed_hz = float(shaft_speed_hz)
+    if not speed_hz > 0:
+        raise UsageError(f"shaft speed must be positive, got {speed_hz:g} Hz")
+    if not required_ratio > 1:
+        raise UsageError(f"required ratio must be greater than 1, got {required_ratio:g}")
+    if not 0 < margin < 1:
+        raise UsageError(f"separation margin must be a fraction between 0 and 1, "
+                         f"got {margin:g}")
     has_mass = bool(model.masses) or include_self_weight
     f_r = rayleigh(model, include_self_weight) if has_mass else math.nan
     f_d = dunkerley(model, include_self_weight) if has_mass else math.nan
@@ -575,15 +616,37 @@ def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
     x, y = static_deflection(model, include_self_weight)
     first = {"fe": float(freqs[0]) if len(freqs) else math.nan,
              "rayleigh": f_r, "dunkerley": f_d}[method]
-    ratio = first / forcing
-    verdict = "pass" if ratio >= required_ratio else "fail"
+    ratio = first / speed_hz
     label = {"fe": "first lateral mode", "rayleigh": "Rayleigh estimate",
              "dunkerley": "Dunkerley estimate"}[method]
-    text = (f"{label} {first:.1f} Hz is {ratio:.1f}× the highest forcing {forcing:.2f} Hz "
-            f"(required {required_ratio:g}×): {verdict}")
+    modes = np.array([first, *[float(f) for f in freqs[1:]]]) if method == "fe" else \
+        np.array([first])
+    sep = []
+    for f in modes:
+        for mult in (1, 2):
+            sep.append({"mode_hz": float(f), "multiple": mult,
+                        "forcing_hz": mult * speed_hz,
+                        "separation": float(f / (mult * speed_hz) - 1.0)})
+    if ratio >= required_ratio:
+        regime, verdict = "stiff", "pass"
+        text = (f"{label} {first:.1f} Hz is {ratio:.1f}× the shaft speed {speed_hz:.2f} Hz "
+                f"(stiff shaft, required {required_ratio:g}×): pass")
+    elif ratio > 1.0:
+        regime, verdict = "stiff", "fail"
+        text = (f"{label} {first:.1f} Hz is only {ratio:.1f}× the shaft speed "
+                f"{speed_hz:.2f} Hz (stiff shaft, required {required_ratio:g}×): fail")
+    else:
+        regime = "flexible"
+        worst = min(sep, key=lambda d: abs(d["separation"]))
+        verdict = "pass" if abs(worst["separation"]) >= margin else "fail"
+        text = (f"{label} {first:.1f} Hz lies below the shaft speed {speed_hz:.2f} Hz "
+                f"(flexible shaft); nearest: mode {worst['mode_hz']:.1f} Hz is "
+                f"{worst['separation'] * 100:+.0f} % from {worst['multiple']}× "
+                f"(required ±{margin * 100:g} %): {verdict}")
     return LateralResult(f_r, f_d, tuple(float(f) for f in freqs),
-                         float(np.max(np.abs(y))), forcing, float(ratio),
-                         float(required_ratio), verdict, text, method, model, x, y, shapes)
+                         float(np.max(np.abs(y))), speed_hz, float(ratio),
+                         float(required_ratio), verdict, text, method, model, x, y, shapes,
+                         float(margin), regime, tuple(sep))
 
 
 # --------------------------------------------------------------------------- the check
@@ -658,8 +721,8 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
                 add_inertia: float | None = None, add_inertia_at: str | None = None,
                 required_ratio: float | None = None, band: float | None = None,
                 min_share: float | None = None, self_weight: bool | None = None,
-                material: str | None = None, revs_per_cycle: int | None = None
-                ) -> ShaftResult:
+                material: str | None = None, revs_per_cycle: int | None = None,
+                margin: float | None = None) -> ShaftResult:
     """Check a machine's shaft, lateral and torsional, before and after adding parts.
 
     Parameters
@@ -670,9 +733,9 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         Shaft speed; default the profile's ``[machine] speed_rpm``.
     orders : OrderSpectrum, mapping, sequence or None
         Orders of the shaft speed present in the torque (see
-        :func:`torqlog.torsion.torsional_check`).
-        The lateral forcing is the highest significant order times the speed, at least
-        the running speed of the ``[shaft]`` itself (1×, unbalance), which turns at
+        :func:`torqlog.torsion.torsional_check`); they are held against the torsional
+        modes only. The lateral modes are held against 1× (unbalance) and 2×
+        (misalignment) the speed of the ``[shaft]`` itself, which turns at
         ``[machine] flywheel_speed_ratio`` × ``speed`` (the shaft described is the one that
         carries the flywheel).
     add_mass : float, optional [kg]
@@ -686,6 +749,10 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     required_ratio, band, min_share, self_weight
         Default: the profile's ``[shaft]`` / ``[torsional]`` values, else 3.0 (common
         practice), 0.10 (common practice), 0.05 and False.
+    margin : float, optional
+        Lateral separation margin from 1× and 2× for a shaft running above its first
+        critical; default the profile's ``[shaft] separation_margin``, else 0.15 (common
+        practice).
     material : str, optional
         Overrides ``[shaft] material``.
     revs_per_cycle : int, optional
@@ -715,15 +782,17 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     at_name = add_inertia_at or "flywheel"
 
     o, _, orders_source = significant_orders(orders, min_share, revs)
-    forcing_order = float(max(1.0, o.max() if len(o) else 1.0))
+    forcing_order = float(o.max()) if len(o) else math.nan
     speed_hz = speed / (2 * math.pi)
     # [shaft] describes the shaft that carries the flywheel, turning at
-    # flywheel_speed_ratio × the logged speed: its own 1× (unbalance) is a forcing too
+    # flywheel_speed_ratio × the logged speed: its 1× (unbalance) and 2× (misalignment)
+    # drive the lateral modes; the torque orders drive only the torsional ones
     shaft_ratio = float(profile.machine.get("flywheel_speed_ratio", 1.0))
-    lateral_forcing_hz = max(forcing_order, shaft_ratio) * speed_hz
+    shaft_speed_hz = shaft_ratio * speed_hz
+    margin = _pick(margin, profile.shaft.get("separation_margin"), 0.15)
 
     def state(m: ShaftModel, c: TorsionalChain | None) -> ShaftState:
-        lat = lateral_check(m, lateral_forcing_hz, required_ratio,
+        lat = lateral_check(m, shaft_speed_hz, required_ratio, margin=margin,
                             include_self_weight=self_weight)
         tor = (torsional_check(c, orders, speed, band, min_share, revs_per_cycle=revs)
                if c is not None else None)
@@ -768,8 +837,13 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         "speed_rpm": speed * 60 / (2 * math.pi), "speed_hz": speed_hz,
         "revs_per_cycle": revs, "required_ratio": required_ratio, "band": band,
         "min_share": min_share, "self_weight": self_weight,
-        "orders_source": orders_source, "forcing_order": forcing_order,
-        "shaft_speed_ratio": shaft_ratio,
+        "orders_source": orders_source,
+        "forcing_order": None if math.isnan(forcing_order) else forcing_order,
+        "shaft_speed_ratio": shaft_ratio, "shaft_speed_hz": shaft_speed_hz,
+        "separation_margin": margin,
+        "lateral_forcing": "1× (unbalance) and 2× (misalignment) of the flywheel shaft "
+                           "speed; torque orders act on the torsional modes only",
+        "gyroscopic": "not included (non-rotating modes)",
         "material": material or profile.shaft.get("material", "steel"),
         "modulus_GPa": model.modulus / 1e9, "density_kg_per_m3": model.density,
         "supports": "simple (rigid)", "lateral_mass": "consistent shaft mass + point masses",
