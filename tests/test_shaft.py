@@ -249,7 +249,8 @@ def test_check_shaft_before_after_contract():
     res = check_shaft(prof, add_mass=600.0, add_inertia=150.0)
     d = res.to_dict()
     assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed",
-                      "cautions", "options"}
+                      "cautions", "options", "forced_response", "strength",
+                      "fatigue_safety_factor", "governing_section"}
     assert (d["verdict"], d["failed"]) == ("pass", [])
     assert set(d["lateral"]) >= {"rayleigh_hz", "dunkerley_hz", "fe_hz",
                                  "static_deflection_max_mm", "forcing_hz", "ratio",

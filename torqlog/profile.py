@@ -60,6 +60,7 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "service_factor": ((int, float), 1.0),
         "bearing_ratings_N": (list, None),
         "bearing_type": (str, None),
+        "fatigue_method": (str, None),
     },
     "torsional": {
         "names": (list, None),
@@ -67,6 +68,8 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "stiffness_Nm_per_rad": (list, None),
         "band": ((int, float), 1.0),
         "min_share": ((int, float), 1.0),
+        "damping_ratio": ((int, float), 1.0),
+        "excitation_at": (str, None),
     },
     "shifts": {
         "starts": (list, None),

@@ -346,6 +346,40 @@ def _require_masses(model: ShaftModel, include_self_weight: bool, method: str) -
         raise UsageError(f"{method} needs masses on the shaft or its self weight")
 
 
+def support_reactions(model: ShaftModel) -> np.ndarray:
+    """Upward reaction [N] at each bearing under the weights of the point masses.
+
+    From the finite-element solution (R = K u - f at the supported deflections), so it
+    holds for two bearings and for statically indeterminate shafts on more.
+
+    References
+    ----------
+    Przemieniecki (1968), reactions from the assembled stiffness matrix.
+    """
+    beam, mass_nodes = _mesh(model)
+    weights = GRAVITY * np.array([m.mass for m in model.masses])
+    load = load_vector(len(beam.nodes), mass_nodes, weights, beam.element_length, None)
+    u = solve_static(beam.stiffness, load, beam.free)
+    r = beam.stiffness @ u - load
+    nodes = nearest_nodes(beam.nodes, np.asarray(model.bearings))
+    # deflection is positive down in the load vector: the reaction pushes up
+    return -r[2 * nodes]
+
+
+def bending_moment(model: ShaftModel, x: np.ndarray) -> np.ndarray:
+    """Bending moment [N*m] along the shaft under the weights of the point masses.
+
+    Statics of the free body left of x with the reactions of :func:`support_reactions`
+    (shaft self weight neglected).
+    """
+    x = np.atleast_1d(np.asarray(x, float))
+    pos = np.concatenate([np.asarray(model.bearings), [m.at for m in model.masses]])
+    force = np.concatenate([support_reactions(model),
+                            [-GRAVITY * m.mass for m in model.masses]])
+    arm = x[:, None] - pos[None, :]
+    return np.where(arm > 0, arm * force[None, :], 0.0).sum(axis=1)
+
+
 def shaft_mesh(model: ShaftModel, max_element: float | None = None) -> np.ndarray:
     """Node positions [m] of the finite-element mesh (rows of the mode shapes)."""
     return _mesh(model, max_element)[0].nodes
@@ -652,14 +686,19 @@ def lateral_check(model: ShaftModel, shaft_speed_hz: float, required_ratio: floa
 # --------------------------------------------------------------------------- the check
 @dataclass(frozen=True, eq=False)
 class ShaftState:
-    """Lateral and torsional results of one configuration (torsional may be None)."""
+    """Lateral and torsional results of one configuration (torsional may be None), and
+    with a log the torsional forced response and the shaft strength."""
 
     lateral: LateralResult
     torsional: TorsionalResult | None
+    response: Any = None   # ForcedResponse or None
+    strength: Any = None   # StrengthResult or None
 
     def to_dict(self) -> dict[str, Any]:
         return {"lateral": self.lateral.to_dict(),
-                "torsional": self.torsional.to_dict() if self.torsional else None}
+                "torsional": self.torsional.to_dict() if self.torsional else None,
+                "forced_response": self.response.to_dict() if self.response else None,
+                "strength": self.strength.to_dict() if self.strength else None}
 
 
 @dataclass(frozen=True, eq=False)
@@ -681,7 +720,8 @@ class ShaftResult:
     @property
     def failures(self) -> dict[str, str]:
         """Failed checks of the current state: {"lateral" | "torsional": margin text}."""
-        checks = {"lateral": self.current.lateral, "torsional": self.current.torsional}
+        checks = {"lateral": self.current.lateral, "torsional": self.current.torsional,
+                  "strength": self.current.strength}
         return {name: res.margin_text for name, res in checks.items()
                 if res is not None and res.verdict == "fail"}
 
@@ -709,9 +749,14 @@ class ShaftResult:
 
     def to_dict(self) -> dict[str, Any]:
         cur = self.current.to_dict()
+        strength = self.current.strength
         return {"before": self.before.to_dict(),
                 "after": self.after.to_dict() if self.after else None,
                 "lateral": cur["lateral"], "torsional": cur["torsional"],
+                "forced_response": cur["forced_response"], "strength": cur["strength"],
+                "fatigue_safety_factor": strength.fatigue_safety_factor if strength else None,
+                "governing_section": strength.to_dict()["governing_section"]
+                if strength else None,
                 "verdict": self.verdict, "failed": list(self.failures),
                 "cautions": list(self.cautions), "options": dict(self.options)}
 
@@ -722,7 +767,10 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
                 required_ratio: float | None = None, band: float | None = None,
                 min_share: float | None = None, self_weight: bool | None = None,
                 material: str | None = None, revs_per_cycle: int | None = None,
-                margin: float | None = None) -> ShaftResult:
+                margin: float | None = None, cycle_torque: np.ndarray | None = None,
+                torque_peak_logged: float | None = None, damping_ratio: float | None = None,
+                fatigue_method: str | None = None, excitation_at: str | None = None
+                ) -> ShaftResult:
     """Check a machine's shaft, lateral and torsional, before and after adding parts.
 
     Parameters
@@ -791,12 +839,20 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     shaft_speed_hz = shaft_ratio * speed_hz
     margin = _pick(margin, profile.shaft.get("separation_margin"), 0.15)
 
+    strength_ctx = (_strength_context(profile, model, damping_ratio, fatigue_method,
+                                      excitation_at, speed, shaft_ratio)
+                    if cycle_torque is not None else None)
+
     def state(m: ShaftModel, c: TorsionalChain | None) -> ShaftState:
         lat = lateral_check(m, shaft_speed_hz, required_ratio, margin=margin,
                             include_self_weight=self_weight)
         tor = (torsional_check(c, orders, speed, band, min_share, revs_per_cycle=revs)
                if c is not None else None)
-        return ShaftState(lat, tor)
+        if strength_ctx is None:
+            return ShaftState(lat, tor)
+        resp, strength = _response_and_strength(strength_ctx, m, c, cycle_torque, revs,
+                                                torque_peak_logged)
+        return ShaftState(lat, tor, resp, strength)
 
     before = state(model, chain)
     after = None
@@ -850,7 +906,96 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         "add_mass_kg": add_mass, "add_mass_at_m": add_mass_at,
         "add_inertia_kgm2": add_inertia, "add_inertia_at": at_name,
     }
+    if strength_ctx is not None:
+        options.update(strength_ctx["options"])
+        cautions += strength_ctx["notes"]
     return ShaftResult(before, after, tuple(cautions), options, float(speed))
+
+
+def _strength_context(profile: MachineProfile, model: ShaftModel, damping_ratio: Any,
+                      method: Any, excitation_at: Any, speed: float, shaft_ratio: float
+                      ) -> dict[str, Any]:
+    """Options and profile details shared by the before and after strength checks."""
+    from torqlog.shaft_strength import StrengthOptions, details_from_profile
+    from torqlog.strength import DEFAULT_SHAFT_STEEL, FATIGUE_METHODS
+    from torqlog.torsional_response import DEFAULT_DAMPING_RATIO
+
+    src = profile.source or "<profile>"
+    sec, tor = profile.shaft, profile.torsional
+    details = details_from_profile(model, sec, src)
+    method = _pick(method, sec.get("fatigue_method"), "goodman")
+    if method not in FATIGUE_METHODS:
+        raise UsageError(f"unknown fatigue method {method!r}; valid: "
+                         f"{', '.join(FATIGUE_METHODS)}")
+    given = "ultimate_strength_MPa" in sec and "yield_strength_MPa" in sec
+    opts = StrengthOptions(
+        ultimate=float(sec.get("ultimate_strength_MPa", DEFAULT_SHAFT_STEEL[1])),
+        yield_strength=float(sec.get("yield_strength_MPa", DEFAULT_SHAFT_STEEL[2])),
+        material=(f"{sec.get('material', 'steel')} (strengths from the profile)" if given
+                  else DEFAULT_SHAFT_STEEL[0]),
+        surface=str(sec.get("surface", "machined")),
+        reliability=float(sec.get("reliability", 0.99)),
+        temperature=float(sec.get("temperature_C", 20.0)), method=method,
+        service_factor=float(sec.get("service_factor", 1.5)),
+        roller_bearings=str(sec.get("bearing_type", "ball")) == "roller")
+    notes = []
+    if not given:
+        notes.append(f"Shaft strengths not in the profile: {DEFAULT_SHAFT_STEEL[0]} assumed "
+                     f"(Sut {DEFAULT_SHAFT_STEEL[1] / 1e6:g} MPa, "
+                     f"Sy {DEFAULT_SHAFT_STEEL[2] / 1e6:g} MPa).")
+    pressures: dict[str, float] = {}
+    if any(d["seat"] == "shrink" for d in details.seats):
+        try:
+            from torqlog.flywheel import flywheel_from_profile
+
+            fw = flywheel_from_profile(profile)
+            if fw.fit_pressure_rest:
+                pressures["flywheel"] = float(fw.fit_pressure_rest)
+        except (DataError, UsageError) as exc:
+            notes.append(f"Shrink fit not checked: the flywheel's fit pressure could not be "
+                         f"computed ({exc}).")
+    damping = float(_pick(damping_ratio, tor.get("damping_ratio"), DEFAULT_DAMPING_RATIO))
+    excite = _pick(excitation_at, tor.get("excitation_at"), None)
+    return {"details": details, "strength": opts, "pressures": pressures, "notes": notes,
+            "damping": damping, "excitation_at": excite, "speed": speed,
+            "ratio": shaft_ratio,
+            "options": {"damping_ratio": damping, "fatigue_method": method,
+                        "excitation_at": excite}}
+
+
+def _response_and_strength(ctx: dict[str, Any], model: ShaftModel,
+                           chain: TorsionalChain | None, cycle_torque: np.ndarray, revs: int,
+                           torque_peak_logged: float | None) -> tuple[Any, Any]:
+    """Forced response of the chain to the log's orders and the strength it implies."""
+    from torqlog.shaft_strength import shaft_strength
+    from torqlog.torsional_response import complex_orders, forced_response
+
+    torque = np.asarray(cycle_torque, float)
+    resp = None
+    if chain is not None:
+        order, amp, mean = complex_orders(torque, revs)
+        resp = forced_response(chain, order, amp, mean, ctx["speed"], revs_per_cycle=revs,
+                               excitation_at=ctx["excitation_at"],
+                               damping_ratio=ctx["damping"])
+        # the flywheel shaft carries the section from the flywheel towards the torque
+        names = chain.names
+        if "flywheel" in names:
+            f = names.index("flywheel")
+            e = names.index(resp.options["excitation_at"])
+            s = f if e > f else max(f - 1, 0)
+        else:
+            s = int(resp.peak.argmax())
+        wave = resp.waveform[:, s]
+    else:
+        wave = torque
+    hi, lo = float(wave.max()), float(wave.min())
+    peak = max(abs(hi), abs(lo), abs(torque_peak_logged or 0.0))
+    ratio = ctx["ratio"]
+    strength = shaft_strength(model, ctx["details"], (hi + lo) / 2 / ratio,
+                              (hi - lo) / 2 / ratio, peak / ratio, ctx["strength"],
+                              speed_rpm=ctx["speed"] * ratio * 60 / (2 * math.pi),
+                              fit_pressures=ctx["pressures"])
+    return resp, strength
 
 
 def _pick(given: Any, from_profile: Any, default: Any) -> Any:
@@ -863,5 +1008,5 @@ __all__ = [
     "CAUTIONS", "GRAVITY", "LATERAL_METHODS", "LateralResult", "PointMass", "ShaftModel",
     "ShaftResult", "ShaftSegment", "ShaftState", "check_shaft", "dunkerley", "fe_modes",
     "lateral_check", "material_properties", "rayleigh", "shaft_mesh",
-    "shaft_model_from_profile", "static_deflection",
+    "shaft_model_from_profile", "static_deflection", "support_reactions", "bending_moment",
 ]
