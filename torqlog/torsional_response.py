@@ -3,9 +3,10 @@
 The free-free chain of :mod:`torqlog.torsion` (rigid inertias joined by torsional springs,
 referred to the logged shaft) is driven by the orders of the measured mean cycle torque,
 applied at one element of the chain (``excitation_at``; by default the last element, the
-crank, press ram drive or compressor crank whose torque the log measured). The drive
-(first element) supplies the mean torque; its dynamic torque is not modelled (it acts as
-an inertia only). Damping is modal and viscous, the same ratio for every elastic mode.
+crank, press ram drive or compressor crank whose torque the log measured; an engine's
+crank is the first element and is named with ``excitation_at``). The element at the other
+end (the motor, or a generator) reacts the mean torque; its dynamic torque is not
+modelled (it acts as an inertia only). Damping is modal and viscous, the same ratio for every elastic mode.
 
 For each order the complex angle amplitudes follow from the modal sum
 
@@ -266,13 +267,15 @@ def forced_response(chain: TorsionalChain, order: np.ndarray, amplitude: np.ndar
     amplitude : array, complex [N*m]
         Complex amplitude of each order (see :func:`complex_orders`).
     mean : float [N*m]
-        Mean torque; carried by every section between the drive (first element) and the
-        excitation element.
+        Mean torque; carried by every section between the excitation element and the
+        element that reacts it (the first element, or the last when the excitation is
+        at the first).
     speed : float [rad/s]
         Shaft speed the orders refer to.
     revs_per_cycle : int
     excitation_at : str, optional
-        Element where the torque acts (default: the last element of the chain).
+        Element where the torque acts (default: the element named "crank" when there is
+        one, else the last element of the chain).
     damping_ratio : float
         Modal damping ratio (default :data:`DEFAULT_DAMPING_RATIO`, common practice).
     n_angle : int
@@ -292,7 +295,9 @@ def forced_response(chain: TorsionalChain, order: np.ndarray, amplitude: np.ndar
     if not speed > 0:
         raise UsageError(f"running speed must be positive, got {speed:g} rad/s")
     names = chain.names
-    at = names[-1] if excitation_at is None else excitation_at
+    if excitation_at is None:
+        excitation_at = "crank" if "crank" in names else names[-1]
+    at = excitation_at
     if at not in names:
         raise UsageError(f"no element {at!r} in the torsional chain; valid: "
                          f"{', '.join(names)}")
@@ -306,7 +311,9 @@ def forced_response(chain: TorsionalChain, order: np.ndarray, amplitude: np.ndar
         dyn, qs = section_torque_amplitudes(chain, omega, F, damping_ratio)
     else:
         dyn = qs = np.zeros((0, len(names) - 1), complex)
-    sec_mean = np.where(np.arange(len(names) - 1) < e, mean, 0.0)
+    r = 0 if e != 0 else len(names) - 1          # element that reacts the mean torque
+    idx = np.arange(len(names) - 1)
+    sec_mean = np.where((idx >= min(e, r)) & (idx < max(e, r)), mean, 0.0)
     harm = np.rint(order * revs_per_cycle).astype(int)
     n = max(int(n_angle), 8 * int(harm.max(initial=1)))
     phi = np.arange(n) * 2 * math.pi / n
@@ -315,11 +322,11 @@ def forced_response(chain: TorsionalChain, order: np.ndarray, amplitude: np.ndar
 
     modes = torsional_modes(chain)
     sections = tuple(f"{a}–{b}" for a, b in zip(names[:-1], names[1:], strict=True))
-    options = {"damping_ratio": damping_ratio, "excitation_at": at, "drive_at": names[0],
+    options = {"damping_ratio": damping_ratio, "excitation_at": at, "reaction_at": names[r],
                "speed_rpm": speed * 60 / (2 * math.pi), "revs_per_cycle": revs_per_cycle,
                "damping": "modal, viscous, same ratio for every elastic mode",
                "applied": f"dynamic torque of the log applied at {at!r}; mean torque "
-                          f"supplied by {names[0]!r}"}
+                          f"reacted at {names[r]!r}, whose dynamic torque is not modelled"}
     return ForcedResponse(sections, order, omega / (2 * math.pi), dyn, qs, sec_mean, wave,
                           tuple(float(f) for f in modes.freqs), options)
 
