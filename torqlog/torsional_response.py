@@ -3,10 +3,11 @@
 The free-free chain of :mod:`torqlog.torsion` (rigid inertias joined by torsional springs,
 referred to the logged shaft) is driven by the orders of the measured mean cycle torque,
 applied at one element of the chain (``excitation_at``; by default the last element, the
-crank, press ram drive or compressor crank whose torque the log measured; an engine's
-crank is the first element and is named with ``excitation_at``). The element at the other
+crank, press ram drive or compressor crank whose torque the log measured; by default the
+element named "crank" when the chain has one). The element at the other
 end (the motor, or a generator) reacts the mean torque; its dynamic torque is not
-modelled (it acts as an inertia only). Damping is modal and viscous, the same ratio for every elastic mode.
+modelled (it acts as an inertia only). Damping is modal and viscous, the same ratio for
+every elastic mode.
 
 For each order the complex angle amplitudes follow from the modal sum
 
