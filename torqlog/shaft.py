@@ -948,7 +948,11 @@ def _strength_context(profile: MachineProfile, model: ShaftModel, damping_ratio:
         try:
             from torqlog.flywheel import flywheel_from_profile
 
-            fw = flywheel_from_profile(profile)
+            hubs = [d.get("hub_length") for m, d in zip(model.masses, details.seats,
+                                                        strict=False)
+                    if m.name == "flywheel" and d["seat"] == "shrink"]
+            width = None if profile.flywheel.get("width") else (hubs[0] if hubs else None)
+            fw = flywheel_from_profile(profile, width=width)
             if fw.fit_pressure_rest:
                 pressures["flywheel"] = float(fw.fit_pressure_rest)
         except (DataError, UsageError) as exc:
