@@ -101,3 +101,29 @@ def test_bad_input_names_the_key():
                                         r"shaft \(0 to 1.5 m\); bearings_m must lie within the "
                                         r"segments$"):
         check_shaft(_prof(outside), cycle_torque=TORQUE)
+
+
+def test_campbell_crossings_and_cli(tmp_path):
+    from click.testing import CliRunner
+
+    from torqlog.campbell import campbell_crossings
+    from torqlog.cli import cli
+
+    res = check_shaft(_prof(), orders={4.0: 1.0})
+    f1 = res.current.lateral.fe_hz[0]
+    tor = [f for f, r in zip(res.current.torsional.modes_hz, res.current.torsional.rigid_body,
+                             strict=True) if not r][0]
+    lo, hi = 2 * math.pi * 100 / 60, 2 * math.pi * 20000 / 60
+    cross = campbell_crossings(res, (lo, hi))
+    # the 1x line meets the first lateral mode at 60 f1 rpm, the 2x line at 30 f1 rpm;
+    # order 4 meets the first torsional mode at 15 f rpm
+    lat = {c["line"]: c["speed_rpm"] for c in cross
+           if c["kind"] == "lateral" and c["mode_hz"] == f1}
+    assert lat == {"1×": pytest.approx(60 * f1), "2×": pytest.approx(30 * f1)}
+    assert any(c["kind"] == "torsional" and c["line"] == "order 4"
+               and c["speed_rpm"] == pytest.approx(15 * tor) for c in cross)
+    out = CliRunner().invoke(cli, ["shaft", "--profile", "sample_data/press.toml",
+                                   "--speed-range", "10", "60"])
+    assert out.exit_code == 2
+    assert out.stderr == ("Error: --speed-range draws a Campbell diagram: give --plot "
+                          "FILE.png too\n")
