@@ -43,7 +43,7 @@ import pandas as pd
 import scipy.linalg
 
 from torqlog.errors import UsageError
-from torqlog.torsion import TorsionalChain
+from torqlog.torsion import TorsionalChain, chain_matrices
 
 #: Modal damping ratio of an undamped steel shaft line without a torsional damper: 0.02,
 #: common practice (values of 0.01 to 0.05 are usual), not from a standard.
@@ -51,19 +51,6 @@ DEFAULT_DAMPING_RATIO = 0.02
 
 #: Orders of the mean cycle torque used by default (up to this order of the shaft speed).
 DEFAULT_MAX_ORDER = 24.0
-
-
-def chain_matrices(chain: TorsionalChain) -> tuple[np.ndarray, np.ndarray]:
-    """Inertia matrix J [kg*m^2] (diagonal) and stiffness matrix K [N*m/rad] of a chain."""
-    n = len(chain.inertias)
-    k = np.asarray(chain.stiffnesses, float)
-    K = np.zeros((n, n))
-    i = np.arange(n - 1)
-    np.add.at(K, (i, i), k)
-    np.add.at(K, (i + 1, i + 1), k)
-    np.add.at(K, (i, i + 1), -k)
-    np.add.at(K, (i + 1, i), -k)
-    return np.diag(np.asarray(chain.inertias, float)), K
 
 
 def modal_damping_matrix(chain: TorsionalChain, damping_ratio: float) -> np.ndarray:
