@@ -117,7 +117,10 @@ def life_cmd(log: str, sn_slope: float | None, equivalent_cycles: float | None,
                                  "(damage-equivalent range at 1 cycle per machine cycle)"})
     d["cautions"] = [*d["cautions"], CAUTIONS[0], CAUTIONS[2],
                      "The S–N slope and reference point are assumptions: use the part's "
-                     "own fatigue data where known."]
+                     "own fatigue data where known.",
+                     "The torque is counted as logged: spikes are not removed and the "
+                     "signal is joined across gaps, so check torque_range_max_Nm against the "
+                     "machine's real peak torque."]
     h = d["histogram_Nm"]
     edges = h["range_edges"]
     tab = pd.DataFrame({"range_from_Nm": edges[:-1], "range_to_Nm": edges[1:],
