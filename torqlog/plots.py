@@ -225,8 +225,8 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
                         xytext=(3, 0), fontsize=8, rotation=90, va="bottom",
                         color=PALETTE["limit"])
         ax.axvline(cur.fe_hz[0] if cur.fe_hz else np.nan, color=PALETTE["mean"], ls="--",
-                   lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz (driven by 1×, 2×, not by orders)"
-                   if cur.fe_hz else None)
+                   lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz (driven by 1×, "
+                   f"2×, not by orders)" if cur.fe_hz else None)
         ax.set_xscale("log")
         lo = freq.min() if len(freq) else 0.1
         ax.set_xlim(lo * 0.8, hi * 1.3)
