@@ -38,7 +38,7 @@ from typing import Any
 import numpy as np
 
 from torqlog import __version__
-from torqlog.errors import TorqlogError
+from torqlog.errors import DataError, TorqlogError
 
 #: Caution every report carries, whatever the stages found (DESIGN.md, Safety).
 GENERAL_CAUTION = (
@@ -114,6 +114,9 @@ class ReportData:
         Things the reader should know.
     version, created : str
         torqlog version and the UTC time the report was built.
+    failed_logs : list of dict
+        ``{"file", "reason"}`` of every log that could not be read; the report is built
+        from the others (each also has a ``skipped`` entry).
     """
 
     machine: str
@@ -131,6 +134,7 @@ class ReportData:
     notes: list[str]
     version: str
     created: str
+    failed_logs: list[dict[str, str]] = field(default_factory=list)
 
     @property
     def design(self) -> dict[str, Any]:
@@ -175,6 +179,10 @@ class ReportData:
                     rows.append({"check": f"shaft torsional, {state}",
                                  "verdict": st["torsional"]["verdict"],
                                  "text": st["torsional"]["margin_text"]})
+                if st.get("strength"):  # fatigue, yield, key, fit: governing check named
+                    rows.append({"check": f"shaft strength, {state}",
+                                 "verdict": st["strength"]["verdict"],
+                                 "text": st["strength"]["margin_text"]})
         return rows
 
 
@@ -291,13 +299,25 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
 
     entries: list[dict[str, Any]] = []
     results = []
+    failed: list[dict[str, str]] = []
     for log in logs:
-        survey = survey_log(log, nominal_speed=opts.nominal_speed, **read)
-        res = analyse_cycles(log, opts, **read)
+        try:  # one bad log among several: keep the others, name the bad one
+            survey = survey_log(log, nominal_speed=opts.nominal_speed, **read)
+            res = analyse_cycles(log, opts, **read)
+        except DataError as exc:
+            if len(logs) == 1:
+                raise
+            failed.append({"file": str(log), "reason": str(exc)})
+            skipped[f"log {log}"] = f"left out: {exc}"
+            continue
         results.append(res)
         entries.append({"path": str(log), "name": Path(log).name,
                         "sha256": file_sha256(log), "bytes": Path(log).stat().st_size,
                         "inspect": _plain(survey.to_dict()), "cycles": _plain(res.to_dict())})
+    if not results:
+        raise DataError("no log could be used: "
+                        + "; ".join(f["reason"] for f in failed))
+    logs = [e["path"] for e in entries]
     design = results[0]
     if len(logs) > 1:
         notes.append(f"{len(logs)} logs: the recommendation, flywheel and shaft checks are "
@@ -389,7 +409,9 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
         mean_rpm = design.summary["speed_mean_rpm"]
         try:
             sh = check_shaft(prof, speed=mean_rpm / _RPM if mean_rpm else None, orders=spectrum,
-                             add_mass=add_mass, add_inertia=add_inertia)
+                             add_mass=add_mass, add_inertia=add_inertia,
+                             cycle_torque=(design.mean_cycle["torque_mean"].to_numpy(float)
+                                           if spectrum is not None else None))
             shaft = _plain(sh.to_dict())
             shaft["options"]["speed_source"] = ("mean speed of the design log" if mean_rpm
                                                 else "profile [machine] speed_rpm")
@@ -434,7 +456,8 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
         logs=entries, spectrum=_plain(spectrum.to_dict()) if spectrum is not None else None,
         size=size, flywheel=fw, shaft=shaft, trend=trend, skipped=skipped,
         options=_plain(options), figures=figures, cautions=cautions, notes=notes,
-        version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"))
+        version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
+        failed_logs=failed)
 
 
 def _run_trend(logs: Sequence[str | Path], prof: Any, opts: Any, read: dict[str, Any],
@@ -665,8 +688,10 @@ def write_pdf(data: ReportData, path: str | Path) -> Path:
     for line in report_text(data):
         wrapped += textwrap.wrap(line, 100, subsequent_indent="    ") or [""]
     per_page = 62
+    from torqlog.outputs import atomic_path
+
     p = Path(path)
-    with plt.rc_context(style()), PdfPages(p) as pdf:
+    with plt.rc_context(style()), atomic_path(p) as tmp, PdfPages(tmp) as pdf:
         info = pdf.infodict()
         info["Title"] = f"torqlog report: {data.machine}"
         info["Creator"] = f"torqlog {data.version}"
@@ -695,8 +720,9 @@ def write_pdf(data: ReportData, path: str | Path) -> Path:
 def write_report(data: ReportData, html: str | Path, pdf: str | Path | None = None
                  ) -> list[Path]:
     """Write the HTML report (and the PDF); returns the files written."""
-    out = Path(html)
-    out.write_text(render_html(data), encoding="utf-8")
+    from torqlog.outputs import write_text
+
+    out = write_text(html, render_html(data))
     written = [out]
     if pdf is not None:
         written.append(write_pdf(data, pdf))
