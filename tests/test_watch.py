@@ -93,3 +93,20 @@ def test_watch_alarms_and_summary(live) -> None:
     assert summary["type"] == "summary" and len(summary["files"]) == 2
     assert summary["cycles"] == sum(1 for x in lines if x["type"] == "cycle")
     assert summary["abnormal"] == len(alarms)
+
+
+def test_watch_refuses_compressed_and_names_a_bad_value(tmp_path) -> None:
+    from click.testing import CliRunner
+
+    from torqlog.cli import cli
+
+    r = CliRunner()
+    gz = tmp_path / "log.csv.gz"
+    gz.write_bytes(b"")
+    res = r.invoke(cli, ["watch", str(gz), "--idle-exit", "0.2"])
+    assert res.exit_code == 1 and "watch follows plain CSV text only" in res.output
+    bad = tmp_path / "bad.csv"
+    bad.write_text("time_s,torque_Nm\n0,1\n0.001,abc\n")
+    res = r.invoke(cli, ["watch", str(bad), "--idle-exit", "0.2"])
+    assert res.exit_code == 1
+    assert "line 3, column 'torque_Nm': 'abc' is not a number" in res.output

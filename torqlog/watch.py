@@ -28,7 +28,7 @@ import pyarrow.csv as pacsv
 from torqlog import anomaly as an
 from torqlog import cycles as cy
 from torqlog.errors import DataError
-from torqlog.ingest import Chunk, LogReader
+from torqlog.ingest import Chunk, LogReader, _explain_arrow_error
 
 #: Per-cycle flags kept for the run analysis of a long watch.
 KEEP_FLAGS = 10_000
@@ -100,8 +100,12 @@ class TailReader(LogReader):
                     tail = buf[cut + 1:]
                     lines = buf[: cut + 1]
                     if lines.strip():
-                        yield pacsv.read_csv(io.BytesIO(lines), read_options=read,
-                                             parse_options=parse, convert_options=conv)
+                        try:
+                            table = pacsv.read_csv(io.BytesIO(lines), read_options=read,
+                                                   parse_options=parse, convert_options=conv)
+                        except pa.ArrowInvalid as exc:
+                            raise _explain_arrow_error(lay, wanted, exc) from None
+                        yield table
                     continue
                 try:
                     st = os.stat(path)
@@ -194,6 +198,9 @@ def watch_log(path: str | Path, on_cycles: Callable[[dict[str, np.ndarray]], Non
     -------
     WatchSummary
     """
+    if str(path).lower().endswith((".gz", ".parquet", ".h5", ".hdf5", ".mf4", ".mdf")):
+        raise DataError(f"{path}: watch follows plain CSV text only (a file a logger appends "
+                        "lines to); use `torqlog cycles` for a finished file")
     o = options or cy.CycleOptions()
     ao = anomaly or an.AnomalyOptions()
     stop = should_stop or (lambda: False)
