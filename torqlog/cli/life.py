@@ -47,6 +47,7 @@ def _after_block(cycles: Any, profile: Any, target: float | None,
     """Size the log (the model it leads with, its recommendation), then life after/before."""
     import numpy as np
 
+    from torqlog.errors import UsageError
     from torqlog.inertia import size_log, size_log_dict
     from torqlog.life import life_after, life_drive_model
 
@@ -60,7 +61,10 @@ def _after_block(cycles: Any, profile: Any, target: float | None,
     size = size_log_dict(size_log(cycles, profile, target_cs=target), cycles)
     choice = life_drive_model(size, profile)
     if add_inertia is None:
-        add_inertia = float(size["added_inertia_kgm2"] or 0.0)
+        if size["added_inertia_kgm2"] is None:
+            raise UsageError("'torqlog size' gives no added inertia for this log (no existing "
+                             "inertia given or identified): give --add-inertia")
+        add_inertia = float(size["added_inertia_kgm2"])
         source = (f"the added inertia 'torqlog size' recommends for the profile's target Cs "
                   f"{sized_for:g}, {size['model']} model")
     else:
