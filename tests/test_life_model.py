@@ -118,6 +118,12 @@ def test_no_usable_model_gives_the_sentence(genset, tmp_path):
     assert res.exit_code == 0, res.output
     d = json.loads(res.stdout)
     assert d["notes"] == [msg] and "life_ratio_after_before" not in d
+    # a profile without target_cs and no --add-inertia: nothing to compare, said so
+    res = life(log, "--profile", profile(ENGINE, tmp_path / "nt.toml", target=False),
+               "--format", "json")
+    assert json.loads(res.stdout)["notes"] == [
+        "no life ratio after/before: give --add-inertia, or [machine] target_cs in the "
+        "profile for the added inertia 'torqlog size' recommends"]
     # a load log: the nameplate is named as the other way
     comp = tmp_path / "k7.csv"
     simulate_log(COMPRESSOR, comp)

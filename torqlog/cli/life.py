@@ -11,6 +11,7 @@ from torqlog.cli.base import (
     cli,
     cycle_options,
     emit,
+    load_profile_opt,
     output_options,
     read_kwargs,
     run_cycles,
@@ -136,9 +137,13 @@ def life_cmd(log: str, sn_slope: float | None, equivalent_cycles: float | None,
     if res.miner is not None and duration and res.miner > 0:
         d["life_hours"] = duration / res.miner / 3600.0
     notes: list[str] = []
-    if add_inertia is not None or kw.get("profile") is not None:
+    profile = load_profile_opt(kw.get("profile"))
+    target = profile.machine.get("target_cs") if profile is not None else None
+    if profile is not None and add_inertia is None and target is None:
+        notes.append("no life ratio after/before: give --add-inertia, or [machine] target_cs "
+                     "in the profile for the added inertia 'torqlog size' recommends")
+    elif add_inertia is not None or target is not None:
         cycles, profile = run_cycles(log, dict(kw))
-        target = profile.machine.get("target_cs") if profile is not None else None
         if add_inertia is not None:
             d.update(_after_block(cycles, profile, target, add_inertia, m))
         elif target is not None:  # not asked for: a refusal is a note, not an error
