@@ -152,7 +152,7 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
     Parameters
     ----------
     result : ShaftResult
-        From :func:`torqlog.shaft.check_shaft`.
+        From :func:`torqlog.shaft_check.check_shaft`.
     path : str or Path
         PNG file to write.
     spectrum : OrderSpectrum, optional

@@ -286,7 +286,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
     from torqlog.flywheel import flywheel_from_profile
     from torqlog.inertia import size_log, size_log_dict
     from torqlog.profile import load_profile
-    from torqlog.shaft import check_shaft
+    from torqlog.shaft_check import check_shaft
     from torqlog.spectrum import mean_cycle_spectrum
     from torqlog.survey import survey_log
 
