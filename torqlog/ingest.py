@@ -145,8 +145,8 @@ class LogReader:
             return 1.0
 
     def __iter__(self) -> Iterator[Chunk]:
-        lay = self.layout
-        wanted = [c for c in lay.columns if c.role]
+        """Read a chunk, convert it to SI, zero its time, check the time, yield it."""
+        wanted = [c for c in self.layout.columns if c.role]
         t0: float | int | None = None
         last_t: float | None = None
         row = 0
@@ -154,35 +154,48 @@ class LogReader:
             n = batch.num_rows
             if n == 0:
                 continue
-            chans: dict[str, np.ndarray] = {}
-            time = None
-            for c in wanted:
-                arr = batch.column(c.name)
-                if c.role == "time":
-                    time = self._time(arr, row, n)
-                elif c.factor != 1.0:
-                    values = _scaled(arr, c.factor)
-                    chans[c.role] = values if values is not None else \
-                        self._values(arr, c, row) * c.factor
-                else:
-                    chans[c.role] = self._values(arr, c, row)
-            if time is None:
-                time = (row + np.arange(n, dtype=np.float64)) / lay.rate
-            elif lay.time_kind == "timestamp":
-                if t0 is None:
-                    t0 = int(time[0])
-                time = (time - t0).astype(np.float64) * 1e-9
-            elif lay.time_kind == "seconds":
-                if t0 is None:
-                    t0 = float(time[0])
-                time -= t0  # a fresh array from _time: shift it in place
+            time, chans = self._to_si(batch, wanted, row)
+            time, t0 = self._zeroed_time(time, row, n, t0)
             self._check_time(time, row, last_t)
             last_t = float(time[-1])
             yield Chunk(row, time, chans)
             row += n
         if row == 0:
-            raise DataError(f"{lay.path}: has a header but no data rows; export the log with "
-                            "data")
+            raise DataError(f"{self.layout.path}: has a header but no data rows; export the "
+                            "log with data")
+
+    def _to_si(self, batch: pa.Table, wanted: list[Column],
+               row: int) -> tuple[np.ndarray | None, dict[str, np.ndarray]]:
+        """The time column as read (None if the file has none) and each channel in SI."""
+        chans: dict[str, np.ndarray] = {}
+        time = None
+        for c in wanted:
+            arr = batch.column(c.name)
+            if c.role == "time":
+                time = self._time(arr, row, batch.num_rows)
+            elif c.factor != 1.0:
+                values = _scaled(arr, c.factor)
+                chans[c.role] = values if values is not None else \
+                    self._values(arr, c, row) * c.factor
+            else:
+                chans[c.role] = self._values(arr, c, row)
+        return time, chans
+
+    def _zeroed_time(self, time: np.ndarray | None, row: int, n: int,
+                     t0: float | int | None) -> tuple[np.ndarray, float | int | None]:
+        """Time [s] since the first sample, and the first time as read (kept across chunks)."""
+        lay = self.layout
+        if time is None:
+            return (row + np.arange(n, dtype=np.float64)) / lay.rate, t0
+        if lay.time_kind == "timestamp":
+            if t0 is None:
+                t0 = int(time[0])
+            return (time - t0).astype(np.float64) * 1e-9, t0
+        if lay.time_kind == "seconds":
+            if t0 is None:
+                t0 = float(time[0])
+            time -= t0  # a fresh array from _time: shift it in place
+        return time, t0
 
     def _values(self, arr: pa.Array | pa.ChunkedArray, col: Column, row: int) -> np.ndarray:
         """A channel as float64; a Parquet column holding text is refused, naming the row."""
@@ -205,6 +218,7 @@ class LogReader:
         return _to_float(arr)
 
     def _time(self, arr: pa.Array, row: int, n: int) -> np.ndarray:
+        """The time column as read: int64 [ns] for timestamps, else a new float64 array."""
         lay = self.layout
         if lay.time_kind == "timestamp":
             if pa.types.is_timestamp(arr.type):
@@ -224,6 +238,7 @@ class LogReader:
         return values if values is not None else _to_float(arr) * factor
 
     def _check_time(self, time: np.ndarray, row: int, last: float | None) -> None:
+        """Refuse an empty time or one that repeats or goes back, naming the line."""
         lay = self.layout
         first_ok = last is None or time[0] > last
         if first_ok and not np.isnan(time[0]) and bool((time[1:] > time[:-1]).all()):
@@ -305,49 +320,47 @@ class LogReader:
                     worker.join(0.01)
 
     def _batches(self, wanted: list[Column]) -> Iterator[pa.RecordBatch]:
+        """pyarrow record batches of the wanted columns, read as the file's kind asks."""
+        kind = self.layout.kind
+        if kind == "parquet":
+            yield from self._parquet_batches(wanted)
+        elif kind in ("mdf4", "hdf5"):
+            yield from self._mdf_hdf_batches(wanted)
+        else:
+            yield from self._csv_batches(wanted)
+
+    def _parquet_batches(self, wanted: list[Column]) -> Iterator[pa.RecordBatch]:
+        """Batches of a Parquet file; an unreadable file is refused in a sentence."""
+        import pyarrow.parquet as pq
+
         lay = self.layout
-        if lay.kind == "parquet":
-            import pyarrow.parquet as pq
+        try:
+            pf = pq.ParquetFile(lay.path)
+            yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
+                                       columns=[c.name for c in wanted])
+        except (OSError, ValueError, pa.ArrowException) as exc:  # pyarrow's own types
+            raise DataError(f"{lay.path}: not a readable Parquet file ("
+                            f"{_first_line(exc)}); check that the file is complete") \
+                from None
 
-            try:
-                pf = pq.ParquetFile(lay.path)
-                yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
-                                           columns=[c.name for c in wanted])
-            except (OSError, ValueError, pa.ArrowException) as exc:  # pyarrow's own types
-                raise DataError(f"{lay.path}: not a readable Parquet file ("
-                                f"{_first_line(exc)}); check that the file is complete") \
-                    from None
-            return
-        if lay.kind in ("mdf4", "hdf5"):
-            from torqlog.read_hdf import iter_hdf_batches
-            from torqlog.read_mdf import iter_mdf_batches
+    def _mdf_hdf_batches(self, wanted: list[Column]) -> Iterator[pa.RecordBatch]:
+        """Batches of an MDF4 or HDF5 file, from their own readers."""
+        from torqlog.read_hdf import iter_hdf_batches
+        from torqlog.read_mdf import iter_mdf_batches
 
-            read = iter_mdf_batches if lay.kind == "mdf4" else iter_hdf_batches
-            yield from read(lay, [c.name for c in wanted])
-            return
-        names = [c.name for c in lay.columns]
-        types: dict[str, pa.DataType] = {}
-        for c in wanted:
-            if c.role == "time" and lay.time_kind == "timestamp":
-                types[c.name] = pa.timestamp("ns", tz="UTC" if lay.timestamp_tz else None)
-            else:
-                types[c.name] = pa.float64()
-        # pyarrow reads several blocks ahead and keeps them: small blocks bound memory
-        # (1 MiB blocks measured fastest and smallest on a 10 M-row log)
-        read = pacsv.ReadOptions(skip_rows=lay.skip_rows, column_names=names,
-                                 block_size=1 << 20,
-                                 encoding=lay.encoding, use_threads=True)
-        parse = pacsv.ParseOptions(delimiter=lay.delimiter)
-        conv = pacsv.ConvertOptions(column_types=types, include_columns=[c.name for c in wanted],
-                                    decimal_point=lay.decimal,
-                                    null_values=["", "NaN", "nan", "NA", "null", "-nan", "#N/A"],
-                                    strings_can_be_null=True)
+        lay = self.layout
+        read = iter_mdf_batches if lay.kind == "mdf4" else iter_hdf_batches
+        yield from read(lay, [c.name for c in wanted])
+
+    def _csv_batches(self, wanted: list[Column]) -> Iterator[pa.RecordBatch]:
+        """Batches of a CSV or CSV.gz, streamed; pyarrow's errors become sentences."""
+        lay = self.layout
+        read, parse, conv = _csv_options(lay, wanted)
         try:
             self._raw = pa.OSFile(lay.path, "rb")
             reader = pacsv.open_csv(self._raw if not lay.path.lower().endswith(
                 ".gz") else pa.CompressedInputStream(self._raw, "gzip"),
-                read_options=read, parse_options=parse,
-                                    convert_options=conv)
+                read_options=read, parse_options=parse, convert_options=conv)
             yield from reader
         except pa.ArrowInvalid as exc:
             raise _explain_arrow_error(lay, wanted, exc) from None
@@ -356,6 +369,29 @@ class LogReader:
             raise DataError(f"{lay.path}: cannot be read {'as gzip ' if gz else ''}to the end "
                             f"({_first_line(exc)}); the file is damaged or was cut short: "
                             "export or copy it again") from None
+
+
+def _csv_options(lay: Layout, wanted: list[Column]) -> tuple[
+        pacsv.ReadOptions, pacsv.ParseOptions, pacsv.ConvertOptions]:
+    """pyarrow's read, parse and convert options for a sniffed CSV layout."""
+    names = [c.name for c in lay.columns]
+    types: dict[str, pa.DataType] = {}
+    for c in wanted:
+        if c.role == "time" and lay.time_kind == "timestamp":
+            types[c.name] = pa.timestamp("ns", tz="UTC" if lay.timestamp_tz else None)
+        else:
+            types[c.name] = pa.float64()
+    # pyarrow reads several blocks ahead and keeps them: small blocks bound memory
+    # (1 MiB blocks measured fastest and smallest on a 10 M-row log)
+    read = pacsv.ReadOptions(skip_rows=lay.skip_rows, column_names=names,
+                             block_size=1 << 20,
+                             encoding=lay.encoding, use_threads=True)
+    parse = pacsv.ParseOptions(delimiter=lay.delimiter)
+    conv = pacsv.ConvertOptions(column_types=types, include_columns=[c.name for c in wanted],
+                                decimal_point=lay.decimal,
+                                null_values=["", "NaN", "nan", "NA", "null", "-nan", "#N/A"],
+                                strings_can_be_null=True)
+    return read, parse, conv
 
 
 def _first_line(exc: BaseException) -> str:
