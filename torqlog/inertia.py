@@ -528,6 +528,76 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
        ed., 2015, eq. 16-62 (constant-drive bound).
     .. [2] R. L. Norton, *Design of Machinery*, flywheel section.
     """
+    cs, q, ratio = _check_options(target_cs, quantile, torque_role, method,
+                                  flywheel_speed_ratio, existing_inertia, revs_per_cycle,
+                                  tolerance)
+    clean = _clean_cycles(cycles)
+    log = _read_cycles(clean, method)
+    messages: list[str] = []
+    options = _sizing_options(log.method, method, q, n_boot, seed, torque_role,
+                              revs_per_cycle, tolerance, hours_per_year)
+
+    mc_ok = _mean_cycle_usable(mean_cycle)
+    identified = (_identify(mean_cycle, torque_role, revs_per_cycle, messages)
+                  if mc_ok and log.method == "torque" else None)
+    rotor = motor.referred_inertia if motor is not None else 0.0
+    given = float(existing_inertia) + rotor if existing_inertia is not None else None
+    total_existing, source = _existing_inertia(identified, given, rotor, messages)
+    options["existing_inertia_source"] = source
+
+    e_used, per_cycle_speed = _cycles_used(log, total_existing, speed, options)
+    design = _design_swing(e_used, per_cycle_speed, cs, q, n_boot, seed, options, messages)
+    cs_measured, measured = _measured_speed(clean, log)
+
+    rec = _run_models(mean_cycle if mc_ok or (mean_cycle is not None
+                                              and "torque_mean" in mean_cycle) else None,
+                      log.method, design, identified=identified, motor=motor,
+                      existing=total_existing, source=source, cs=cs, cs_measured=cs_measured,
+                      measured=measured, torque_role=torque_role, revs=int(revs_per_cycle),
+                      tolerance=tolerance, hours_per_year=hours_per_year, messages=messages)
+    total_existing = _settle_existing(rec, identified, given, total_existing, options,
+                                      messages)
+    added, added_ci = _added_inertia(rec, total_existing, identified, cs, cs_measured, ratio,
+                                     messages)
+    nameplate_slope = _nameplate_check(motor, rec, torque_role, messages)
+    options["flywheel_speed_ratio"] = ratio
+    return _assemble(log.method, cs, q, ratio, design, rec, identified=identified,
+                     existing=total_existing, added=added, added_ci=added_ci,
+                     cs_measured=cs_measured, nameplate_slope=nameplate_slope,
+                     messages=messages, options=options)
+
+
+# --------------------------------------------------------------------------- sizing steps
+@dataclass(frozen=True)
+class _LogCycles:
+    """The clean cycles' speeds [rad/s] and torque swings [J], and the sizing method."""
+
+    w_mean: np.ndarray
+    w_min: np.ndarray
+    w_max: np.ndarray
+    swing: np.ndarray
+    has_torque: bool
+    has_speed: bool
+    method: str
+
+
+@dataclass(frozen=True)
+class _DesignSwing:
+    """The swings used [J], their mean speed [rad/s], design swing and constant-drive bound."""
+
+    e_used: np.ndarray
+    n_used: int
+    wbar: float
+    e_design: float
+    bound: float
+    bound_ci: tuple[float, float]
+
+
+def _check_options(target_cs: float, quantile: float | str, torque_role: str,
+                   method: str | None, flywheel_speed_ratio: float,
+                   existing_inertia: float | None, revs_per_cycle: int,
+                   tolerance: float) -> tuple[float, float | str, float]:
+    """Check the caller's options; return the target Cs, the quantile and the speed ratio."""
     cs = _check_cs(target_cs)
     q = _check_quantile(quantile)
     check_role(torque_role)
@@ -543,6 +613,11 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
         raise UsageError(f"revs_per_cycle must be a whole number ≥ 1, got {revs_per_cycle!r}")
     if not (math.isfinite(tolerance) and tolerance > 0):
         raise UsageError(f"tolerance must be a positive fraction, got {tolerance!r}")
+    return cs, q, ratio
+
+
+def _clean_cycles(cycles: pd.DataFrame) -> pd.DataFrame:
+    """The unflagged rows of the per-cycle table, after checking its columns."""
     missing = [c for c in ("speed_mean_rpm", "speed_min_rpm", "speed_max_rpm",
                            "torque_mean_Nm", "energy_swing_J", "flag") if c not in cycles]
     if missing:
@@ -551,7 +626,11 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     if clean.empty:
         raise DataError("no clean cycles to size from: every cycle is flagged (see the flag "
                         "column)")
+    return clean
 
+
+def _read_cycles(clean: pd.DataFrame, method: str | None) -> _LogCycles:
+    """Read the clean cycles in SI and choose the method (torque when the log has it)."""
     rpm = 1.0 / _RPM
     w_mean = _finite(clean["speed_mean_rpm"]) * rpm
     w_min = _finite(clean["speed_min_rpm"]) * rpm
@@ -564,8 +643,14 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     if chosen == "torque" and not has_torque:
         raise DataError("method 'torque' needs the torque channel, but the per-cycle table "
                         "has no energy_swing_J values; use method 'speed'")
-    messages: list[str] = []
-    options: dict[str, Any] = {
+    return _LogCycles(w_mean, w_min, w_max, swing_t, has_torque, has_speed, chosen)
+
+
+def _sizing_options(chosen: str, method: str | None, q: float | str, n_boot: int, seed: int,
+                    torque_role: str, revs_per_cycle: int, tolerance: float,
+                    hours_per_year: float) -> dict[str, Any]:
+    """The options the sizing records (later steps add where each figure came from)."""
+    return {
         "method": chosen, "method_chosen_by": "caller" if method else "auto",
         "quantile": q, "n_boot": int(n_boot), "seed": int(seed), "torque_role": torque_role,
         "revs_per_cycle": int(revs_per_cycle), "cs_definition": "(w_max - w_min) / w_mean",
@@ -575,25 +660,31 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
                        "swing (check, now/after) or the design swing (sizing)",
     }
 
-    # existing inertia: identified on the log (evidence) or given
-    rotor = motor.referred_inertia if motor is not None else 0.0
-    identified: IdentifyResult | None = None
-    mc_ok = (mean_cycle is not None and {"angle", "torque_mean", "speed_mean"} <=
-             set(mean_cycle.columns)
-             and bool(np.all(np.isfinite(mean_cycle["speed_mean"].to_numpy(float)))))
-    if mc_ok and chosen == "torque":
-        try:
-            identified = identify_inertia_cycle(
-                mean_cycle["angle"].to_numpy(float), mean_cycle["torque_mean"].to_numpy(float),
-                mean_cycle["speed_mean"].to_numpy(float), torque_role=torque_role,
-                revs_per_cycle=int(revs_per_cycle))
-        except DataError as exc:
-            messages.append(f"the log cannot separate the inertia from the drive slope: {exc}")
-    given = float(existing_inertia) + rotor if existing_inertia is not None else None
-    total_existing: float | None
+
+def _mean_cycle_usable(mean_cycle: pd.DataFrame | None) -> bool:
+    """Whether the mean cycle has angle, torque and a finite speed to identify from."""
+    return (mean_cycle is not None and {"angle", "torque_mean", "speed_mean"} <=
+            set(mean_cycle.columns)
+            and bool(np.all(np.isfinite(mean_cycle["speed_mean"].to_numpy(float)))))
+
+
+def _identify(mean_cycle: pd.DataFrame, torque_role: str, revs_per_cycle: int,
+              messages: list[str]) -> IdentifyResult | None:
+    """The inertia identified on the mean cycle, or None (with a message) if it cannot be."""
+    try:
+        return identify_inertia_cycle(
+            mean_cycle["angle"].to_numpy(float), mean_cycle["torque_mean"].to_numpy(float),
+            mean_cycle["speed_mean"].to_numpy(float), torque_role=torque_role,
+            revs_per_cycle=int(revs_per_cycle))
+    except DataError as exc:
+        messages.append(f"the log cannot separate the inertia from the drive slope: {exc}")
+        return None
+
+
+def _existing_inertia(identified: IdentifyResult | None, given: float | None, rotor: float,
+                      messages: list[str]) -> tuple[float | None, str | None]:
+    """The existing inertia [kg*m^2] and its source: identified on the log, else given."""
     if identified is not None:
-        total_existing = identified.inertia
-        source = "identified on the log's mean cycle"
         if given is not None:
             gap = identified.inertia / given - 1.0 if given > 0 else math.inf
             if abs(gap) > INERTIA_CONFLICT_REL:
@@ -605,29 +696,31 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
             else:
                 messages.append(f"the log's inertia {identified.inertia:.4g} kg m^2 agrees "
                                 f"with the given {given:.4g} kg m^2 within {abs(gap):.0%}")
-    elif given is not None:
-        total_existing, source = given, "given"
+        return identified.inertia, "identified on the log's mean cycle"
+    if given is not None:
         if rotor > 0:
             messages.append(f"the existing inertia includes the motor rotor referred to the "
                             f"logged shaft ({rotor:.4g} kg m^2)")
-    else:
-        total_existing, source = None, None
-    options["existing_inertia_source"] = source
+        return given, "given"
+    return None, None
 
-    # per-cycle energy swings
-    if chosen == "speed":
+
+def _cycles_used(log: _LogCycles, total_existing: float | None, speed: float | None,
+                 options: dict[str, Any]) -> tuple[np.ndarray, np.ndarray | float]:
+    """Energy swings [J] of the cycles that can size, and their mean speeds [rad/s]."""
+    if log.method == "speed":
         if total_existing is None:
             raise UsageError(SPEED_ONLY_NEEDS_INERTIA)
-        swings = swing_energy_from_speed(total_existing, w_max, w_min)
+        swings = swing_energy_from_speed(total_existing, log.w_max, log.w_min)
         options["energy_swing_source"] = "1/2 * I_existing * (w_max^2 - w_min^2) per cycle"
     else:
-        swings = swing_t
+        swings = log.swing
         options["energy_swing_source"] = "energy_swing_J from the logged torque"
     swings = np.asarray(swings, dtype=float)
     use = np.isfinite(swings)
-    if has_speed:
-        use &= np.isfinite(w_mean)
-        per_cycle_speed: np.ndarray | float = w_mean[use]
+    if log.has_speed:
+        use &= np.isfinite(log.w_mean)
+        per_cycle_speed: np.ndarray | float = log.w_mean[use]
         options["speed_source"] = "mean of speed_mean_rpm over the cycles used"
     elif speed is not None and speed > 0:
         per_cycle_speed = float(speed)
@@ -638,7 +731,13 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
                         "torque-only log")
     if not np.any(use):
         raise DataError("no clean cycle has an energy swing and a mean speed to size from")
-    e_used = swings[use]
+    return swings[use], per_cycle_speed
+
+
+def _design_swing(e_used: np.ndarray, per_cycle_speed: np.ndarray | float, cs: float,
+                  q: float | str, n_boot: int, seed: int, options: dict[str, Any],
+                  messages: list[str]) -> _DesignSwing:
+    """Design energy swing and the constant-drive bound I = ΔE/(Cs·ω̄²) with its interval."""
     n_used = int(e_used.size)
     wbar = float(np.mean(per_cycle_speed))
     if n_used < 20:
@@ -660,37 +759,68 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     options["interval"] += ("; drive slope: ±1.96 standard errors of the fit; model error: "
                             "target moved by the measured/model Cs ratio; combined in "
                             "quadrature on each side (GUM)")
+    return _DesignSwing(e_used, n_used, wbar, e_design, bound, bound_ci)
+
+
+def _measured_speed(clean: pd.DataFrame,
+                    log: _LogCycles) -> tuple[float | None, dict[str, float | None]]:
+    """The log's median Cs and median min/max speeds [rpm], for the models to match."""
     cs_all = _finite(clean["cs"]) if "cs" in clean else np.array([])
     cs_all = cs_all[np.isfinite(cs_all)]
-    cs_measured = float(np.median(cs_all)) if has_speed and cs_all.size else None
+    cs_measured = float(np.median(cs_all)) if log.has_speed and cs_all.size else None
     measured = {f"speed_{name}_rpm_measured": (float(np.median(x[np.isfinite(x)])) * _RPM
                                                 if np.any(np.isfinite(x)) else None)
-                for name, x in (("min", w_min), ("max", w_max))}
+                for name, x in (("min", log.w_min), ("max", log.w_max))}
+    return cs_measured, measured
 
+
+def _run_models(mean_cycle: pd.DataFrame | None, chosen: str, design: _DesignSwing, *,
+                identified: IdentifyResult | None, motor: MotorModel | None,
+                existing: float | None, source: str | None, cs: float,
+                cs_measured: float | None, measured: dict[str, float | None],
+                torque_role: str, revs: int, tolerance: float, hours_per_year: float,
+                messages: list[str]) -> dict[str, Any]:
+    """Run the drive models against the log and take the one that leads (else the bound)."""
     rec = recommend(
-        mean_cycle if mc_ok or (mean_cycle is not None and "torque_mean" in mean_cycle)
-        else None, fit=identified, motor=motor, existing=total_existing,
+        mean_cycle, fit=identified, motor=motor, existing=existing,
         existing_source=f"the {source} inertia" if source else "",
-        target_cs=cs, cs_measured=cs_measured, swing_median=float(np.median(e_used)),
-        swing_design=e_design, bound=bound, bound_ci=bound_ci, torque_role=torque_role,
-        revs=int(revs_per_cycle), tolerance=tolerance, hours_per_year=hours_per_year,
-        measured=measured, messages=messages) if chosen == "torque" else None
+        target_cs=cs, cs_measured=cs_measured, swing_median=float(np.median(design.e_used)),
+        swing_design=design.e_design, bound=design.bound, bound_ci=design.bound_ci,
+        torque_role=torque_role, revs=revs, tolerance=tolerance,
+        hours_per_year=hours_per_year, measured=measured,
+        messages=messages) if chosen == "torque" else None
     if rec is None:
+        bound, bound_ci = design.bound, design.bound_ci
         rec = {"model": "constant drive", "required": bound, "ci95": bound_ci,
                "model_reason": ("the log has no torque channel, so the energy swing comes "
                                 "from the speed and the given inertia, and no drive model can "
                                 "be run; " + BOUND_NOTE),
                "ci95_parts": {"cycle_scatter_kgm2": [bound_ci[0] - bound,
                                                      bound_ci[1] - bound]}}
-    i_req = float(rec["required"])
+    return rec
+
+
+def _settle_existing(rec: dict[str, Any], identified: IdentifyResult | None,
+                     given: float | None, total_existing: float | None,
+                     options: dict[str, Any], messages: list[str]) -> float | None:
+    """The existing inertia [kg*m^2] the leading model stands on (the given one if none)."""
     model_inertia = (rec.get("model_params") or {}).get("inertia_kgm2")
     if rec["model"] != "constant drive" and model_inertia is not None:
-        total_existing = float(model_inertia)
-    elif identified is not None and given is not None:
-        total_existing = given
+        return float(model_inertia)
+    if identified is not None and given is not None:
         options["existing_inertia_source"] = "given"
         messages.append(f"no model explains the log, so its identified inertia is not "
                         f"trusted either: the given {given:.4g} kg m^2 is used")
+        return given
+    return total_existing
+
+
+def _added_inertia(rec: dict[str, Any], total_existing: float | None,
+                   identified: IdentifyResult | None, cs: float, cs_measured: float | None,
+                   ratio: float, messages: list[str]
+                   ) -> tuple[float | None, tuple[float, float] | None]:
+    """Inertia to add [kg*m^2] and its 95 % interval (existing inertia's error included)."""
+    i_req = float(rec["required"])
     added: float | None = None
     added_ci: tuple[float, float] | None = None
     if total_existing is not None:
@@ -714,6 +844,12 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     if ratio != 1.0 and added is not None:
         messages.append(f"on a flywheel shaft turning {ratio:g} × the logged shaft the added "
                         f"inertia is {added / ratio ** 2:.4g} kg m^2 (I/r²)")
+    return added, added_ci
+
+
+def _nameplate_check(motor: MotorModel | None, rec: dict[str, Any], torque_role: str,
+                     messages: list[str]) -> float | None:
+    """The nameplate slope [N*m*s/rad], compared with the log's calibrated one."""
     nameplate_slope = motor.slope if motor is not None else None
     mp = rec.get("model_params") or {}
     if (nameplate_slope is not None and mp.get("name") == "calibrated drive"
@@ -725,21 +861,31 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
                         f"{mp['slope_se_Nms_per_rad']:.2g} N m s/rad ({gap:+.0%})"
                         + ("; the log's slope is used" if rec["model"] == "calibrated drive"
                            else ""))
-    options["flywheel_speed_ratio"] = ratio
+    return nameplate_slope
+
+
+def _assemble(chosen: str, cs: float, q: float | str, ratio: float, design: _DesignSwing,
+              rec: dict[str, Any], *, identified: IdentifyResult | None,
+              existing: float | None, added: float | None,
+              added_ci: tuple[float, float] | None, cs_measured: float | None,
+              nameplate_slope: float | None, messages: list[str],
+              options: dict[str, Any]) -> SizeResult:
+    """Gather the steps' figures into the frozen result."""
+    mp = rec.get("model_params")
     return SizeResult(
-        method=chosen, target_cs=cs, speed_mean=wbar, design_energy_swing=e_design,
-        quantile=q, required_inertia=i_req, ci95=tuple(rec["ci95"]),
-        existing_inertia=total_existing, added_inertia=added, flywheel_speed_ratio=ratio,
-        cycles_used=n_used,
+        method=chosen, target_cs=cs, speed_mean=design.wbar,
+        design_energy_swing=design.e_design, quantile=q,
+        required_inertia=float(rec["required"]), ci95=tuple(rec["ci95"]),
+        existing_inertia=existing, added_inertia=added, flywheel_speed_ratio=ratio,
+        cycles_used=design.n_used,
         identified=identified.to_dict() if identified is not None else None,
         drive=rec.get("drive"), messages=tuple(messages), cautions=CAUTIONS, options=options,
         curve=rec.get("curve"), model=rec["model"], model_reason=rec["model_reason"],
         cs_measured=cs_measured,
-        validation=(rec["validation"].to_dict() | {"model": (rec.get("model_params") or {})
-                                                   .get("name")}
+        validation=(rec["validation"].to_dict() | {"model": (mp or {}).get("name")}
                     if rec.get("validation") is not None else None),
-        candidates=tuple(rec.get("candidates", ())), model_params=rec.get("model_params"),
-        bound_required_inertia=bound, bound_ci95=bound_ci,
+        candidates=tuple(rec.get("candidates", ())), model_params=mp,
+        bound_required_inertia=design.bound, bound_ci95=design.bound_ci,
         ci95_parts=rec["ci95_parts"], added_ci95=added_ci, nameplate_slope=nameplate_slope,
         now=rec.get("now"), after=rec.get("after"))
 
@@ -795,6 +941,23 @@ def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None
     Shigley & Mischke, *Mechanical Engineering Design*, flywheel section.
     """
     machine = profile.machine if profile is not None else {}
+    target_cs = _target_from(target_cs, machine_class, machine)
+    model = _motor_from(profile, motor)
+    ratio = (flywheel_speed_ratio if flywheel_speed_ratio is not None
+             else machine.get("flywheel_speed_ratio", 1.0))
+    o = cycles.options
+    _check_some_clean(cycles)
+    return size_from_cycles(cycles.table, cycles.mean_cycle, target_cs=target_cs,
+                            quantile=quantile, existing_inertia=o["inertia"],
+                            flywheel_speed_ratio=ratio, motor=model,
+                            revs_per_cycle=o["revs_per_cycle"], seed=seed,
+                            torque_role=o["torque_role"], speed=o.get("nominal_speed"),
+                            tolerance=tolerance, hours_per_year=hours_per_year)
+
+
+def _target_from(target_cs: float | None, machine_class: str | None,
+                 machine: Mapping[str, Any]) -> float:
+    """The target Cs: as given, else from the machine class, else from the profile."""
     if target_cs is None and machine_class:
         target_cs = target_cs_for(machine_class)
     if target_cs is None:
@@ -802,12 +965,18 @@ def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None
     if target_cs is None:
         raise UsageError("give --target-cs X, --machine-class NAME or [machine] target_cs in "
                          "the profile")
+    return target_cs
+
+
+def _motor_from(profile: Any, motor: Mapping[str, float] | None) -> MotorModel | None:
+    """The motor model from the profile's ``[motor]`` with the given values over it."""
     motor_kw = dict(profile.motor) if profile is not None else {}
     motor_kw.update({k: v for k, v in (motor or {}).items() if v is not None})
-    model = MotorModel.from_profile(motor_kw) if motor_kw else None
-    ratio = (flywheel_speed_ratio if flywheel_speed_ratio is not None
-             else machine.get("flywheel_speed_ratio", 1.0))
-    o = cycles.options
+    return MotorModel.from_profile(motor_kw) if motor_kw else None
+
+
+def _check_some_clean(cycles: Any) -> None:
+    """Refuse a log whose cycles are all flagged, saying which flags they carry."""
     summary = cycles.summary
     if not summary.get("cycles"):
         flags = ", ".join(f"{k} {v}" for k, v in (summary.get("flags") or {}).items())
@@ -816,12 +985,6 @@ def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None
                         + (f" ({flags})" if flags else "")
                         + "; see the flag column of 'torqlog cycles' and fix the log or how "
                           "it is read")
-    return size_from_cycles(cycles.table, cycles.mean_cycle, target_cs=target_cs,
-                            quantile=quantile, existing_inertia=o["inertia"],
-                            flywheel_speed_ratio=ratio, motor=model,
-                            revs_per_cycle=o["revs_per_cycle"], seed=seed,
-                            torque_role=o["torque_role"], speed=o.get("nominal_speed"),
-                            tolerance=tolerance, hours_per_year=hours_per_year)
 
 
 def size_log_dict(result: SizeResult, cycles: Any) -> dict[str, Any]:
