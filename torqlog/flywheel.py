@@ -49,8 +49,9 @@ References
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field, replace
+from functools import partial
 from typing import Any
 
 import numpy as np
@@ -281,7 +282,28 @@ def solve_geometry(required_inertia: float, material: Material | str, shape: str
         The envelope cannot hold the inertia; the message says what it would need.
     """
     mat = _material(material)
-    rho = mat.density
+    _check_request(required_inertia, shape, outer_diameter, width, bore)
+    if shape == "rim" and rim_depth is None and rim_inner_diameter is None:
+        raise UsageError("shape 'rim' needs rim_depth or rim_inner_diameter")
+    make = partial(_sized_geometry, shape, bore, rim_depth, rim_inner_diameter, web_width)
+    what = f"{shape} in {mat.name} holding {required_inertia:.4g} kg*m^2"
+    if width is None:  # solve the face width: I is linear in it
+        return _solve_width(required_inertia, mat.density, make, outer_diameter, max_width,
+                            max_outer_diameter, what)
+    if max_width is not None and width > max_width:
+        raise DataError(f"width {width:g} m exceeds the envelope {max_width:g} m")
+    od = _solve_outer_diameter(required_inertia, mat.density, make, shape, bore, width,
+                               rim_depth)
+    if max_outer_diameter is not None and od > max_outer_diameter:
+        raise DataError(f"a {width:g} m wide {what} needs an outer diameter of {od:.3g} m; "
+                        f"the envelope allows {max_outer_diameter:.3g} m")
+    return make(od, width)
+
+
+# ------------------------------------------------------------ steps of solve_geometry
+def _check_request(required_inertia: float, shape: str, outer_diameter: float | None,
+                   width: float | None, bore: float) -> None:
+    """Refuse a bad inertia, shape or dimension, or a request that solves nothing."""
     if not (math.isfinite(required_inertia) and required_inertia > 0):
         raise UsageError(f"required inertia must be positive, got {required_inertia!r} "
                          "kg*m^2")
@@ -296,70 +318,71 @@ def solve_geometry(required_inertia: float, material: Material | str, shape: str
                                       and (value > 0 or name == "bore")):
             raise UsageError(f"{name} must be {'zero or more' if name == 'bore' else 'positive'}"
                              f", got {value!r} m")
-    r = bore / 2.0
-    what = f"{shape} in {mat.name} holding {required_inertia:.4g} kg*m^2"
 
-    def make(od: float, w: float) -> DiscGeometry:
-        rid = None
-        if shape == "rim":
-            rid = od - 2.0 * rim_depth if rim_depth is not None else rim_inner_diameter
-        return DiscGeometry(shape, od, bore, w, rim_inner_diameter=rid,
-                            web_width=web_width if shape == "rim" else None)
 
-    if shape == "rim" and rim_depth is None and rim_inner_diameter is None:
-        raise UsageError("shape 'rim' needs rim_depth or rim_inner_diameter")
-
-    if width is None:  # solve the face width: I is linear in it
-        if max_outer_diameter is not None and outer_diameter > max_outer_diameter:
-            raise DataError(f"outer diameter {outer_diameter:g} m exceeds the envelope "
-                            f"{max_outer_diameter:g} m")
-        probe = make(outer_diameter, 1.0)  # validates the diameters
-        edges, widths = probe.steps()
-        if shape == "rim" and web_width is not None:
-            web = 0.5 * math.pi * rho * web_width * (edges[1] ** 4 - edges[0] ** 4)
-            per_width = 0.5 * math.pi * rho * (edges[2] ** 4 - edges[1] ** 4)
-        else:
-            web = 0.0
-            per_width = 0.5 * math.pi * rho * (edges[-1] ** 4 - edges[0] ** 4)
-        if web >= required_inertia:
-            raise DataError(f"the web alone holds {web:.4g} kg*m^2, more than the "
-                            f"{required_inertia:.4g} kg*m^2 required; use a thinner web "
-                            f"or a smaller diameter")
-        w = (required_inertia - web) / per_width
-        if max_width is not None and w > max_width:
-            raise DataError(f"a {outer_diameter:g} m {what} needs a width of {w:.3g} m; "
-                            f"the envelope allows {max_width:.3g} m")
-        return make(outer_diameter, w)
-
-    # solve the outer diameter for a given width
-    if max_width is not None and width > max_width:
-        raise DataError(f"width {width:g} m exceeds the envelope {max_width:g} m")
+def _sized_geometry(shape: str, bore: float, rim_depth: float | None,
+                    rim_inner_diameter: float | None, web_width: float | None, od: float,
+                    w: float) -> DiscGeometry:
+    """The geometry of a trial outer diameter and width [m]; a rim keeps its depth."""
+    rid = None
     if shape == "rim":
-        if rim_depth is None:
-            raise UsageError("to solve the outer diameter of a rim give rim_depth (the rim "
-                             "inner diameter moves with the outer one)")
-        if not rim_depth > 0:
-            raise UsageError(f"rim depth must be positive, got {rim_depth!r} m")
+        rid = od - 2.0 * rim_depth if rim_depth is not None else rim_inner_diameter
+    return DiscGeometry(shape, od, bore, w, rim_inner_diameter=rid,
+                        web_width=web_width if shape == "rim" else None)
 
-        def excess(radius: float) -> float:
-            g = make(2.0 * radius, width)
-            return inertia(g, rho) - required_inertia
 
-        lo = r + rim_depth * (1.0 + 1e-9) + 1e-9
-        if excess(lo) >= 0:
-            raise DataError(f"a rim {rim_depth:g} m deep on a {bore:g} m bore already "
-                            f"holds more than {required_inertia:.4g} kg*m^2; give a "
-                            f"smaller rim depth or width")
-        hi = 2.0 * lo
-        while excess(hi) < 0:
-            hi *= 2.0
-        od = 2.0 * brentq(excess, lo, hi, xtol=1e-12, rtol=1e-12)
+def _solve_width(required_inertia: float, rho: float, make: Callable[..., DiscGeometry],
+                 outer_diameter: float, max_width: float | None,
+                 max_outer_diameter: float | None, what: str) -> DiscGeometry:
+    """Face width for a given outer diameter (closed form: inertia is linear in it)."""
+    if max_outer_diameter is not None and outer_diameter > max_outer_diameter:
+        raise DataError(f"outer diameter {outer_diameter:g} m exceeds the envelope "
+                        f"{max_outer_diameter:g} m")
+    probe = make(outer_diameter, 1.0)  # validates the diameters
+    edges, widths = probe.steps()
+    if probe.shape == "rim" and probe.web_width is not None:
+        web = 0.5 * math.pi * rho * probe.web_width * (edges[1] ** 4 - edges[0] ** 4)
+        per_width = 0.5 * math.pi * rho * (edges[2] ** 4 - edges[1] ** 4)
     else:
-        od = 2.0 * (2.0 * required_inertia / (math.pi * rho * width) + r ** 4) ** 0.25
-    if max_outer_diameter is not None and od > max_outer_diameter:
-        raise DataError(f"a {width:g} m wide {what} needs an outer diameter of {od:.3g} m; "
-                        f"the envelope allows {max_outer_diameter:.3g} m")
-    return make(od, width)
+        web = 0.0
+        per_width = 0.5 * math.pi * rho * (edges[-1] ** 4 - edges[0] ** 4)
+    if web >= required_inertia:
+        raise DataError(f"the web alone holds {web:.4g} kg*m^2, more than the "
+                        f"{required_inertia:.4g} kg*m^2 required; use a thinner web "
+                        f"or a smaller diameter")
+    w = (required_inertia - web) / per_width
+    if max_width is not None and w > max_width:
+        raise DataError(f"a {outer_diameter:g} m {what} needs a width of {w:.3g} m; "
+                        f"the envelope allows {max_width:.3g} m")
+    return make(outer_diameter, w)
+
+
+def _solve_outer_diameter(required_inertia: float, rho: float,
+                          make: Callable[..., DiscGeometry], shape: str, bore: float,
+                          width: float, rim_depth: float | None) -> float:
+    """Outer diameter [m] for a given width: closed form for a disc, brentq for a rim."""
+    r = bore / 2.0
+    if shape != "rim":
+        return 2.0 * (2.0 * required_inertia / (math.pi * rho * width) + r ** 4) ** 0.25
+    if rim_depth is None:
+        raise UsageError("to solve the outer diameter of a rim give rim_depth (the rim "
+                         "inner diameter moves with the outer one)")
+    if not rim_depth > 0:
+        raise UsageError(f"rim depth must be positive, got {rim_depth!r} m")
+
+    def excess(radius: float) -> float:
+        g = make(2.0 * radius, width)
+        return inertia(g, rho) - required_inertia
+
+    lo = r + rim_depth * (1.0 + 1e-9) + 1e-9
+    if excess(lo) >= 0:
+        raise DataError(f"a rim {rim_depth:g} m deep on a {bore:g} m bore already "
+                        f"holds more than {required_inertia:.4g} kg*m^2; give a "
+                        f"smaller rim depth or width")
+    hi = 2.0 * lo
+    while excess(hi) < 0:
+        hi *= 2.0
+    return 2.0 * brentq(excess, lo, hi, xtol=1e-12, rtol=1e-12)
 
 
 # --------------------------------------------------------------------------- result
