@@ -1055,50 +1055,66 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
 
     fw = profile.flywheel if profile is not None else {}
     mach = profile.machine if profile is not None else {}
-    ratio = mach.get("flywheel_speed_ratio")
+    inertia, speed, size_info = _requirement(mach, inertia, speed, size, size_source)
+    given = _over_profile(fw, material=material, shape=shape, outer_diameter=outer_diameter,
+                          bore=bore, width=width, max_width=max_width,
+                          interference=interference, overspeed=overspeed)
+    mat = resolve_material(given["material"], table=materials, density=density,
+                           modulus=modulus, poisson=poisson, strength=strength,
+                           brittle=brittle, name=material_name,
+                           where=f"{getattr(profile, 'source', '<profile>')} [flywheel] material")
+    common = dict(overspeed=given["overspeed"], slowdown=slowdown,
+                  interference=given["interference"], material_factor=material_factor)
+    if inertia is None:
+        geometry = _given_geometry(given["shape"], given["outer_diameter"], given["bore"],
+                                   given["width"], rim_inner_diameter, rim_depth, web_width)
+        result = check_flywheel(geometry, mat, speed, **common)
+    else:
+        result = design_flywheel(inertia, speed, mat, given["shape"], given["outer_diameter"],
+                                 given["bore"], given["width"], given["max_width"],
+                                 max_outer_diameter=max_outer_diameter, rim_depth=rim_depth,
+                                 rim_inner_diameter=rim_inner_diameter, web_width=web_width,
+                                 **common)
+    if size_info:
+        result = replace(result, options={**result.options, **size_info})
+    return result
+
+
+# ----------------------------------------------------- steps of flywheel_from_profile
+def _requirement(machine: Mapping[str, Any], inertia: float | None, speed: float | None,
+                 size: dict[str, Any] | None,
+                 size_source: str) -> tuple[float | None, float, dict[str, Any]]:
+    """Inertia [kg*m^2] and speed [rad/s]: as given, else the size result, else the profile."""
+    ratio = machine.get("flywheel_speed_ratio")
     size_info: dict[str, Any] = {}
     if size is not None:
         size_inertia, size_speed, size_info = requirement_from_size(size, size_source, ratio)
         inertia = inertia if inertia is not None else size_inertia
         speed = speed if speed is not None else size_speed
-    if speed is None and "speed" in mach:
-        speed = mach["speed"] * (ratio if ratio is not None else 1.0)
+    if speed is None and "speed" in machine:
+        speed = machine["speed"] * (ratio if ratio is not None else 1.0)
     if speed is None:
         raise UsageError("give --speed-rpm (or a --profile with [machine] speed_rpm, or "
                          "--from-size)")
+    return inertia, speed, size_info
 
-    def pick(value: Any, key: str, default: Any = None) -> Any:
-        return value if value is not None else fw.get(key, default)
 
-    spec = pick(material, "material")
-    mat = resolve_material(spec, table=materials, density=density, modulus=modulus,
-                           poisson=poisson, strength=strength, brittle=brittle,
-                           name=material_name,
-                           where=f"{getattr(profile, 'source', '<profile>')} [flywheel] material")
-    shape = pick(shape, "shape", "annular-disc")
-    outer_diameter = pick(outer_diameter, "outer_diameter")
-    bore = pick(bore, "bore", 0.0)
-    width = pick(width, "width")
-    max_width = pick(max_width, "max_width")
-    interference = pick(interference, "interference")
-    overspeed = pick(overspeed, "overspeed", 1.2)
-    common = dict(overspeed=overspeed, slowdown=slowdown, interference=interference,
-                  material_factor=material_factor)
-    if inertia is None:
-        if outer_diameter is None or width is None:
-            raise UsageError("give --inertia or --from-size to size a flywheel, or both "
-                             "--outer-diameter and --width to check a given one")
-        rid = rim_inner_diameter
-        if shape == "rim" and rid is None and rim_depth is not None:
-            rid = outer_diameter - 2.0 * rim_depth
-        geometry = DiscGeometry(shape, outer_diameter, bore, width,
-                                rim_inner_diameter=rid, web_width=web_width)
-        result = check_flywheel(geometry, mat, speed, **common)
-    else:
-        result = design_flywheel(inertia, speed, mat, shape, outer_diameter, bore, width,
-                                 max_width, max_outer_diameter=max_outer_diameter,
-                                 rim_depth=rim_depth, rim_inner_diameter=rim_inner_diameter,
-                                 web_width=web_width, **common)
-    if size_info:
-        result = replace(result, options={**result.options, **size_info})
-    return result
+def _over_profile(flywheel: Mapping[str, Any], **given: Any) -> dict[str, Any]:
+    """Each value as given, else the profile's ``[flywheel]`` value, else the default."""
+    defaults = {"shape": "annular-disc", "bore": 0.0, "overspeed": 1.2}
+    return {key: value if value is not None else flywheel.get(key, defaults.get(key))
+            for key, value in given.items()}
+
+
+def _given_geometry(shape: str, outer_diameter: float | None, bore: float,
+                    width: float | None, rim_inner_diameter: float | None,
+                    rim_depth: float | None, web_width: float | None) -> DiscGeometry:
+    """The flywheel to check when no inertia is asked for: its full dimensions [m]."""
+    if outer_diameter is None or width is None:
+        raise UsageError("give --inertia or --from-size to size a flywheel, or both "
+                         "--outer-diameter and --width to check a given one")
+    rid = rim_inner_diameter
+    if shape == "rim" and rid is None and rim_depth is not None:
+        rid = outer_diameter - 2.0 * rim_depth
+    return DiscGeometry(shape, outer_diameter, bore, width,
+                        rim_inner_diameter=rid, web_width=web_width)
