@@ -49,8 +49,9 @@ References
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field, replace
+from functools import partial
 from typing import Any
 
 import numpy as np
@@ -281,7 +282,28 @@ def solve_geometry(required_inertia: float, material: Material | str, shape: str
         The envelope cannot hold the inertia; the message says what it would need.
     """
     mat = _material(material)
-    rho = mat.density
+    _check_request(required_inertia, shape, outer_diameter, width, bore)
+    if shape == "rim" and rim_depth is None and rim_inner_diameter is None:
+        raise UsageError("shape 'rim' needs rim_depth or rim_inner_diameter")
+    make = partial(_sized_geometry, shape, bore, rim_depth, rim_inner_diameter, web_width)
+    what = f"{shape} in {mat.name} holding {required_inertia:.4g} kg*m^2"
+    if width is None:  # solve the face width: I is linear in it
+        return _solve_width(required_inertia, mat.density, make, outer_diameter, max_width,
+                            max_outer_diameter, what)
+    if max_width is not None and width > max_width:
+        raise DataError(f"width {width:g} m exceeds the envelope {max_width:g} m")
+    od = _solve_outer_diameter(required_inertia, mat.density, make, shape, bore, width,
+                               rim_depth)
+    if max_outer_diameter is not None and od > max_outer_diameter:
+        raise DataError(f"a {width:g} m wide {what} needs an outer diameter of {od:.3g} m; "
+                        f"the envelope allows {max_outer_diameter:.3g} m")
+    return make(od, width)
+
+
+# ------------------------------------------------------------ steps of solve_geometry
+def _check_request(required_inertia: float, shape: str, outer_diameter: float | None,
+                   width: float | None, bore: float) -> None:
+    """Refuse a bad inertia, shape or dimension, or a request that solves nothing."""
     if not (math.isfinite(required_inertia) and required_inertia > 0):
         raise UsageError(f"required inertia must be positive, got {required_inertia!r} "
                          "kg*m^2")
@@ -296,70 +318,71 @@ def solve_geometry(required_inertia: float, material: Material | str, shape: str
                                       and (value > 0 or name == "bore")):
             raise UsageError(f"{name} must be {'zero or more' if name == 'bore' else 'positive'}"
                              f", got {value!r} m")
-    r = bore / 2.0
-    what = f"{shape} in {mat.name} holding {required_inertia:.4g} kg*m^2"
 
-    def make(od: float, w: float) -> DiscGeometry:
-        rid = None
-        if shape == "rim":
-            rid = od - 2.0 * rim_depth if rim_depth is not None else rim_inner_diameter
-        return DiscGeometry(shape, od, bore, w, rim_inner_diameter=rid,
-                            web_width=web_width if shape == "rim" else None)
 
-    if shape == "rim" and rim_depth is None and rim_inner_diameter is None:
-        raise UsageError("shape 'rim' needs rim_depth or rim_inner_diameter")
-
-    if width is None:  # solve the face width: I is linear in it
-        if max_outer_diameter is not None and outer_diameter > max_outer_diameter:
-            raise DataError(f"outer diameter {outer_diameter:g} m exceeds the envelope "
-                            f"{max_outer_diameter:g} m")
-        probe = make(outer_diameter, 1.0)  # validates the diameters
-        edges, widths = probe.steps()
-        if shape == "rim" and web_width is not None:
-            web = 0.5 * math.pi * rho * web_width * (edges[1] ** 4 - edges[0] ** 4)
-            per_width = 0.5 * math.pi * rho * (edges[2] ** 4 - edges[1] ** 4)
-        else:
-            web = 0.0
-            per_width = 0.5 * math.pi * rho * (edges[-1] ** 4 - edges[0] ** 4)
-        if web >= required_inertia:
-            raise DataError(f"the web alone holds {web:.4g} kg*m^2, more than the "
-                            f"{required_inertia:.4g} kg*m^2 required; use a thinner web "
-                            f"or a smaller diameter")
-        w = (required_inertia - web) / per_width
-        if max_width is not None and w > max_width:
-            raise DataError(f"a {outer_diameter:g} m {what} needs a width of {w:.3g} m; "
-                            f"the envelope allows {max_width:.3g} m")
-        return make(outer_diameter, w)
-
-    # solve the outer diameter for a given width
-    if max_width is not None and width > max_width:
-        raise DataError(f"width {width:g} m exceeds the envelope {max_width:g} m")
+def _sized_geometry(shape: str, bore: float, rim_depth: float | None,
+                    rim_inner_diameter: float | None, web_width: float | None, od: float,
+                    w: float) -> DiscGeometry:
+    """The geometry of a trial outer diameter and width [m]; a rim keeps its depth."""
+    rid = None
     if shape == "rim":
-        if rim_depth is None:
-            raise UsageError("to solve the outer diameter of a rim give rim_depth (the rim "
-                             "inner diameter moves with the outer one)")
-        if not rim_depth > 0:
-            raise UsageError(f"rim depth must be positive, got {rim_depth!r} m")
+        rid = od - 2.0 * rim_depth if rim_depth is not None else rim_inner_diameter
+    return DiscGeometry(shape, od, bore, w, rim_inner_diameter=rid,
+                        web_width=web_width if shape == "rim" else None)
 
-        def excess(radius: float) -> float:
-            g = make(2.0 * radius, width)
-            return inertia(g, rho) - required_inertia
 
-        lo = r + rim_depth * (1.0 + 1e-9) + 1e-9
-        if excess(lo) >= 0:
-            raise DataError(f"a rim {rim_depth:g} m deep on a {bore:g} m bore already "
-                            f"holds more than {required_inertia:.4g} kg*m^2; give a "
-                            f"smaller rim depth or width")
-        hi = 2.0 * lo
-        while excess(hi) < 0:
-            hi *= 2.0
-        od = 2.0 * brentq(excess, lo, hi, xtol=1e-12, rtol=1e-12)
+def _solve_width(required_inertia: float, rho: float, make: Callable[..., DiscGeometry],
+                 outer_diameter: float, max_width: float | None,
+                 max_outer_diameter: float | None, what: str) -> DiscGeometry:
+    """Face width for a given outer diameter (closed form: inertia is linear in it)."""
+    if max_outer_diameter is not None and outer_diameter > max_outer_diameter:
+        raise DataError(f"outer diameter {outer_diameter:g} m exceeds the envelope "
+                        f"{max_outer_diameter:g} m")
+    probe = make(outer_diameter, 1.0)  # validates the diameters
+    edges, widths = probe.steps()
+    if probe.shape == "rim" and probe.web_width is not None:
+        web = 0.5 * math.pi * rho * probe.web_width * (edges[1] ** 4 - edges[0] ** 4)
+        per_width = 0.5 * math.pi * rho * (edges[2] ** 4 - edges[1] ** 4)
     else:
-        od = 2.0 * (2.0 * required_inertia / (math.pi * rho * width) + r ** 4) ** 0.25
-    if max_outer_diameter is not None and od > max_outer_diameter:
-        raise DataError(f"a {width:g} m wide {what} needs an outer diameter of {od:.3g} m; "
-                        f"the envelope allows {max_outer_diameter:.3g} m")
-    return make(od, width)
+        web = 0.0
+        per_width = 0.5 * math.pi * rho * (edges[-1] ** 4 - edges[0] ** 4)
+    if web >= required_inertia:
+        raise DataError(f"the web alone holds {web:.4g} kg*m^2, more than the "
+                        f"{required_inertia:.4g} kg*m^2 required; use a thinner web "
+                        f"or a smaller diameter")
+    w = (required_inertia - web) / per_width
+    if max_width is not None and w > max_width:
+        raise DataError(f"a {outer_diameter:g} m {what} needs a width of {w:.3g} m; "
+                        f"the envelope allows {max_width:.3g} m")
+    return make(outer_diameter, w)
+
+
+def _solve_outer_diameter(required_inertia: float, rho: float,
+                          make: Callable[..., DiscGeometry], shape: str, bore: float,
+                          width: float, rim_depth: float | None) -> float:
+    """Outer diameter [m] for a given width: closed form for a disc, brentq for a rim."""
+    r = bore / 2.0
+    if shape != "rim":
+        return 2.0 * (2.0 * required_inertia / (math.pi * rho * width) + r ** 4) ** 0.25
+    if rim_depth is None:
+        raise UsageError("to solve the outer diameter of a rim give rim_depth (the rim "
+                         "inner diameter moves with the outer one)")
+    if not rim_depth > 0:
+        raise UsageError(f"rim depth must be positive, got {rim_depth!r} m")
+
+    def excess(radius: float) -> float:
+        g = make(2.0 * radius, width)
+        return inertia(g, rho) - required_inertia
+
+    lo = r + rim_depth * (1.0 + 1e-9) + 1e-9
+    if excess(lo) >= 0:
+        raise DataError(f"a rim {rim_depth:g} m deep on a {bore:g} m bore already "
+                        f"holds more than {required_inertia:.4g} kg*m^2; give a "
+                        f"smaller rim depth or width")
+    hi = 2.0 * lo
+    while excess(hi) < 0:
+        hi *= 2.0
+    return 2.0 * brentq(excess, lo, hi, xtol=1e-12, rtol=1e-12)
 
 
 # --------------------------------------------------------------------------- result
@@ -559,6 +582,74 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
        (pressure of a shrink fit between a hub and a solid shaft).
     """
     mat = _material(material)
+    criterion, material_factor = _checked_options(geometry, mat, speed, overspeed, slowdown,
+                                                  interference, material_factor, criterion)
+    crit_fn = von_mises if criterion == "von-mises" else max_principal
+    rotation = _rotation_stresses(geometry, mat, speed)
+    margin = _burst_margin(rotation, mat, crit_fn, material_factor, overspeed)
+    energy = _mass_and_energy(geometry, mat.density, speed, slowdown)
+    fit = _shrink_fit(geometry, mat, rotation, speed, overspeed, interference, crit_fn,
+                      material_factor, shaft_material, shaft_modulus)
+    checks = _design_checks(geometry, mat, margin, energy, required_inertia) + list(fit.checks)
+    cautions = _design_cautions(geometry, mat) + list(fit.cautions)
+    options = _check_record(geometry, overspeed, slowdown, interference, material_factor,
+                            criterion, required_inertia, fit.shaft, shaft_modulus)
+    return _assemble_result(geometry, mat, speed, criterion, material_factor, rotation,
+                            margin, energy, fit, checks, cautions, options)
+
+
+# ------------------------------------------------------------ steps of check_flywheel
+@dataclass(frozen=True)
+class _Rotation:
+    """Rotational stress profile at the operating speed on the disc's steps [m, Pa]."""
+
+    edges: np.ndarray
+    widths: np.ndarray
+    radius: np.ndarray
+    step: np.ndarray
+    radial: np.ndarray
+    tangential: np.ndarray
+
+
+@dataclass(frozen=True)
+class _Margin:
+    """Burst margin: peak criterion stress [Pa], its radius [m] and the factors [-]."""
+
+    stress_critical: float
+    critical_radius: float
+    stress_factor: float
+    speed_factor: float
+    required_factor: float
+
+
+@dataclass(frozen=True)
+class _Energy:
+    """Mass [kg], inertia [kg*m^2], rim speed [m/s] and kinetic energies [J]."""
+
+    mass: float
+    inertia: float
+    rim_speed: float
+    stored: float
+    released_share: float | None
+    released: float | None
+
+
+@dataclass(frozen=True)
+class _Fit:
+    """Shrink-fit outcome [rad/s, Pa] with its checks and cautions (empty: not checked)."""
+
+    loosening_speed: float | None = None
+    pressure_rest: float | None = None
+    bore_stress: float | None = None
+    shaft: Material | None = None
+    checks: tuple[Check, ...] = ()
+    cautions: tuple[str, ...] = ()
+
+
+def _checked_options(geometry: DiscGeometry, mat: Material, speed: float, overspeed: float,
+                     slowdown: float | None, interference: float | None,
+                     material_factor: float | None, criterion: str | None) -> tuple[str, float]:
+    """Refuse bad options; fill the criterion and material factor the material implies."""
     _validate_speed(speed)
     if not (math.isfinite(overspeed) and overspeed >= 1.0):
         raise UsageError(f"overspeed must be 1 or more (a factor on the operating speed), "
@@ -579,43 +670,111 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
             raise UsageError(f"interference must be positive, got {interference!r} m")
         if geometry.bore == 0:
             raise UsageError("an interference fit needs a bore; the geometry has none")
+    return criterion, material_factor
 
-    rho, nu, e = mat.density, mat.poisson, mat.modulus
-    crit_fn = von_mises if criterion == "von-mises" else max_principal
+
+def _rotation_stresses(geometry: DiscGeometry, mat: Material, speed: float) -> _Rotation:
+    """Radial and hoop stresses from rotation at the operating speed, free bore and rim."""
+    rho, nu = mat.density, mat.poisson
     edges, widths = geometry.steps()
-
-    # rotational stresses at the operating speed
     a_c, b_c = step_constants(edges, widths, speed, rho, nu, 0.0)
     radius, step = profile_radii(edges, a_c, b_c, speed, rho, nu)
     s_r, s_t = step_stresses(radius, a_c[step], b_c[step], speed, rho, nu)
-    crit = crit_fn(s_r, s_t)
+    return _Rotation(edges, widths, radius, step, s_r, s_t)
+
+
+def _burst_margin(rotation: _Rotation, mat: Material, crit_fn: Any, material_factor: float,
+                  overspeed: float) -> _Margin:
+    """Safety factors on stress and speed, and the stress factor the overspeed requires."""
+    crit = crit_fn(rotation.radial, rotation.tangential)
     i_crit = int(np.argmax(crit))
     stress_critical = float(crit[i_crit])
     stress_factor = mat.strength / stress_critical
-    speed_factor = math.sqrt(stress_factor)
-    required_factor = material_factor * overspeed ** 2
+    return _Margin(stress_critical=stress_critical,
+                   critical_radius=float(rotation.radius[i_crit]),
+                   stress_factor=stress_factor, speed_factor=math.sqrt(stress_factor),
+                   required_factor=material_factor * overspeed ** 2)
 
+
+def _mass_and_energy(geometry: DiscGeometry, rho: float, speed: float,
+                     slowdown: float | None) -> _Energy:
+    """Mass, inertia, rim speed, stored energy and the energy a stroke's slowdown releases."""
     i_total = inertia(geometry, rho)
     m_total = mass(geometry, rho)
     rim_speed = speed * geometry.outer_radius
     stored = 0.5 * i_total * speed ** 2
     share = None if slowdown is None else 1.0 - (1.0 - slowdown) ** 2
     released = None if share is None else stored * share
+    return _Energy(mass=m_total, inertia=i_total, rim_speed=rim_speed, stored=stored,
+                   released_share=share, released=released)
 
+
+def _shrink_fit(geometry: DiscGeometry, mat: Material, rotation: _Rotation, speed: float,
+                overspeed: float, interference: float | None, crit_fn: Any,
+                material_factor: float, shaft_material: Material | str,
+                shaft_modulus: float | None) -> _Fit:
+    """Fit pressure, loosening speed and bore stress of a shrink fit on a solid shaft."""
+    if interference is None:
+        return _Fit()
+    if not geometry.models_bore:
+        return _Fit(cautions=("The interference fit was not checked: the rim model has no "
+                              "web reaching the bore (give a web width).",))
+    rho, nu, e = mat.density, mat.poisson, mat.modulus
+    shaft = _material(shaft_material)
+    e_s = shaft_modulus if shaft_modulus is not None else shaft.modulus
+    if not e_s > 0:
+        raise UsageError(f"shaft modulus must be positive, got {e_s!r} Pa")
+    a = geometry.inner_radius
+    s_r, s_t = rotation.radial, rotation.tangential
+    # hub: bore growth from rotation (free bore) and per unit bore pressure
+    hub_rot = a * s_t[0] / e
+    a_p, b_p = step_constants(rotation.edges, rotation.widths, 0.0, rho, nu, 1.0)
+    p_r, p_t = step_stresses(rotation.radius, a_p[rotation.step], b_p[rotation.step], 0.0,
+                             rho, nu)
+    hub_per_p = a * (p_t[0] - nu * p_r[0]) / e
+    # solid shaft: growth from rotation (solid disc at r = a) and per unit pressure
+    shaft_rot = a * (1.0 - shaft.poisson) / 4.0 * shaft.density * speed ** 2 * a ** 2 / e_s
+    shaft_per_p = a * (1.0 - shaft.poisson) / e_s
+    compliance = hub_per_p + shaft_per_p
+    half = interference / 2.0
+    fit_p0 = half / compliance
+    growth = hub_rot - shaft_rot  # at the operating speed; grows with speed^2
+    loosening = speed * math.sqrt(half / growth) if growth > 0 else math.inf
+    w_over = overspeed * speed
+    p_over = max(0.0, (half - growth * overspeed ** 2) / compliance)
+    rest = crit_fn(fit_p0 * p_r, fit_p0 * p_t)
+    over = crit_fn(overspeed ** 2 * s_r + p_over * p_r, overspeed ** 2 * s_t + p_over * p_t)
+    bore_with_fit = float(max(rest.max(), over.max()))
+    checks = (Check("fit_loosening_rpm", loosening / _RPM, w_over / _RPM, loosening >= w_over),
+              Check("stress_bore_with_fit_MPa", bore_with_fit / 1e6,
+                    mat.strength / material_factor / 1e6,
+                    bore_with_fit <= mat.strength / material_factor))
+    return _Fit(loosening_speed=loosening, pressure_rest=fit_p0, bore_stress=bore_with_fit,
+                shaft=shaft, checks=checks)
+
+
+def _design_checks(geometry: DiscGeometry, mat: Material, margin: _Margin, energy: _Energy,
+                   required_inertia: float | None) -> list[Check]:
+    """Checks of burst margin, rim speed, proportions and (if asked) the inertia held."""
+    stress_factor, required_factor = margin.stress_factor, margin.required_factor
     checks = [Check("stress_safety_factor", stress_factor, required_factor,
                     stress_factor >= required_factor)]
     if mat.rim_speed_limit is not None:
-        checks.append(Check("rim_speed_m_s", rim_speed, mat.rim_speed_limit,
-                            rim_speed <= mat.rim_speed_limit))
+        checks.append(Check("rim_speed_m_s", energy.rim_speed, mat.rim_speed_limit,
+                            energy.rim_speed <= mat.rim_speed_limit))
     proportion = geometry.width / geometry.outer_diameter
     checks.append(Check("width_to_outer_diameter", proportion, MAX_WIDTH_TO_DIAMETER,
                         proportion <= MAX_WIDTH_TO_DIAMETER))
     if required_inertia is not None:
-        checks.append(Check("inertia_kgm2", i_total, required_inertia,
-                            i_total >= required_inertia * (1.0 - 1e-9)))
+        checks.append(Check("inertia_kgm2", energy.inertia, required_inertia,
+                            energy.inertia >= required_inertia * (1.0 - 1e-9)))
+    return checks
 
+
+def _design_cautions(geometry: DiscGeometry, mat: Material) -> list[str]:
+    """The cautions every result carries, with those its proportions, shape and material add."""
     cautions = list(CAUTIONS)
-    if proportion > MAX_WIDTH_TO_DIAMETER:
+    if geometry.width / geometry.outer_diameter > MAX_WIDTH_TO_DIAMETER:
         cautions.insert(0, (
             f"The face width ({geometry.width:.4g} m) is more than "
             f"{MAX_WIDTH_TO_DIAMETER:g} x the outer diameter ({geometry.outer_diameter:.4g} m):"
@@ -630,58 +789,32 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
             "hub and shaft fit are not checked.")
     if mat.rim_speed_limit is None:
         cautions.append(f"No rim-speed limit is known for {mat.name}; rim speed not checked.")
+    return cautions
 
-    # shrink fit
-    loosening = fit_p0 = bore_with_fit = None
-    shaft = None
-    if interference is not None and not geometry.models_bore:
-        cautions.append("The interference fit was not checked: the rim model has no web "
-                        "reaching the bore (give a web width).")
-    elif interference is not None:
-        shaft = _material(shaft_material)
-        e_s = shaft_modulus if shaft_modulus is not None else shaft.modulus
-        if not e_s > 0:
-            raise UsageError(f"shaft modulus must be positive, got {e_s!r} Pa")
-        a = geometry.inner_radius
-        # hub: bore growth from rotation (free bore) and per unit bore pressure
-        hub_rot = a * s_t[0] / e
-        a_p, b_p = step_constants(edges, widths, 0.0, rho, nu, 1.0)
-        p_r, p_t = step_stresses(radius, a_p[step], b_p[step], 0.0, rho, nu)
-        hub_per_p = a * (p_t[0] - nu * p_r[0]) / e
-        # solid shaft: growth from rotation (solid disc at r = a) and per unit pressure
-        shaft_rot = a * (1.0 - shaft.poisson) / 4.0 * shaft.density * speed ** 2 * a ** 2 / e_s
-        shaft_per_p = a * (1.0 - shaft.poisson) / e_s
-        compliance = hub_per_p + shaft_per_p
-        half = interference / 2.0
-        fit_p0 = half / compliance
-        growth = hub_rot - shaft_rot  # at the operating speed; grows with speed^2
-        loosening = speed * math.sqrt(half / growth) if growth > 0 else math.inf
-        w_over = overspeed * speed
-        p_over = max(0.0, (half - growth * overspeed ** 2) / compliance)
-        rest = crit_fn(fit_p0 * p_r, fit_p0 * p_t)
-        over = crit_fn(overspeed ** 2 * s_r + p_over * p_r, overspeed ** 2 * s_t + p_over * p_t)
-        bore_with_fit = float(max(rest.max(), over.max()))
-        checks.append(Check("fit_loosening_rpm", loosening / _RPM, w_over / _RPM,
-                            loosening >= w_over))
-        checks.append(Check("stress_bore_with_fit_MPa", bore_with_fit / 1e6,
-                            mat.strength / material_factor / 1e6,
-                            bore_with_fit <= mat.strength / material_factor))
 
+def _stress_model(geometry: DiscGeometry) -> str:
+    """The stress model the shape is checked with, and its source."""
     if geometry.shape == "solid-disc":
-        model = "uniform solid disc (Timoshenko & Goodier sec. 32)"
-    elif geometry.shape == "annular-disc":
-        model = "uniform disc with free bore (Timoshenko & Goodier sec. 32)"
-    elif geometry.web_width is None:
-        model = "free rim ring, web neglected (Timoshenko & Goodier sec. 32)"
-    else:
-        model = "stepped disc: web and rim (Timoshenko, Strength of Materials II)"
-    options: dict[str, Any] = {
+        return "uniform solid disc (Timoshenko & Goodier sec. 32)"
+    if geometry.shape == "annular-disc":
+        return "uniform disc with free bore (Timoshenko & Goodier sec. 32)"
+    if geometry.web_width is None:
+        return "free rim ring, web neglected (Timoshenko & Goodier sec. 32)"
+    return "stepped disc: web and rim (Timoshenko, Strength of Materials II)"
+
+
+def _check_record(geometry: DiscGeometry, overspeed: float, slowdown: float | None,
+                  interference: float | None, material_factor: float, criterion: str,
+                  required_inertia: float | None, shaft: Material | None,
+                  shaft_modulus: float | None) -> dict[str, Any]:
+    """The options that made the check, for ``FlywheelResult.options``."""
+    return {
         "overspeed": overspeed,
         "slowdown": slowdown,
         "interference_m": interference,
         "material_factor": material_factor,
         "criterion": criterion,
-        "stress_model": model,
+        "stress_model": _stress_model(geometry),
         "stresses_at": "operating speed; required stress factor = material_factor x "
                        "overspeed^2",
         "rim_speed_checked_at": "operating speed",
@@ -692,21 +825,29 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
         "fit_model": ("solid shaft, plane stress; shaft growth from rotation included"
                       if shaft is not None else None),
     }
-    bore_stress = float(s_t[0]) if geometry.models_bore else None
+
+
+def _assemble_result(geometry: DiscGeometry, mat: Material, speed: float, criterion: str,
+                     material_factor: float, rotation: _Rotation, margin: _Margin,
+                     energy: _Energy, fit: _Fit, checks: list[Check], cautions: list[str],
+                     options: dict[str, Any]) -> FlywheelResult:
+    """The figures of every step in one :class:`FlywheelResult`."""
+    s_r, s_t = rotation.radial, rotation.tangential
     return FlywheelResult(
-        geometry=geometry, material=mat, speed=speed, mass=m_total, inertia=i_total,
-        rim_speed=rim_speed, stored_energy=stored, energy_released=released,
-        energy_released_share=share, stress_tangential_bore=bore_stress,
+        geometry=geometry, material=mat, speed=speed, mass=energy.mass,
+        inertia=energy.inertia, rim_speed=energy.rim_speed, stored_energy=energy.stored,
+        energy_released=energy.released, energy_released_share=energy.released_share,
+        stress_tangential_bore=float(s_t[0]) if geometry.models_bore else None,
         stress_radial_max=float(s_r.max()), stress_von_mises_max=float(von_mises(s_r, s_t).max()),
         stress_max_principal_max=float(max_principal(s_r, s_t).max()),
-        stress_critical=stress_critical, critical_radius=float(radius[i_crit]),
-        criterion=criterion, rim_hoop_stress_thin=rim_hoop_stress(rho, rim_speed),
-        material_factor=material_factor, required_stress_factor=required_factor,
-        stress_safety_factor=stress_factor, yield_speed=speed * speed_factor,
-        speed_safety_factor=speed_factor, fit_loosening_speed=loosening,
-        fit_pressure_rest=fit_p0, stress_bore_with_fit=bore_with_fit, checks=tuple(checks),
-        cautions=tuple(cautions), options=options, radius=radius, radial=s_r,
-        tangential=s_t, step=step,
+        stress_critical=margin.stress_critical, critical_radius=margin.critical_radius,
+        criterion=criterion, rim_hoop_stress_thin=rim_hoop_stress(mat.density, energy.rim_speed),
+        material_factor=material_factor, required_stress_factor=margin.required_factor,
+        stress_safety_factor=margin.stress_factor, yield_speed=speed * margin.speed_factor,
+        speed_safety_factor=margin.speed_factor, fit_loosening_speed=fit.loosening_speed,
+        fit_pressure_rest=fit.pressure_rest, stress_bore_with_fit=fit.bore_stress,
+        checks=tuple(checks), cautions=tuple(cautions), options=options,
+        radius=rotation.radius, radial=s_r, tangential=s_t, step=rotation.step,
     )
 
 
@@ -914,50 +1055,66 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
 
     fw = profile.flywheel if profile is not None else {}
     mach = profile.machine if profile is not None else {}
-    ratio = mach.get("flywheel_speed_ratio")
+    inertia, speed, size_info = _requirement(mach, inertia, speed, size, size_source)
+    given = _over_profile(fw, material=material, shape=shape, outer_diameter=outer_diameter,
+                          bore=bore, width=width, max_width=max_width,
+                          interference=interference, overspeed=overspeed)
+    mat = resolve_material(given["material"], table=materials, density=density,
+                           modulus=modulus, poisson=poisson, strength=strength,
+                           brittle=brittle, name=material_name,
+                           where=f"{getattr(profile, 'source', '<profile>')} [flywheel] material")
+    common = dict(overspeed=given["overspeed"], slowdown=slowdown,
+                  interference=given["interference"], material_factor=material_factor)
+    if inertia is None:
+        geometry = _given_geometry(given["shape"], given["outer_diameter"], given["bore"],
+                                   given["width"], rim_inner_diameter, rim_depth, web_width)
+        result = check_flywheel(geometry, mat, speed, **common)
+    else:
+        result = design_flywheel(inertia, speed, mat, given["shape"], given["outer_diameter"],
+                                 given["bore"], given["width"], given["max_width"],
+                                 max_outer_diameter=max_outer_diameter, rim_depth=rim_depth,
+                                 rim_inner_diameter=rim_inner_diameter, web_width=web_width,
+                                 **common)
+    if size_info:
+        result = replace(result, options={**result.options, **size_info})
+    return result
+
+
+# ----------------------------------------------------- steps of flywheel_from_profile
+def _requirement(machine: Mapping[str, Any], inertia: float | None, speed: float | None,
+                 size: dict[str, Any] | None,
+                 size_source: str) -> tuple[float | None, float, dict[str, Any]]:
+    """Inertia [kg*m^2] and speed [rad/s]: as given, else the size result, else the profile."""
+    ratio = machine.get("flywheel_speed_ratio")
     size_info: dict[str, Any] = {}
     if size is not None:
         size_inertia, size_speed, size_info = requirement_from_size(size, size_source, ratio)
         inertia = inertia if inertia is not None else size_inertia
         speed = speed if speed is not None else size_speed
-    if speed is None and "speed" in mach:
-        speed = mach["speed"] * (ratio if ratio is not None else 1.0)
+    if speed is None and "speed" in machine:
+        speed = machine["speed"] * (ratio if ratio is not None else 1.0)
     if speed is None:
         raise UsageError("give --speed-rpm (or a --profile with [machine] speed_rpm, or "
                          "--from-size)")
+    return inertia, speed, size_info
 
-    def pick(value: Any, key: str, default: Any = None) -> Any:
-        return value if value is not None else fw.get(key, default)
 
-    spec = pick(material, "material")
-    mat = resolve_material(spec, table=materials, density=density, modulus=modulus,
-                           poisson=poisson, strength=strength, brittle=brittle,
-                           name=material_name,
-                           where=f"{getattr(profile, 'source', '<profile>')} [flywheel] material")
-    shape = pick(shape, "shape", "annular-disc")
-    outer_diameter = pick(outer_diameter, "outer_diameter")
-    bore = pick(bore, "bore", 0.0)
-    width = pick(width, "width")
-    max_width = pick(max_width, "max_width")
-    interference = pick(interference, "interference")
-    overspeed = pick(overspeed, "overspeed", 1.2)
-    common = dict(overspeed=overspeed, slowdown=slowdown, interference=interference,
-                  material_factor=material_factor)
-    if inertia is None:
-        if outer_diameter is None or width is None:
-            raise UsageError("give --inertia or --from-size to size a flywheel, or both "
-                             "--outer-diameter and --width to check a given one")
-        rid = rim_inner_diameter
-        if shape == "rim" and rid is None and rim_depth is not None:
-            rid = outer_diameter - 2.0 * rim_depth
-        geometry = DiscGeometry(shape, outer_diameter, bore, width,
-                                rim_inner_diameter=rid, web_width=web_width)
-        result = check_flywheel(geometry, mat, speed, **common)
-    else:
-        result = design_flywheel(inertia, speed, mat, shape, outer_diameter, bore, width,
-                                 max_width, max_outer_diameter=max_outer_diameter,
-                                 rim_depth=rim_depth, rim_inner_diameter=rim_inner_diameter,
-                                 web_width=web_width, **common)
-    if size_info:
-        result = replace(result, options={**result.options, **size_info})
-    return result
+def _over_profile(flywheel: Mapping[str, Any], **given: Any) -> dict[str, Any]:
+    """Each value as given, else the profile's ``[flywheel]`` value, else the default."""
+    defaults = {"shape": "annular-disc", "bore": 0.0, "overspeed": 1.2}
+    return {key: value if value is not None else flywheel.get(key, defaults.get(key))
+            for key, value in given.items()}
+
+
+def _given_geometry(shape: str, outer_diameter: float | None, bore: float,
+                    width: float | None, rim_inner_diameter: float | None,
+                    rim_depth: float | None, web_width: float | None) -> DiscGeometry:
+    """The flywheel to check when no inertia is asked for: its full dimensions [m]."""
+    if outer_diameter is None or width is None:
+        raise UsageError("give --inertia or --from-size to size a flywheel, or both "
+                         "--outer-diameter and --width to check a given one")
+    rid = rim_inner_diameter
+    if shape == "rim" and rid is None and rim_depth is not None:
+        rid = outer_diameter - 2.0 * rim_depth
+    return DiscGeometry(shape, outer_diameter, bore, width,
+                        rim_inner_diameter=rid, web_width=web_width)
