@@ -49,6 +49,7 @@ from torqlog import __version__
 from torqlog.errors import TorqlogError
 from torqlog.labels import label, label_of, show, sig
 
+
 @dataclass(frozen=True)
 class Caution:
     """One caution of the report: what to heed, and what it defers to.
@@ -74,7 +75,8 @@ CAUTIONS: Mapping[str, Caution] = MappingProxyType({
         "burst",
         "A flywheel stores energy that is released violently if it bursts or comes loose. "
         "Do not make, fit or run the proposed flywheel until its design is approved, it is "
-        "fully guarded, and it has been spin-tested above its highest speed and inspected.",
+        "fully guarded, it has been spin-tested above its highest speed and inspected, and "
+        "an overspeed trip holds the overspeed assumed in its check.",
         "the applicable codes and standards for rotating machinery and guarding; spin "
         "testing; approval by a qualified, licensed engineer"),
     "shaft": Caution(
@@ -92,9 +94,8 @@ CAUTIONS: Mapping[str, Caution] = MappingProxyType({
 })
 
 #: Words that tie a stage's own caution to one of :data:`CAUTIONS` (shown once, there).
-_CAUTION_TOPICS = (("burst", "burst"), ("spin test", "burst"), ("guard", "burst"),
-                   ("shaft", "shaft"), ("bearing", "shaft"), ("preliminary", "estimate"),
-                   ("licensed engineer", "estimate"))
+_CAUTION_TOPICS = (("burst", "burst"), ("adding a flywheel changes", "shaft"),
+                   ("preliminary", "estimate"), ("licensed engineer", "estimate"))
 
 #: Kept for callers of earlier versions: the estimate caution as one sentence.
 GENERAL_CAUTION = (CAUTIONS["estimate"].text[:-1] + ": "
@@ -556,10 +557,18 @@ def _propose_flywheel(prof: Any, size: dict[str, Any], source: str,
     return res, d, [p[1] for p in pairs], why
 
 
+def _caution_topic(text: str) -> str | None:
+    """The topic of :data:`CAUTIONS` a stage's caution repeats, or None if it says
+    something of its own."""
+    low = text.lower()
+    return next((t for word, t in _CAUTION_TOPICS if word in low), None)
+
+
 def collect_cautions(stages: Sequence[Mapping[str, Any] | None], *, flywheel: bool
                      ) -> list[Caution]:
-    """Each caution once: the report's own (:data:`CAUTIONS`), the burst caution first when
-    a flywheel is proposed, and any stage caution that none of them already says.
+    """The report's caution block: each of :data:`CAUTIONS` once, the burst caution first
+    and only when a flywheel is proposed. A stage caution that says something of its own
+    is shown in that stage's section instead (:func:`specific_cautions`).
 
     Parameters
     ----------
@@ -573,17 +582,17 @@ def collect_cautions(stages: Sequence[Mapping[str, Any] | None], *, flywheel: bo
     list of Caution
     """
     topics = ["burst", "shaft", "estimate"] if flywheel else ["estimate"]
-    extra: list[Caution] = []
     for stage in stages:
         for text in (stage or {}).get("cautions", []):
-            low = text.lower()
-            topic = next((t for word, t in _CAUTION_TOPICS if word in low), None)
-            if topic is None:
-                if all(c.text != text for c in extra):
-                    extra.append(Caution("stage", text, "the stage that raised it"))
-            elif topic not in topics:
-                topics.insert(-1, topic)
-    return [CAUTIONS[t] for t in topics] + extra
+            topic = _caution_topic(text)
+            if topic is not None and topic not in topics:
+                topics.insert(len(topics) - 1, topic)
+    return [CAUTIONS[t] for t in topics]
+
+
+def specific_cautions(stage: Mapping[str, Any] | None) -> list[str]:
+    """A stage's cautions that the caution block does not already say."""
+    return [c for c in (stage or {}).get("cautions", []) if _caution_topic(c) is None]
 
 
 def log_facts(res: Any) -> dict[str, Any]:
@@ -843,7 +852,8 @@ def _governing_flywheel(fw: Mapping[str, Any]) -> tuple[str, str]:
         r = float(v) / float(lim)
         return r if r >= 1 else 1.0 / r
 
-    pick = failed[0] if failed else (min(checks, key=margin) if checks else None)
+    safety = [c for c in checks if not str(c["name"]).startswith("inertia")] or checks
+    pick = failed[0] if failed else (min(safety, key=margin) if safety else None)
     if pick is None:
         return str(fw.get("verdict", "info")), "no check recorded"
     word = "fails" if failed else "governs and passes"
@@ -1009,9 +1019,10 @@ def _find_motor(d: ReportData) -> Finding:
                   ", peak ", _cell("size", f"machine_after.{k_pk}", after[k_pk], k_pk)]
         kwh = after.get("copper_loss_change_kWh_per_year")
         if kwh is not None:
-            parts += ["; motor losses change by ",
-                      _cell("size", "machine_after.copper_loss_change_kWh_per_year", kwh),
-                      f" over {sig(after.get('hours_per_year'))} running hours a year"]
+            parts += [f"; motor losses {'fall' if kwh < 0 else 'rise'} by ",
+                      Cell(show("copper_loss_change_kWh_per_year", abs(kwh)),
+                           "machine_after.copper_loss_change_kWh_per_year", "size", kwh),
+                      f" at {sig(after.get('hours_per_year'))} running hours a year"]
     parts.append(". " + ("The motor runs within its rating." if ok else
                          "The motor runs above its rated RMS torque and will run hot."))
     return Finding("motor", q, tuple(parts), "pass" if ok else "fail", "recommendation")
@@ -1054,13 +1065,15 @@ def _kv_table(tid: str, caption: str, stage: str, data: Mapping[str, Any],
 
 
 def _section_measured(d: ReportData) -> Section:
-    header = ("Log",) + tuple(c[0] for c in SUMMARY_COLUMNS)
-    rows = []
-    for g in d.logs:
-        s = g["cycles"]["summary"]
-        rows.append((Cell(g["name"]),) + tuple(
-            Cell(sig(summary_value(s, key), 3, scale), key, "cycles",
-                 summary_value(s, key)) for _, key, scale in SUMMARY_COLUMNS))
+    shown = d.logs[:_SUMMARY_LOGS]
+    header = ("Figure",) + tuple(g["name"] for g in shown)
+    rows = tuple((Cell(lab),) + tuple(
+        Cell(sig(summary_value(g["cycles"]["summary"], key), 3, scale), key, "cycles",
+             summary_value(g["cycles"]["summary"], key)) for g in shown)
+        for lab, key, scale in SUMMARY_COLUMNS)
+    rows += ((Cell("Worst tenth of cycles: Cs at least"),
+              Cell(sig(d.cs_p90), "cs_p90", "report", d.cs_p90)) +
+             tuple(Cell("–") for _ in shown[1:]),)
     paras: list[tuple[Any, ...]] = []
     if d.spectrum is not None:
         paras.append((f"The order spectrum comes from the mean cycle of the design log "
@@ -1069,8 +1082,10 @@ def _section_measured(d: ReportData) -> Section:
     elif "spectrum" in d.skipped:
         paras.append((_clean_reason(d.skipped["spectrum"]),))
     return Section("measured", "The machine as it runs now", tuple(paras), (),
-                   (Table("summary-table", "Cycle summary over the clean cycles of each log "
-                          "(first row: the design log)", header, tuple(rows)),),
+                   (Table("summary-table", "Cycle summary over the clean cycles (first "
+                          "column: the design log" + (f"; the other {len(d.logs) - len(shown)} "
+                          "logs are in the trend section" if len(d.logs) > len(shown)
+                          else "") + ")", header, rows),),
                    tuple(d.figures_in("measured")), tuple(d.notes))
 
 
@@ -1131,8 +1146,13 @@ def _section_recommendation(d: ReportData) -> Section:
                  _cell("size", f"machine_after.{k}", after.get(k), k, False)) for k in keys)))
     advice = () if now.get("drive_torque_rms_share_of_rated") else _advice("motor")
     return Section("recommendation", title, tuple(paras), advice, tuple(tables),
-                   tuple(d.figures_in("recommendation")), tuple(z.get("messages", [])))
+                   tuple(d.figures_in("recommendation")),
+                   tuple(z.get("messages", [])) +
+                   tuple(f"Caution: {c}" for c in specific_cautions(z)))
 
+
+#: Logs shown side by side in the summary table (the rest are in the trend).
+_SUMMARY_LOGS = 3
 
 _FLYWHEEL_KEYS = ("outer_diameter_m", "bore_m", "width_m", "mass_kg", "inertia_kgm2",
                   "speed_rpm", "rim_speed_m_s", "rim_speed_limit_m_s", "stored_energy_J",
@@ -1175,7 +1195,8 @@ def _section_flywheel(d: ReportData) -> Section:
          Cell("pass" if c["ok"] else "fail", verdict="pass" if c["ok"] else "fail"))
         for c in fw["checks"])))
     return Section("flywheel", title, tuple(paras), (), tuple(tables),
-                   tuple(d.figures_in("flywheel")))
+                   tuple(d.figures_in("flywheel")),
+                   tuple(f"Caution: {c}" for c in specific_cautions(fw)))
 
 
 def _section_shaft(d: ReportData) -> Section:
@@ -1206,7 +1227,8 @@ def _section_shaft(d: ReportData) -> Section:
     return Section("shaft", title, tuple(paras), (),
                    (Table("shaft-table", "Natural frequencies against the forcing",
                           ("State", "Check", "Natural frequencies, Hz", "Verdict", "Why"),
-                          tuple(rows)),), tuple(d.figures_in("shaft")))
+                          tuple(rows)),), tuple(d.figures_in("shaft")),
+                   tuple(f"Caution: {c}" for c in specific_cautions(sh)))
 
 
 def _section_trends(d: ReportData) -> Section:
