@@ -858,8 +858,8 @@ def _governing_flywheel(fw: Mapping[str, Any]) -> tuple[str, str]:
         return str(fw.get("verdict", "info")), "no check recorded"
     word = "fails" if failed else "governs and passes"
     return ("fail" if failed else "pass",
-            f"the {_check_name(pick['name'])} check {word}: {sig(pick['value'])} against "
-            f"the limit {sig(pick['limit'])}")
+            f"the {_check_name(pick['name'])} check {word}: {show(pick['name'], pick['value'])}"
+            f" against the limit {show(pick['name'], pick['limit'])}")
 
 
 def page_one(data: ReportData) -> list[Finding]:
@@ -1190,8 +1190,8 @@ def _section_flywheel(d: ReportData) -> Section:
                             _FLYWHEEL_KEYS))
     tables.append(Table("flywheel-checks", "Flywheel checks",
                         ("Check", "Value", "Limit", "Verdict"), tuple(
-        (Cell(_check_name(c["name"]).capitalize()), Cell(sig(c["value"])),
-         Cell(sig(c["limit"])),
+        (Cell(_check_name(c["name"]).capitalize()), Cell(show(c["name"], c["value"])),
+         Cell(show(c["name"], c["limit"])),
          Cell("pass" if c["ok"] else "fail", verdict="pass" if c["ok"] else "fail"))
         for c in fw["checks"])))
     return Section("flywheel", title, tuple(paras), (), tuple(tables),
