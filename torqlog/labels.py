@@ -118,6 +118,11 @@ LABELS: Mapping[str, Label] = MappingProxyType({
     "shift": _L("Shift"),
     "flags": _L("Control-chart signals"),
     # log facts
+    "name": _L("Column"),
+    "role": _L("Role"),
+    "unit": _L("Unit"),
+    "unit_source": _L("Unit from"),
+    "si_factor": _L("SI factor", digits=6),
     "rows": _L("Rows", digits=12),
     "sample_rate_hz": _L("Sample rate", "Hz"),
 })
