@@ -43,8 +43,7 @@ from torqlog.errors import DataError, UsageError
 from torqlog.identify import IdentifyResult
 
 _RPM = 60.0 / (2.0 * math.pi)  # rad/s -> rpm
-#: Integration tolerance inside root finding (Cs to ~6 digits; the reported states use the
-#: default 1e-9).
+#: Integration tolerance of the sizing simulations (Cs to about six digits).
 _SIZING_RTOL = 1e-7
 
 #: Relative difference between the model's Cs at the existing inertia and the measured
@@ -64,7 +63,7 @@ LIKELY_REASONS: tuple[str, ...] = (
     "a controlled drive (inverter or servo speed control) that does not follow a fixed "
     "torque–speed line",
 )
-BOUND_NOTE = ("constant-drive bound: I = ΔE/(Cs·ω̄²) assumes the drive torque stays "
+BOUND_NOTE = ("I = ΔE/(Cs·ω̄²) assumes the drive torque stays "
               "constant through the cycle, so the flywheel alone carries the swing; a "
               "slipping motor carries part of it, so this is an upper bound")
 
@@ -135,7 +134,23 @@ class DriveModel:
             "speed_ratio": self.speed_ratio,
             "rated_torque_motor_Nm": self.rated_torque,
             "source": self.source,
+            "speed_mean_rpm": None if self.speed_mean is None else self.speed_mean * _RPM,
         }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> DriveModel:
+        """Rebuild a model from :meth:`to_dict` (e.g. the ``drive_model`` of size JSON)."""
+        rpm = 1.0 / _RPM
+        wbar = data.get("speed_mean_rpm")
+        return cls(name=data["name"], inertia=float(data["inertia_kgm2"]),
+                   slope=float(data["slope_Nms_per_rad"]),
+                   no_load_speed=float(data["no_load_speed_rpm"]) * rpm,
+                   torque_role=data.get("torque_role", "load"),
+                   speed_ratio=float(data.get("speed_ratio", 1.0)),
+                   rated_torque=data.get("rated_torque_motor_Nm"),
+                   inertia_se=data.get("inertia_se_kgm2"),
+                   slope_se=data.get("slope_se_Nms_per_rad"), source=data.get("source", ""),
+                   speed_mean=None if wbar is None else float(wbar) * rpm)
 
 
 def model_from_fit(fit: IdentifyResult, speed_mean: float, *,
@@ -242,6 +257,15 @@ def cycle_energy_swing(angle: np.ndarray, torque: np.ndarray) -> float:
         Uniform grid over one cycle (end point excluded).
     torque : array [N*m]
 
+    Examples
+    --------
+    A single harmonic ``T = T̄ + A·sin θ`` swings by ``2·A`` over a revolution:
+
+    >>> import numpy as np
+    >>> theta = np.linspace(0.0, 2 * np.pi, 3600, endpoint=False)
+    >>> round(cycle_energy_swing(theta, 100.0 + 50.0 * np.sin(theta)), 1)
+    100.0
+
     References
     ----------
     .. [1] Budynas & Nisbett, *Shigley's*, 10th ed., sec. 16-12 (energy swing).
@@ -255,7 +279,7 @@ def cycle_energy_swing(angle: np.ndarray, torque: np.ndarray) -> float:
 
 def simulate_after(model: DriveModel, added_inertia: float, angle: np.ndarray,
                    torque: np.ndarray, revs_per_cycle: int = 1, *,
-                   swing_scale: float = 1.0) -> DriveCycle:
+                   swing_scale: float = 1.0, rtol: float = 1e-7) -> DriveCycle:
     """The machine of ``model`` with ``added_inertia`` more, over the logged mean cycle.
 
     Parameters
@@ -272,6 +296,8 @@ def simulate_after(model: DriveModel, added_inertia: float, angle: np.ndarray,
         Shaft revolutions per cycle.
     swing_scale : float
         Factor on the load fluctuation (see :func:`load_torque`).
+    rtol : float
+        Integration tolerance (1e-7 keeps Cs and torques to about six digits).
 
     Returns
     -------
@@ -288,7 +314,7 @@ def simulate_after(model: DriveModel, added_inertia: float, angle: np.ndarray,
     load = load_torque(torque, model.torque_role, swing_scale)
     return simulate_drive(np.asarray(angle, dtype=float), load,
                           model.inertia + float(added_inertia), model.characteristic(),
-                          revs_per_cycle, added_inertia=float(added_inertia))
+                          revs_per_cycle, added_inertia=float(added_inertia), rtol=rtol)
 
 
 def _cs(model: DriveModel, total: float, angle: np.ndarray, load: np.ndarray,
@@ -325,7 +351,8 @@ def inertia_for_cs(model: DriveModel, angle: np.ndarray, torque: np.ndarray,
     Returns
     -------
     float [kg*m^2]
-        Total inertia; the model's own inertia when it already meets the target.
+        Total inertia; below the model's own when it already meets the target (the
+        model's own if the drive could not carry the load at a lighter inertia).
 
     References
     ----------
@@ -342,8 +369,18 @@ def inertia_for_cs(model: DriveModel, angle: np.ndarray, torque: np.ndarray,
 
     x0 = math.log(model.inertia)
     f0 = f(x0)
-    if f0 <= 0:
+    if f0 == 0:
         return model.inertia
+    if f0 < 0:  # already meets the target: the inertia it needs lies below its own
+        hi, x1 = x0, x0 + min(1.2 * f0, -0.05)
+        try:
+            f1 = f(x1)
+            while f1 < 0:
+                hi, x1 = x1, x1 + min(1.2 * f1, -0.05)
+                f1 = f(x1)
+        except DataError:  # the drive cannot carry the load that light: say "no less"
+            return model.inertia
+        return float(math.exp(brentq(f, x1, hi, xtol=rtol, rtol=rtol)))
     x1 = max(math.log(guess) if guess else x0 + f0, x0 + 1e-6)
     f1 = f(x1)
     lo = x0
@@ -487,6 +524,16 @@ def copper_loss_change(rms_now: float, rms_after: float, motor: MotorModel, *,
     dict
         ``copper_loss_change_rel``, ``copper_loss_change_W``,
         ``copper_loss_change_kWh_per_year``, the assumption and the hours.
+
+    Examples
+    --------
+    An 11 kW, 1500/1465 rpm motor whose RMS torque drops from rated to 90 % of rated:
+
+    >>> import math
+    >>> m = MotorModel(11e3, 1500 * math.pi / 30, 1465 * math.pi / 30, 2.45)
+    >>> c = copper_loss_change(m.rated_torque, 0.9 * m.rated_torque, m)
+    >>> round(c["copper_loss_change_rel"], 2), round(c["copper_loss_change_kWh_per_year"])
+    (-0.19, -399)
 
     References
     ----------

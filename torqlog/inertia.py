@@ -137,6 +137,14 @@ def required_inertia(energy_swing: float | np.ndarray, target_cs: float,
     float [kg*m^2]
         Total inertia needed at that shaft.
 
+    Examples
+    --------
+    A design swing of 8.2 kJ at 45 rpm (4.712 rad/s) and a target Cs of 0.10:
+
+    >>> import math
+    >>> round(required_inertia(8200.0, 0.10, 45 * 2 * math.pi / 60), 1)
+    3692.6
+
     References
     ----------
     .. [1] J. E. Shigley, C. R. Mischke, *Mechanical Engineering Design*, flywheel section.
@@ -269,6 +277,49 @@ def bootstrap_ci(energy_swing: np.ndarray, speed: np.ndarray | float, *, target_
     alpha = 0.5 * (1.0 - level)
     lo, hi = np.quantile(i_req, [alpha, 1.0 - alpha])
     return float(lo), float(hi)
+
+
+def quantile_interval_lognormal(values: np.ndarray, quantile: float,
+                                level: float = 0.95) -> tuple[float, float]:
+    """Confidence interval of a quantile of log-normal values (noncentral t).
+
+    With ``y = ln x`` normal, the p-quantile is ``μ + z_p·σ``; its two-sided interval is
+    ``ȳ + k·s`` with ``k = t'_{α/2, 1−α/2}(n − 1, z_p·√n)/√n`` from the noncentral t
+    distribution (:data:`scipy.stats.nct`). A sample of 40 cycles cannot bound a 95th
+    percentile from above by order statistics alone; this parametric interval can, and
+    it is wider than a percentile bootstrap of the sample quantile.
+
+    Parameters
+    ----------
+    values : array [J]
+        Per-cycle energy swings (positive, finite).
+    quantile : float
+        In (0, 1).
+    level : float
+        Coverage.
+
+    Returns
+    -------
+    (float, float) [J]
+
+    References
+    ----------
+    .. [1] G. J. Hahn, W. Q. Meeker, *Statistical Intervals: A Guide for Practitioners*,
+       Wiley, 1991, confidence intervals for a percentile of a normal distribution.
+    """
+    from scipy.stats import nct, norm
+
+    y = np.log(np.asarray(values, dtype=float))
+    n = y.size
+    if n < 3 or not np.all(np.isfinite(y)):
+        raise DataError("the quantile interval needs at least 3 positive energy swings")
+    sd = float(np.std(y, ddof=1))
+    nc = float(norm.ppf(quantile)) * math.sqrt(n)
+    alpha = 1.0 - level
+    k_lo = float(nct.ppf(alpha / 2, n - 1, nc)) / math.sqrt(n)
+    k_hi = float(nct.ppf(1 - alpha / 2, n - 1, nc)) / math.sqrt(n)
+    mean = float(np.mean(y))
+    return math.exp(mean + k_lo * sd), math.exp(mean + k_hi * sd)
 
 
 # --------------------------------------------------------------------------- sizing
@@ -525,7 +576,8 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     rotor = motor.referred_inertia if motor is not None else 0.0
     identified: IdentifyResult | None = None
     mc_ok = (mean_cycle is not None and {"angle", "torque_mean", "speed_mean"} <=
-             set(mean_cycle.columns))
+             set(mean_cycle.columns)
+             and bool(np.all(np.isfinite(mean_cycle["speed_mean"].to_numpy(float)))))
     if mc_ok and chosen == "torque":
         try:
             identified = identify_inertia_cycle(
@@ -593,15 +645,24 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     bound = float(required_inertia(e_design, cs, wbar))
     bound_ci = bootstrap_ci(e_used, per_cycle_speed, target_cs=cs, quantile=q, n_boot=n_boot,
                             seed=seed)
+    options["interval"] = ("cycle scatter: percentile bootstrap over cycles")
+    if q != "max" and q < 1.0 and n_used >= 10 and np.all(e_used > 0):
+        # the wider of the bootstrap and the log-normal (noncentral t) interval of the swing
+        p_lo, p_hi = quantile_interval_lognormal(e_used, float(q))
+        bound_ci = (min(bound_ci[0], bound * p_lo / e_design),
+                    max(bound_ci[1], bound * p_hi / e_design))
+        options["interval"] = ("cycle scatter: the wider of a percentile bootstrap over "
+                               "cycles and a log-normal noncentral-t interval of the design "
+                               "quantile (Hahn & Meeker)")
+    options["interval"] += ("; drive slope: ±1.96 standard errors of the fit; model error: "
+                            "target moved by the measured/model Cs ratio; combined in "
+                            "quadrature on each side (GUM)")
     cs_all = _finite(clean["cs"]) if "cs" in clean else np.array([])
     cs_all = cs_all[np.isfinite(cs_all)]
     cs_measured = float(np.median(cs_all)) if has_speed and cs_all.size else None
-    measured = {
-        "speed_min_rpm_measured": (float(np.median(w_min[np.isfinite(w_min)])) * _RPM
-                                   if has_speed else None),
-        "speed_max_rpm_measured": (float(np.median(w_max[np.isfinite(w_max)])) * _RPM
-                                   if has_speed else None),
-    }
+    measured = {f"speed_{name}_rpm_measured": (float(np.median(x[np.isfinite(x)])) * _RPM
+                                                if np.any(np.isfinite(x)) else None)
+                for name, x in (("min", w_min), ("max", w_max))}
 
     rec = recommend(
         mean_cycle if mc_ok or (mean_cycle is not None and "torque_mean" in mean_cycle)
@@ -622,6 +683,11 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     model_inertia = (rec.get("model_params") or {}).get("inertia_kgm2")
     if rec["model"] != "constant drive" and model_inertia is not None:
         total_existing = float(model_inertia)
+    elif identified is not None and given is not None:
+        total_existing = given
+        options["existing_inertia_source"] = "given"
+        messages.append(f"no model explains the log, so its identified inertia is not "
+                        f"trusted either: the given {given:.4g} kg m^2 is used")
     added: float | None = None
     added_ci: tuple[float, float] | None = None
     if total_existing is not None:

@@ -30,6 +30,7 @@ import pandas as pd
 
 from torqlog.calibrate import (
     BOUND_NOTE,
+    LIKELY_REASONS,
     DriveModel,
     Validation,
     copper_loss_change,
@@ -219,11 +220,24 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
             f"{abs(lead_val.error_rel):.1%} (tolerance {tolerance:.0%})")
     elif cs_measured is None and models and models[-1].name == "nameplate drive":
         lead = models[-1]
-        out["model_reason"] = ("the log has no speed channel, so no model can be checked "
-                               "against a measured Cs; the nameplate motor leads, unchecked")
+        out["model_reason"] = ("the log shows no speed within the cycle (no speed or angle "
+                               "channel), so no model can be checked against a measured Cs; "
+                               "the nameplate motor leads, unchecked, and its interval holds "
+                               "no model error because none can be measured")
     else:
-        why = (reasons_text(failed[0][1].error_rel) if failed else
-               "no drive model could be built from the log or a nameplate")
+        refused = [m for m in messages if m.startswith(("no calibrated drive model",
+                                                         "the log cannot separate"))]
+        if failed:
+            why = reasons_text(failed[0][1].error_rel)
+        elif refused:
+            why = ("no drive model explains the log (" + refused[-1] + "); likely reasons: "
+                   + "; ".join(LIKELY_REASONS))
+        elif cs_measured is None:
+            why = ("the log shows no speed within the cycle (no speed or angle channel), "
+                   "so no drive model can be calibrated on it or checked against a measured "
+                   "Cs, and no nameplate motor was given")
+        else:
+            why = "no drive model could be built from the log or a nameplate"
         out["model_reason"] = f"{why}; the constant-drive bound leads: {BOUND_NOTE}"
         messages.append(why)
     out["validation"] = (lead_val or (failed[0][1] if failed else None))
@@ -255,6 +269,8 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
         messages.append(f"no drive simulation of the machine now and after: {exc}")
         return out
     state_now = machine_state(now, sim, target_cs=target_cs)
+    state_now["messages"] = [m.replace("would run hot", "runs hot")
+                             for m in state_now["messages"]]
     state_now.update({"cs_measured": cs_measured, **measured, "model": sim.name})
     state_after = machine_state(after, sim, target_cs=target_cs)
     state_after["model"] = sim.name
@@ -262,7 +278,7 @@ def recommend(mean_cycle: pd.DataFrame | None, *, fit: IdentifyResult | None,
         state_after.update(copper_loss_change(state_now["drive_torque_rms_Nm"],
                                               state_after["drive_torque_rms_Nm"], motor,
                                               hours_per_year=hours_per_year))
-    messages.extend(f"now: {m}" for m in now.messages)
+    messages.extend(f"now: {m.replace('would run hot', 'runs hot')}" for m in now.messages)
     messages.extend(f"after: {m}" for m in after.messages)
     out["now"], out["after"] = state_now, state_after
     out["curve"] = curve_frame(sims)

@@ -180,13 +180,40 @@ def _size_text(d: dict[str, Any], source: str) -> str:
             lines.append(f"copper loss change    {after['copper_loss_change_rel']:+.0%}, "
                          f"{after['copper_loss_change_kWh_per_year']:+,.0f} kWh/year at "
                          f"{after['hours_per_year']:g} h/year (loss ∝ torque², see JSON)")
+    choice = d.get("size_on")
+    if choice:
+        lines += ["", f"sized on {choice['sized_on']}: {choice['why']} "
+                      f"(--size-on {choice['size_on']})"]
+        lines += [f"  {r['log']}: design swing {r['design_energy_swing_J'] / 1e3:.4g} kJ at "
+                  f"{r['speed_mean_rpm']:.4g} rpm" for r in choice["logs"]]
+    rf = d.get("retrofit")
+    if rf:
+        lines += ["", f"retrofit check against {rf['after_log']}",
+                  f"  inertia added         {kg(rf['added_identified_kgm2'])} identified "
+                  f"(planned {kg(rf['added_planned_kgm2'])})",
+                  f"  Cs after              measured {rf['cs_after_measured']:.4g}, predicted "
+                  f"{rf['cs_after_predicted']:.4g} ({rf['cs_after_error_rel']:+.1%}); target "
+                  f"{rf['target_cs']:g}: {'met' if rf['meets_target'] else 'NOT met'}"]
+        if rf.get("drive_torque_rms_predicted_Nm") is not None and \
+                rf.get("drive_torque_rms_after_log_Nm") is not None:
+            lines.append(f"  drive torque RMS      predicted "
+                         f"{rf['drive_torque_rms_predicted_Nm']:.4g} N·m, after-log "
+                         f"{rf['drive_torque_rms_after_log_Nm']:.4g} N·m")
+        lines += [f"  {m}" for m in rf["messages"]]
     lines += [""] + [f"note: {m}" for m in d["messages"]]
     lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
     return "\n".join(lines)
 
 
 @cli.command("size")
-@click.argument("log", type=click.Path(dir_okay=True))
+@click.argument("logs", nargs=-1, required=True, type=click.Path(dir_okay=True))
+@click.option("--size-on", type=click.Choice(["worst", "latest", "first"]), default="worst",
+              show_default=True,
+              help="With several logs of one machine: size on the log that needs the most "
+                   "inertia, the one that starts last, or the first given.")
+@click.option("--after", "after_log", type=click.Path(dir_okay=True), default=None,
+              help="A log taken after adding inertia: set the model's prediction beside what "
+                   "it measures.")
 @click.option("--target-cs", type=float, default=None,
               help="Target coefficient of speed fluctuation (0 < Cs < 1).")
 @click.option("--machine-class", default=None, metavar="NAME",
@@ -215,23 +242,42 @@ def _size_text(d: dict[str, Any], source: str) -> str:
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
               help="Write a PNG: Cs and motor peak torque against added inertia.")
 @output_options
-def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quantile: str,
+def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
+             target_cs: float | None, machine_class: str | None, quantile: str,
              motor_power: float | None, sync_rpm: float | None, rated_rpm: float | None,
              motor_ratio: float | None, flywheel_speed_ratio: float | None, seed: int,
              tolerance: float, hours_per_year: float,
              plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
-    """Flywheel inertia to reach a target Cs, with its interval and the motor's view."""
+    """Flywheel inertia to reach a target Cs, from a drive model checked against the log.
+
+    With several LOGS of one machine, --size-on picks the one to size on; --after checks
+    the model's prediction against a log taken after the retrofit.
+    """
     from torqlog.errors import UsageError
     from torqlog.inertia import size_log, size_log_dict
+    from torqlog.logchoice import choose_log
 
-    res, profile = run_cycles(log, kw)
+    fresh = dict(kw)
+    results = []
+    for path in logs:
+        res, profile = run_cycles(path, kw if not results else dict(fresh))
+        results.append(res)
     q = parse_quantile(quantile)
+    idx, choice = choose_log(results, size_on, quantile=q)
+    res = results[idx]
     motor = {"power": motor_power, "sync": sync_rpm, "rated": rated_rpm,
              "speed_ratio": motor_ratio}
     result = size_log(res, profile, target_cs=target_cs, machine_class=machine_class,
                       quantile=q, motor=motor, flywheel_speed_ratio=flywheel_speed_ratio,
                       seed=seed, tolerance=tolerance, hours_per_year=hours_per_year)
     data = size_log_dict(result, res)
+    data["size_on"] = choice if len(results) > 1 else None
+    data["retrofit"] = None
+    if after_log:
+        from torqlog.retrofit import retrofit_from_size
+
+        after, _ = run_cycles(after_log, dict(fresh))
+        data["retrofit"] = retrofit_from_size(result, after, tolerance=tolerance).to_dict()
     target_cs = result.target_cs
     if plot_path:
         from torqlog.plots import plot_drive_curve
