@@ -107,6 +107,13 @@ LABELS: Mapping[str, Label] = MappingProxyType({
     "yield_speed_rpm": _L("Speed at which yield begins", "rpm"),
     "fit_loosening_rpm": _L("Speed at which the shrink fit loosens", "rpm"),
     "fit_pressure_rest_MPa": _L("Fit pressure at rest", "MPa"),
+    # materials (names of torqlog.materials)
+    "grey-iron-200": _L("Grey iron 200"),
+    "grey-iron-250": _L("Grey iron 250"),
+    "ductile-iron": _L("Ductile iron"),
+    "steel-c45": _L("Steel C45"),
+    "steel-s355": _L("Steel S355"),
+    "steel": _L("Steel"),
     # shaft
     "fe_hz": _L("Lateral natural frequencies", "Hz"),
     "modes_hz": _L("Torsional natural frequencies", "Hz"),

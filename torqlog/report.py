@@ -957,8 +957,7 @@ def _find_flywheel(d: ReportData) -> Finding:
         return Finding("flywheel-safe", q, ("Not assessed: " + _clean_reason(why),),
                        "not assessed", "flywheel")
     verdict, text = _governing_flywheel(fw)
-    parts = (f"{label_of(fw['material']).text.capitalize()} "
-             f"{fw['shape'].replace('-', ' ')}, ",
+    parts = (f"{label_of(fw['material']).text} {fw['shape'].replace('-', ' ')}, ",
              _cell("flywheel", "outer_diameter_m", fw["outer_diameter_m"]), " across, ",
              _cell("flywheel", "mass_kg", fw["mass_kg"]), f"; {text}.")
     return Finding("flywheel-safe", q, parts, verdict, "flywheel")
@@ -1037,8 +1036,11 @@ def _find_drift(d: ReportData) -> Finding:
             "not assessed", "trends")
     on = t.get("drift_onset") or {}
     if on.get("date"):
+        figs = list(dict.fromkeys(label_of(str(f).partition(":")[0]).text.lower()
+                                  for f in on["flags"]))
+        which = ", ".join(figs[:-1]) + " and " + figs[-1] if len(figs) > 1 else "".join(figs)
         return Finding("drift", q, (f"Yes: drift first flagged on {on['date']}, "
-                                    f"{on['shift']} shift ({_flags(on['flags'])}).",),
+                                    f"{on['shift']} shift, in the {which}.",),
                        "fail", "trends")
     return Finding("drift", q, (f"No drift flagged over {len(t.get('shifts', []))} shift "
                                 "rows.",), "pass", "trends")
@@ -1169,7 +1171,7 @@ def _section_flywheel(d: ReportData) -> Section:
             d.skipped.get("flywheel", "no flywheel is proposed")),),), adv)
     _, text = _governing_flywheel(fw)
     paras: list[tuple[Any, ...]] = [(
-        f"{label_of(fw['material']).text.capitalize()} ({fw['material_designation']}), "
+        f"{label_of(fw['material']).text} ({fw['material_designation']}), "
         f"{fw['shape'].replace('-', ' ')}: {text}.",)]
     tables = []
     if d.flywheel_options:

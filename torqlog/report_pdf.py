@@ -138,10 +138,9 @@ def _table(t: Any, st: dict[str, Any], width: float) -> list[Any]:
 
 
 def _figure(f: Any, st: dict[str, Any], width: float, height: float) -> Any:
+    from PIL import Image as PILImage  # pillow: a matplotlib dependency
     from reportlab.lib.utils import ImageReader
     from reportlab.platypus import Image, KeepTogether, Paragraph
-
-    from PIL import Image as PILImage  # pillow: a matplotlib dependency
 
     with PILImage.open(io.BytesIO(f.png)) as pic:  # flatten alpha: one image per figure
         buf = io.BytesIO()
@@ -158,8 +157,7 @@ def _figure(f: Any, st: dict[str, Any], width: float, height: float) -> Any:
 
 def _story(doc: Any, st: dict[str, Any], width: float, height: float) -> list[Any]:
     from reportlab.lib import colors
-    from reportlab.platypus import (PageBreak, Paragraph, Preformatted, Spacer, Table,
-                                    TableStyle)
+    from reportlab.platypus import PageBreak, Paragraph, Preformatted, Spacer, Table, TableStyle
 
     story: list[Any] = [Paragraph(escape(doc.title), st["title"]),
                         Paragraph(escape(doc.subtitle), st["sub"]),
