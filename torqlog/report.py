@@ -992,7 +992,7 @@ def _find_shaft(d: ReportData) -> Finding:
     who = "with the flywheel" if state == "after" else "as it is"
     text = gov["margin_text"].rsplit(": ", 1)[0]
     parts: list[Any] = [f"Shaft {who}: the {name} check {'fails' if failed else 'governs'}"
-                        f" ({text})."]
+                        f"; {text}."]
     parts.append(" " + strength.text if strength is not None else
                  " Strength, fatigue and bearing life are not assessed in this report.")
     return Finding("shaft-fine", q, tuple(parts), verdict, "shaft")
@@ -1036,8 +1036,8 @@ def _find_drift(d: ReportData) -> Finding:
             "not assessed", "trends")
     on = t.get("drift_onset") or {}
     if on.get("date"):
-        figs = list(dict.fromkeys(label_of(str(f).partition(":")[0]).text.lower()
-                                  for f in on["flags"]))
+        figs = [t[:1].lower() + t[1:] for t in dict.fromkeys(
+            label_of(str(f).partition(":")[0]).text for f in on["flags"])]
         which = ", ".join(figs[:-1]) + " and " + figs[-1] if len(figs) > 1 else "".join(figs)
         return Finding("drift", q, (f"Yes: drift first flagged on {on['date']}, "
                                     f"{on['shift']} shift, in the {which}.",),
