@@ -397,3 +397,7 @@ def test_demo_writes_a_report_and_pdf_per_machine_with_o(tmp_path):
     engine = parse((out / "engine" / "report.html").read_text(encoding="utf-8"))
     row = next(r for r in engine.iter("tr") if r.get("data-item") == "shaft-fine")
     assert _text(row.find("td[@class='v']")) == "FAIL"
+    # the engine log has torque and an index only: no Cs, so no pass or fail on roughness
+    row = next(r for r in engine.iter("tr") if r.get("data-item") == "roughness")
+    assert _text(row.find("td[@class='v']")) == "NOT ASSESSED"
+    assert "holds no speed within the cycle" in _text(row)

@@ -894,6 +894,11 @@ def _find_roughness(d: ReportData) -> Finding:
     s = d.design["cycles"]["summary"]
     med = summary_value(s, "cs.median")
     target = d.size["target_cs"] if d.size else None
+    if med is None:
+        return Finding("roughness", "How rough does it run now?", (
+            "Not measured: the log holds no speed within the cycle (a speed or angle "
+            "channel, or an encoder count), so Cs cannot be taken from it.",),
+            "not assessed", "measured")
     parts: list[Any] = ["Median Cs ", _cell("cycles", "summary.cs.median", med, "cs"),
                         ", worst tenth of cycles ",
                         Cell(sig(d.cs_p90), "cs_p90", "report", d.cs_p90)]
