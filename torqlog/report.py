@@ -283,6 +283,25 @@ def _figure(key: str, section: str, title: str, caption: str, path: Path) -> Rep
     return ReportFigure(key, section, title, caption, path.read_bytes(), str(path))
 
 
+def _return_freed_memory() -> None:
+    """Hand the streaming pass's freed buffers back to the operating system (pyarrow's
+    memory pool, then glibc's heap where there is one), so the sizing and plotting that
+    follow start from a small footprint: the report's peak memory stays that of one pass."""
+    import pyarrow as pa
+
+    pa.default_memory_pool().release_unused()
+    try:
+        import ctypes
+        import ctypes.util
+
+        name = ctypes.util.find_library("c")
+        libc = ctypes.CDLL(name) if name else None
+        if libc is not None and hasattr(libc, "malloc_trim"):
+            libc.malloc_trim(0)
+    except OSError:  # pragma: no cover - no C library to ask
+        pass
+
+
 def _trend_available() -> bool:
     return importlib.util.find_spec("torqlog.trend") is not None
 
@@ -358,12 +377,10 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
            read: dict[str, Any], target_cs: float | None, quantile: float | str, seed: int,
            fig_dir: Path, with_trend: bool, with_survey: bool,
            extra: dict[str, Any]) -> ReportData:
-    from torqlog import plots
+    from concurrent.futures import ThreadPoolExecutor
+
     from torqlog.cycles import analyse_cycles, options_from_profile
-    from torqlog.inertia import size_log, size_log_dict
     from torqlog.profile import MachineProfile, load_profile
-    from torqlog.shaft import check_shaft
-    from torqlog.spectrum import mean_cycle_spectrum
     from torqlog.survey import survey_log
 
     prof = load_profile(profile_path) if profile_path else MachineProfile()
@@ -376,15 +393,27 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
 
     entries: list[dict[str, Any]] = []
     results = []
-    for log in logs:
-        res = analyse_cycles(log, opts, **read)  # the one pass over the samples
-        facts = (survey_log(log, nominal_speed=opts.nominal_speed, **read).to_dict()
-                 if with_survey else log_facts(res))
-        results.append(res)
-        entries.append({"path": str(log), "name": Path(log).name,
-                        "sha256": file_sha256(log), "bytes": Path(log).stat().st_size,
-                        "inspect": _plain(facts), "cycles": _plain(res.to_dict())})
+    # The one pass over each log's samples comes first, before the plotting and sizing
+    # libraries are imported, so the streaming buffers and those libraries are never in
+    # memory together; the file hash runs in a thread beside it (hashlib releases the GIL).
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        hashes = [pool.submit(file_sha256, log) for log in logs]
+        for log, sha in zip(logs, hashes, strict=True):
+            res = analyse_cycles(log, opts, **read)
+            facts = (survey_log(log, nominal_speed=opts.nominal_speed, **read).to_dict()
+                     if with_survey else log_facts(res))
+            results.append(res)
+            entries.append({"path": str(log), "name": Path(log).name,
+                            "sha256": sha.result(), "bytes": Path(log).stat().st_size,
+                            "inspect": _plain(facts), "cycles": _plain(res.to_dict())})
     design = results[0]
+    _return_freed_memory()
+
+    from torqlog import plots
+    from torqlog.inertia import size_log, size_log_dict
+    from torqlog.shaft import check_shaft
+    from torqlog.spectrum import mean_cycle_spectrum
+
     ok = design.columns["flag"].astype(str) == ""
     cs_clean = design.columns["cs"].astype(float)[ok]
     cs_clean = cs_clean[np.isfinite(cs_clean)]
