@@ -283,6 +283,15 @@ def _figure(key: str, section: str, title: str, caption: str, path: Path) -> Rep
     return ReportFigure(key, section, title, caption, path.read_bytes(), str(path))
 
 
+def _import_later_stages() -> None:
+    """Import the modules the report needs after the cycle pass (sizing, plots)."""
+    import importlib
+
+    for name in ("torqlog.plots", "torqlog.inertia", "torqlog.shaft", "torqlog.spectrum",
+                 "matplotlib.pyplot"):
+        importlib.import_module(name)
+
+
 def _return_freed_memory() -> None:
     """Hand the streaming pass's freed buffers back to the operating system (pyarrow's
     memory pool, then glibc's heap where there is one), so the sizing and plotting that
@@ -393,10 +402,13 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
 
     entries: list[dict[str, Any]] = []
     results = []
-    # The one pass over each log's samples comes first, before the plotting and sizing
-    # libraries are imported, so the streaming buffers and those libraries are never in
-    # memory together; the file hash runs in a thread beside it (hashlib releases the GIL).
-    with ThreadPoolExecutor(max_workers=1) as pool:
+    # The one pass over each log's samples; the file hash runs in a thread beside it
+    # (hashlib releases the GIL). The pass's freed buffers go back to the system before
+    # the sizing and plotting, so the report's peak stays near that of one pass.
+    with ThreadPoolExecutor(max_workers=2) as pool:
+        # the sizing and plotting libraries load beside the pass (mostly while pyarrow
+        # parses, which releases the GIL); they are used only after it
+        loading = pool.submit(_import_later_stages)
         hashes = [pool.submit(file_sha256, log) for log in logs]
         for log, sha in zip(logs, hashes, strict=True):
             res = analyse_cycles(log, opts, **read)
@@ -406,6 +418,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
             entries.append({"path": str(log), "name": Path(log).name,
                             "sha256": sha.result(), "bytes": Path(log).stat().st_size,
                             "inspect": _plain(facts), "cycles": _plain(res.to_dict())})
+        loading.result()
     design = results[0]
     _return_freed_memory()
 
