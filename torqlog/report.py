@@ -686,11 +686,12 @@ def _run_trend(logs: Sequence[str | Path], prof: Any, opts: Any, read: dict[str,
         p = Path(path)
         figure = p.stem.removeprefix("trend_")
         if p.stem.startswith("trend_"):
-            title, caption = (f"Trend of {figure} per shift",
+            title, caption = (f"{label_of(figure).text} per shift, against control limits",
                               "Each shift's value against control limits from the baseline "
                               "shifts; circled points are flagged.")
         else:
-            title, caption = (f"{figure.replace('_', ' ').capitalize()} per shift",
+            title, caption = (f"{label_of(figure.removesuffix('_box')).text}: spread per "
+                              "shift",
                               "The spread of the per-cycle values in each shift.")
         figures.append(_figure(p.stem, "trends", title, caption, p))
     return _plain(res.to_dict())
