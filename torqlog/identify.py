@@ -22,6 +22,7 @@ import numpy as np
 from scipy import signal
 
 from torqlog.errors import DataError, UsageError
+from torqlog.notebook import result_html
 
 
 @dataclass(frozen=True)
@@ -59,6 +60,8 @@ class IdentifyResult:
     torque_role: str
     domain: str
     options: dict[str, Any] = field(default_factory=dict)
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """JSON contract."""

@@ -35,6 +35,7 @@ from torqlog.calibrate import BOUND_NOTE, HOURS_PER_YEAR, TOLERANCE_REL
 from torqlog.drive import CURVE_COLUMNS, MotorModel
 from torqlog.errors import DataError, UsageError
 from torqlog.identify import IdentifyResult, check_role, identify_inertia_cycle
+from torqlog.notebook import result_html
 from torqlog.recommend import recommend
 
 _RPM = 60.0 / (2.0 * math.pi)  # rad/s -> rpm
@@ -387,6 +388,8 @@ class SizeResult:
         if self.added_inertia is None:
             return None
         return self.added_inertia / self.flywheel_speed_ratio ** 2
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """JSON contract of the sizing (every key is listed in the README)."""
@@ -802,8 +805,17 @@ def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None
     motor_kw = dict(profile.motor) if profile is not None else {}
     motor_kw.update({k: v for k, v in (motor or {}).items() if v is not None})
     model = MotorModel.from_profile(motor_kw) if motor_kw else None
-    ratio = flywheel_speed_ratio or machine.get("flywheel_speed_ratio", 1.0)
+    ratio = (flywheel_speed_ratio if flywheel_speed_ratio is not None
+             else machine.get("flywheel_speed_ratio", 1.0))
     o = cycles.options
+    summary = cycles.summary
+    if not summary.get("cycles"):
+        flags = ", ".join(f"{k} {v}" for k, v in (summary.get("flags") or {}).items())
+        raise DataError(f"{cycles.source}: no clean cycles to size from: all "
+                        f"{summary.get('cycles_total', 0)} cycles are flagged"
+                        + (f" ({flags})" if flags else "")
+                        + "; see the flag column of 'torqlog cycles' and fix the log or how "
+                          "it is read")
     return size_from_cycles(cycles.table, cycles.mean_cycle, target_cs=target_cs,
                             quantile=quantile, existing_inertia=o["inertia"],
                             flywheel_speed_ratio=ratio, motor=model,

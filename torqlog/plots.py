@@ -62,11 +62,24 @@ def style() -> dict:
 
 
 def save(fig: Figure, path: str | Path) -> Path:
-    """Save a figure to PNG (150 dpi) and close it; returns the path."""
+    """Save a figure (150 dpi; PNG, or SVG/PDF by the path's suffix) and close it.
+
+    The file is written to a temporary name beside it and renamed into place
+    (:func:`torqlog.outputs.atomic_path`). Returns the path.
+    """
+    from torqlog.errors import UsageError
+    from torqlog.outputs import atomic_path
+
     p = Path(path)
-    with plt.rc_context(_RC):
-        fig.savefig(p, dpi=150)
-    plt.close(fig)
+    fmt = p.suffix.lower().lstrip(".") or "png"
+    if fmt not in ("png", "svg", "pdf"):
+        plt.close(fig)
+        raise UsageError(f"{p}: a figure file must end in .png, .svg or .pdf")
+    try:
+        with plt.rc_context(_RC), atomic_path(p) as tmp:
+            fig.savefig(tmp, dpi=150, format=fmt)
+    finally:
+        plt.close(fig)
     return p
 
 
@@ -185,7 +198,7 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
     ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
             color=PALETTE["reference"], ms=10, label="bearing")
     state = "after" if result.after is not None else "current"
-    ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× highest forcing "
+    ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× shaft speed "
                  f"{cur.forcing_hz:.2f} Hz: {cur.verdict}")
     ax.set_xlabel("position along shaft x [m]")
     ax.set_ylabel("relative deflection [-]")
@@ -225,8 +238,8 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
                         xytext=(3, 0), fontsize=8, rotation=90, va="bottom",
                         color=PALETTE["limit"])
         ax.axvline(cur.fe_hz[0] if cur.fe_hz else np.nan, color=PALETTE["mean"], ls="--",
-                   lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz"
-                   if cur.fe_hz else None)
+                   lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz (driven by 1×, "
+                   f"2×, not by orders)" if cur.fe_hz else None)
         ax.set_xscale("log")
         lo = freq.min() if len(freq) else 0.1
         ax.set_xlim(lo * 0.8, hi * 1.3)

@@ -46,7 +46,7 @@ from typing import Any
 import numpy as np
 
 from torqlog import __version__
-from torqlog.errors import TorqlogError
+from torqlog.errors import DataError, TorqlogError
 from torqlog.labels import label, label_of, show, sig
 
 
@@ -186,6 +186,9 @@ class ReportData:
         ``{"verdict", "governing"}``), ``anomalies`` (``{"abnormal", "cycles"}``).
     cs_p90 : float or None
         Worst-decile (90th percentile) Cs of the design log's clean cycles.
+    failed_logs : list of dict
+        ``{"file", "reason"}`` of every log that could not be read; the report is built
+        from the others (each also has a ``skipped`` entry).
     """
 
     machine: str
@@ -207,6 +210,7 @@ class ReportData:
     material_choice: str = ""
     extra: dict[str, Any] = field(default_factory=dict)
     cs_p90: float | None = None
+    failed_logs: list[dict[str, str]] = field(default_factory=list)
 
     @property
     def design(self) -> dict[str, Any]:
@@ -251,6 +255,10 @@ class ReportData:
                     rows.append({"check": f"shaft torsional, {state}",
                                  "verdict": st["torsional"]["verdict"],
                                  "text": st["torsional"]["margin_text"]})
+                if st.get("strength"):  # fatigue, yield, key, fit: governing check named
+                    rows.append({"check": f"shaft strength, {state}",
+                                 "verdict": st["strength"]["verdict"],
+                                 "text": st["strength"]["margin_text"]})
         return rows
 
 
@@ -402,6 +410,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
 
     entries: list[dict[str, Any]] = []
     results = []
+    failed: list[dict[str, str]] = []
     # The one pass over each log's samples; the file hash runs in a thread beside it
     # (hashlib releases the GIL). The pass's freed buffers go back to the system before
     # the sizing and plotting, so the report's peak stays near that of one pass.
@@ -409,16 +418,27 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
         # the sizing and plotting libraries load beside the pass (mostly while pyarrow
         # parses, which releases the GIL); they are used only after it
         loading = pool.submit(_import_later_stages)
-        hashes = [pool.submit(file_sha256, log) for log in logs]
-        for log, sha in zip(logs, hashes, strict=True):
-            res = analyse_cycles(log, opts, **read)
-            facts = (survey_log(log, nominal_speed=opts.nominal_speed, **read).to_dict()
-                     if with_survey else log_facts(res))
+        for log in logs:
+            sha = pool.submit(file_sha256, log)
+            try:  # one bad log among several: keep the others, name the bad one
+                res = analyse_cycles(log, opts, **read)
+                facts = (survey_log(log, nominal_speed=opts.nominal_speed, **read).to_dict()
+                         if with_survey else log_facts(res))
+            except DataError as exc:
+                if len(logs) == 1:
+                    raise
+                failed.append({"file": str(log), "reason": str(exc)})
+                skipped[f"log {log}"] = f"left out: {exc}"
+                continue
             results.append(res)
             entries.append({"path": str(log), "name": Path(log).name,
                             "sha256": sha.result(), "bytes": Path(log).stat().st_size,
                             "inspect": _plain(facts), "cycles": _plain(res.to_dict())})
         loading.result()
+    if not results:
+        raise DataError("no log could be used: "
+                        + "; ".join(f["reason"] for f in failed))
+    logs = [e["path"] for e in entries]
     design = results[0]
     _return_freed_memory()
 
@@ -518,7 +538,9 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
         mean_rpm = design.summary["speed_mean_rpm"]
         try:
             sh = check_shaft(prof, speed=mean_rpm / _RPM if mean_rpm else None, orders=spectrum,
-                             add_mass=add_mass, add_inertia=add_inertia)
+                             add_mass=add_mass, add_inertia=add_inertia,
+                             cycle_torque=(design.mean_cycle["torque_mean"].to_numpy(float)
+                                           if spectrum is not None else None))
             shaft = _plain(sh.to_dict())
             shaft["options"]["speed_source"] = ("mean speed of the design log" if mean_rpm
                                                 else "profile [machine] speed_rpm")
@@ -563,7 +585,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
         options=_plain(options), figures=figures, cautions=cautions, notes=notes,
         version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
         flywheel_options=fw_options, material_choice=material_choice, extra=_plain(extra),
-        cs_p90=cs_p90)
+        cs_p90=cs_p90, failed_logs=failed)
 
 
 def _propose_flywheel(prof: Any, size: dict[str, Any], source: str,
@@ -926,7 +948,9 @@ def _find_machine(d: ReportData) -> Finding:
             f"from {known[0][:16].replace('T', ' ')}" if known else "(start time not stated)")
     n = len(d.logs)
     span = f"{sig(dur / 60.0)} min" if dur >= 120 else f"{sig(dur)} s"
-    ans = (f"{d.machine}: {n} log{'s' if n > 1 else ''} {when}, {span} of running, "
+    out = (f" ({len(d.failed_logs)} more could not be read; the appendix names them)"
+           if d.failed_logs else "")
+    ans = (f"{d.machine}: {n} log{'s' if n > 1 else ''}{out} {when}, {span} of running, "
            f"{cyc:,d} clean cycles at ",
            _cell("cycles", "summary.speed_mean_rpm",
                  d.design["cycles"]["summary"]["speed_mean_rpm"], "speed_mean_rpm"), ".")
@@ -1012,8 +1036,16 @@ def _find_flywheel(d: ReportData) -> Finding:
 
 
 def _shaft_strength(d: ReportData) -> Finding | None:
-    """Page-one text of a shaft strength result in ``extra['strength']`` when present
-    (``{"verdict": "pass"|"fail", "governing": "<check and margin>"}``)."""
+    """Page-one text of the shaft strength check (fatigue, yield, key, fit): the shaft
+    JSON's ``strength`` after the flywheel (else before), or a result given in
+    ``extra['strength']`` (``{"verdict": "pass"|"fail", "governing": "<check>"}``)."""
+    sh = d.shaft or {}
+    state = sh.get("after") or sh.get("before") or {}
+    st = state.get("strength")
+    if st:
+        text = str(st.get("margin_text", "")).rsplit(": ", 1)[0]
+        return Finding("shaft-fine", "Is the shaft fine with it?",
+                       (f"Strength: {text}.",), str(st.get("verdict", "info")), "shaft")
     st = d.extra.get("strength")
     if not st:
         return None
@@ -1259,11 +1291,11 @@ def _section_shaft(d: ReportData) -> Section:
     rows = []
     for state in ("before", "after"):
         st = sh.get(state)
-        for kind in ("lateral", "torsional"):
+        for kind in ("lateral", "torsional", "strength"):
             c = (st or {}).get(kind)
             if not c:
                 continue
-            hz = c["fe_hz"] if kind == "lateral" else c["modes_hz"]
+            hz = c.get("fe_hz") if kind == "lateral" else c.get("modes_hz") or []
             rows.append((Cell("with the flywheel" if state == "after" else "as it is"),
                          Cell(kind), Cell(", ".join(sig(h) for h in hz)),
                          Cell(c["verdict"], verdict=c["verdict"]),
@@ -1275,8 +1307,10 @@ def _section_shaft(d: ReportData) -> Section:
         paras.append((f"With the flywheel: {sig(o['add_mass_kg'])} kg at "
                       f"{sig(o.get('add_mass_at_m'))} m along the shaft.",))
     return Section("shaft", title, tuple(paras), (),
-                   (Table("shaft-table", "Natural frequencies against the forcing",
-                          ("State", "Check", "Natural frequencies, Hz", "Verdict", "Why"),
+                   (Table("shaft-table", "Natural frequencies against the forcing, and "
+                          "strength",
+                          ("State", "Check", "Natural frequencies, Hz", "Verdict",
+                           "Governing margin"),
                           tuple(rows)),), tuple(d.figures_in("shaft")),
                    tuple(f"Caution: {c}" for c in specific_cautions(sh)))
 
@@ -1435,8 +1469,9 @@ def write_pdf(data: ReportData, path: str | Path) -> Path:
 def write_report(data: ReportData, html: str | Path, pdf: str | Path | None = None
                  ) -> list[Path]:
     """Write the HTML report (and the PDF); returns the files written."""
-    out = Path(html)
-    out.write_text(render_html(data), encoding="utf-8")
+    from torqlog.outputs import write_text
+
+    out = write_text(html, render_html(data))
     written = [out]
     if pdf is not None:
         written.append(write_pdf(data, pdf))

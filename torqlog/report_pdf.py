@@ -251,12 +251,16 @@ def write_pdf(doc: Any, path: str | Path, page: str = "a4") -> Path:
                 super().showPage()
             super().save()
 
+    from torqlog.outputs import atomic_path
+
     p = Path(path)
-    template = SimpleDocTemplate(str(p), pagesize=size, leftMargin=margin,
-                                 rightMargin=margin, topMargin=14 * mm, bottomMargin=16 * mm,
-                                 title=doc.title, author="torqlog", creator="torqlog")
-    story = _story(doc, st, template.width, template.height)
-    template.build(story, canvasmaker=_Numbered)
+    with atomic_path(p) as tmp:  # the PDF appears whole or not at all
+        template = SimpleDocTemplate(str(tmp), pagesize=size, leftMargin=margin,
+                                     rightMargin=margin, topMargin=14 * mm,
+                                     bottomMargin=16 * mm, title=doc.title, author="torqlog",
+                                     creator="torqlog")
+        template.build(_story(doc, st, template.width, template.height),
+                       canvasmaker=_Numbered)
     return p
 
 

@@ -54,6 +54,7 @@ from torqlog.beam import (
     solve_static,
 )
 from torqlog.errors import DataError, UsageError
+from torqlog.notebook import result_html
 from torqlog.profile import MachineProfile
 from torqlog.torsion import (
     ASSUMED_MAX_ORDER,
@@ -346,6 +347,40 @@ def _require_masses(model: ShaftModel, include_self_weight: bool, method: str) -
         raise UsageError(f"{method} needs masses on the shaft or its self weight")
 
 
+def support_reactions(model: ShaftModel) -> np.ndarray:
+    """Upward reaction [N] at each bearing under the weights of the point masses.
+
+    From the finite-element solution (R = K u - f at the supported deflections), so it
+    holds for two bearings and for statically indeterminate shafts on more.
+
+    References
+    ----------
+    Przemieniecki (1968), reactions from the assembled stiffness matrix.
+    """
+    beam, mass_nodes = _mesh(model)
+    weights = GRAVITY * np.array([m.mass for m in model.masses])
+    load = load_vector(len(beam.nodes), mass_nodes, weights, beam.element_length, None)
+    u = solve_static(beam.stiffness, load, beam.free)
+    r = beam.stiffness @ u - load
+    nodes = nearest_nodes(beam.nodes, np.asarray(model.bearings))
+    # deflection is positive down in the load vector: the reaction pushes up
+    return -r[2 * nodes]
+
+
+def bending_moment(model: ShaftModel, x: np.ndarray) -> np.ndarray:
+    """Bending moment [N*m] along the shaft under the weights of the point masses.
+
+    Statics of the free body left of x with the reactions of :func:`support_reactions`
+    (shaft self weight neglected).
+    """
+    x = np.atleast_1d(np.asarray(x, float))
+    pos = np.concatenate([np.asarray(model.bearings), [m.at for m in model.masses]])
+    force = np.concatenate([support_reactions(model),
+                            [-GRAVITY * m.mass for m in model.masses]])
+    arm = x[:, None] - pos[None, :]
+    return np.where(arm > 0, arm * force[None, :], 0.0).sum(axis=1)
+
+
 def shaft_mesh(model: ShaftModel, max_element: float | None = None) -> np.ndarray:
     """Node positions [m] of the finite-element mesh (rows of the mode shapes)."""
     return _mesh(model, max_element)[0].nodes
@@ -503,7 +538,12 @@ def fe_modes(model: ShaftModel, n: int = 3, *, rotary_inertia: bool = False,
 
 @dataclass(frozen=True, eq=False)
 class LateralResult:
-    """Lateral check of one shaft layout. ``to_dict()`` is the JSON contract."""
+    """Lateral check of one shaft layout. ``to_dict()`` is the JSON contract.
+
+    ``forcing_hz`` is the running speed of the shaft itself (1×, unbalance) and
+    ``forcing_2x_hz`` twice that (misalignment); ``ratio`` is the first lateral natural
+    frequency over 1×. Torque orders do not drive lateral modes and are not used here.
+    """
 
     rayleigh_hz: float
     dunkerley_hz: float
@@ -519,6 +559,16 @@ class LateralResult:
     x: np.ndarray = field(repr=False)           # node positions [m]
     deflection: np.ndarray = field(repr=False)  # static deflection [m]
     mode_shapes: np.ndarray = field(repr=False)  # (n_modes, n_nodes)
+    margin: float = 0.15
+    regime: str = "stiff"
+    separation: tuple[dict[str, Any], ...] = ()
+
+    @property
+    def forcing_2x_hz(self) -> float:
+        """Twice the shaft speed (misalignment) [Hz]."""
+        return 2.0 * self.forcing_hz
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract (frequencies in Hz, deflection in mm)."""
@@ -528,28 +578,48 @@ class LateralResult:
             "fe_hz": list(self.fe_hz),
             "static_deflection_max_mm": self.static_deflection_max * 1e3,
             "forcing_hz": self.forcing_hz,
+            "forcing_2x_hz": self.forcing_2x_hz,
             "ratio": self.ratio,
             "required_ratio": self.required_ratio,
+            "separation_margin": self.margin,
+            "regime": self.regime,
+            "separation": [dict(d) for d in self.separation],
             "verdict": self.verdict,
             "margin_text": self.margin_text,
             "method": self.method,
         }
 
 
-def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
-                  required_ratio: float = 3.0, *, include_self_weight: bool = False,
+def lateral_check(model: ShaftModel, shaft_speed_hz: float, required_ratio: float = 3.0,
+                  *, margin: float = 0.15, include_self_weight: bool = False,
                   method: str = "fe", n_modes: int = 3, rotary_inertia: bool = False
                   ) -> LateralResult:
-    """Hold the first lateral natural frequency against the highest forcing frequency.
+    """Hold the lateral natural frequencies against 1× and 2× the shaft's own speed.
+
+    Lateral modes are driven by unbalance (once per revolution of the shaft that carries
+    the masses) and misalignment (twice per revolution); the orders of the torque drive
+    torsional modes and are held against those in :mod:`torqlog.torsion`.
+
+    Two rules, both common practice (no published source):
+
+    * a *stiff* shaft runs below its first critical speed, and the first critical must be
+      at least ``required_ratio`` × the running speed (3 to 4 is usual; default 3);
+    * a shaft whose first critical lies below 1× (a *flexible* shaft, run through its
+      first critical) needs every lateral mode at least ``margin`` (default ±15 %) away
+      from 1× and 2×.
+
+    A shaft whose first critical lies between 1× and ``required_ratio`` × fails the stiff
+    rule.
 
     Parameters
     ----------
     model : ShaftModel
-    forcing_hz : float or sequence of float [Hz]
-        Forcing frequencies; the highest one counts.
+    shaft_speed_hz : float [Hz]
+        Running speed of this shaft (the flywheel shaft speed ratio already applied).
     required_ratio : float
-        Required ratio of first natural frequency to highest forcing frequency. The
-        default 3 is common practice (3 to 4 is usual).
+        Required first critical / running speed for a stiff shaft (default 3).
+    margin : float
+        Separation margin of every mode from 1× and 2× for a flexible shaft (default 0.15).
     include_self_weight : bool
         Include the shaft's own mass in Rayleigh and Dunkerley and its weight in the
         static deflection (the finite-element modes always include the shaft's mass).
@@ -559,15 +629,23 @@ def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
     Returns
     -------
     LateralResult
+
+    References
+    ----------
+    Thomson and Dahleh, *Theory of Vibration with Applications*, whirling of rotating
+    shafts (critical speed at the lateral natural frequency, excited by unbalance at 1×).
     """
     if method not in LATERAL_METHODS:
         raise UsageError(f"unknown lateral method {method!r}; valid: "
                          f"{', '.join(LATERAL_METHODS)}")
-    forcing = float(np.max(np.atleast_1d(np.asarray(forcing_hz, float))))
-    if not forcing > 0:
-        raise UsageError(f"forcing frequency must be positive, got {forcing:g} Hz")
-    if not required_ratio > 0:
-        raise UsageError(f"required ratio must be positive, got {required_ratio:g}")
+    speed_hz = float(shaft_speed_hz)
+    if not speed_hz > 0:
+        raise UsageError(f"shaft speed must be positive, got {speed_hz:g} Hz")
+    if not required_ratio > 1:
+        raise UsageError(f"required ratio must be greater than 1, got {required_ratio:g}")
+    if not 0 < margin < 1:
+        raise UsageError(f"separation margin must be a fraction between 0 and 1, "
+                         f"got {margin:g}")
     has_mass = bool(model.masses) or include_self_weight
     f_r = rayleigh(model, include_self_weight) if has_mass else math.nan
     f_d = dunkerley(model, include_self_weight) if has_mass else math.nan
@@ -575,28 +653,55 @@ def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
     x, y = static_deflection(model, include_self_weight)
     first = {"fe": float(freqs[0]) if len(freqs) else math.nan,
              "rayleigh": f_r, "dunkerley": f_d}[method]
-    ratio = first / forcing
-    verdict = "pass" if ratio >= required_ratio else "fail"
+    ratio = first / speed_hz
     label = {"fe": "first lateral mode", "rayleigh": "Rayleigh estimate",
              "dunkerley": "Dunkerley estimate"}[method]
-    text = (f"{label} {first:.1f} Hz is {ratio:.1f}× the highest forcing {forcing:.2f} Hz "
-            f"(required {required_ratio:g}×): {verdict}")
+    modes = np.array([first, *[float(f) for f in freqs[1:]]]) if method == "fe" else \
+        np.array([first])
+    sep = []
+    for f in modes:
+        for mult in (1, 2):
+            sep.append({"mode_hz": float(f), "multiple": mult,
+                        "forcing_hz": mult * speed_hz,
+                        "separation": float(f / (mult * speed_hz) - 1.0)})
+    if ratio >= required_ratio:
+        regime, verdict = "stiff", "pass"
+        text = (f"{label} {first:.1f} Hz is {ratio:.1f}× the shaft speed {speed_hz:.2f} Hz "
+                f"(stiff shaft, required {required_ratio:g}×): pass")
+    elif ratio > 1.0:
+        regime, verdict = "stiff", "fail"
+        text = (f"{label} {first:.1f} Hz is only {ratio:.1f}× the shaft speed "
+                f"{speed_hz:.2f} Hz (stiff shaft, required {required_ratio:g}×): fail")
+    else:
+        regime = "flexible"
+        worst = min(sep, key=lambda d: abs(d["separation"]))
+        verdict = "pass" if abs(worst["separation"]) >= margin else "fail"
+        text = (f"{label} {first:.1f} Hz lies below the shaft speed {speed_hz:.2f} Hz "
+                f"(flexible shaft); nearest: mode {worst['mode_hz']:.1f} Hz is "
+                f"{worst['separation'] * 100:+.0f} % from {worst['multiple']}× "
+                f"(required ±{margin * 100:g} %): {verdict}")
     return LateralResult(f_r, f_d, tuple(float(f) for f in freqs),
-                         float(np.max(np.abs(y))), forcing, float(ratio),
-                         float(required_ratio), verdict, text, method, model, x, y, shapes)
+                         float(np.max(np.abs(y))), speed_hz, float(ratio),
+                         float(required_ratio), verdict, text, method, model, x, y, shapes,
+                         float(margin), regime, tuple(sep))
 
 
 # --------------------------------------------------------------------------- the check
 @dataclass(frozen=True, eq=False)
 class ShaftState:
-    """Lateral and torsional results of one configuration (torsional may be None)."""
+    """Lateral and torsional results of one configuration (torsional may be None), and
+    with a log the torsional forced response and the shaft strength."""
 
     lateral: LateralResult
     torsional: TorsionalResult | None
+    response: Any = None   # ForcedResponse or None
+    strength: Any = None   # StrengthResult or None
 
     def to_dict(self) -> dict[str, Any]:
         return {"lateral": self.lateral.to_dict(),
-                "torsional": self.torsional.to_dict() if self.torsional else None}
+                "torsional": self.torsional.to_dict() if self.torsional else None,
+                "forced_response": self.response.to_dict() if self.response else None,
+                "strength": self.strength.to_dict() if self.strength else None}
 
 
 @dataclass(frozen=True, eq=False)
@@ -618,7 +723,8 @@ class ShaftResult:
     @property
     def failures(self) -> dict[str, str]:
         """Failed checks of the current state: {"lateral" | "torsional": margin text}."""
-        checks = {"lateral": self.current.lateral, "torsional": self.current.torsional}
+        checks = {"lateral": self.current.lateral, "torsional": self.current.torsional,
+                  "strength": self.current.strength}
         return {name: res.margin_text for name, res in checks.items()
                 if res is not None and res.verdict == "fail"}
 
@@ -644,11 +750,18 @@ class ShaftResult:
                                                         strict=True))]
         return pd.DataFrame(rows, columns=["state", "check", "estimate", "frequency_Hz"])
 
+    _repr_html_ = result_html  # the notebook view
+
     def to_dict(self) -> dict[str, Any]:
         cur = self.current.to_dict()
+        strength = self.current.strength
         return {"before": self.before.to_dict(),
                 "after": self.after.to_dict() if self.after else None,
                 "lateral": cur["lateral"], "torsional": cur["torsional"],
+                "forced_response": cur["forced_response"], "strength": cur["strength"],
+                "fatigue_safety_factor": strength.fatigue_safety_factor if strength else None,
+                "governing_section": strength.to_dict()["governing_section"]
+                if strength else None,
                 "verdict": self.verdict, "failed": list(self.failures),
                 "cautions": list(self.cautions), "options": dict(self.options)}
 
@@ -658,7 +771,10 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
                 add_inertia: float | None = None, add_inertia_at: str | None = None,
                 required_ratio: float | None = None, band: float | None = None,
                 min_share: float | None = None, self_weight: bool | None = None,
-                material: str | None = None, revs_per_cycle: int | None = None
+                material: str | None = None, revs_per_cycle: int | None = None,
+                margin: float | None = None, cycle_torque: np.ndarray | None = None,
+                torque_peak_logged: float | None = None, damping_ratio: float | None = None,
+                fatigue_method: str | None = None, excitation_at: str | None = None
                 ) -> ShaftResult:
     """Check a machine's shaft, lateral and torsional, before and after adding parts.
 
@@ -670,9 +786,9 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         Shaft speed; default the profile's ``[machine] speed_rpm``.
     orders : OrderSpectrum, mapping, sequence or None
         Orders of the shaft speed present in the torque (see
-        :func:`torqlog.torsion.torsional_check`).
-        The lateral forcing is the highest significant order times the speed, at least
-        the running speed of the ``[shaft]`` itself (1×, unbalance), which turns at
+        :func:`torqlog.torsion.torsional_check`); they are held against the torsional
+        modes only. The lateral modes are held against 1× (unbalance) and 2×
+        (misalignment) the speed of the ``[shaft]`` itself, which turns at
         ``[machine] flywheel_speed_ratio`` × ``speed`` (the shaft described is the one that
         carries the flywheel).
     add_mass : float, optional [kg]
@@ -686,6 +802,10 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     required_ratio, band, min_share, self_weight
         Default: the profile's ``[shaft]`` / ``[torsional]`` values, else 3.0 (common
         practice), 0.10 (common practice), 0.05 and False.
+    margin : float, optional
+        Lateral separation margin from 1× and 2× for a shaft running above its first
+        critical; default the profile's ``[shaft] separation_margin``, else 0.15 (common
+        practice).
     material : str, optional
         Overrides ``[shaft] material``.
     revs_per_cycle : int, optional
@@ -715,19 +835,29 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     at_name = add_inertia_at or "flywheel"
 
     o, _, orders_source = significant_orders(orders, min_share, revs)
-    forcing_order = float(max(1.0, o.max() if len(o) else 1.0))
+    forcing_order = float(o.max()) if len(o) else math.nan
     speed_hz = speed / (2 * math.pi)
     # [shaft] describes the shaft that carries the flywheel, turning at
-    # flywheel_speed_ratio × the logged speed: its own 1× (unbalance) is a forcing too
+    # flywheel_speed_ratio × the logged speed: its 1× (unbalance) and 2× (misalignment)
+    # drive the lateral modes; the torque orders drive only the torsional ones
     shaft_ratio = float(profile.machine.get("flywheel_speed_ratio", 1.0))
-    lateral_forcing_hz = max(forcing_order, shaft_ratio) * speed_hz
+    shaft_speed_hz = shaft_ratio * speed_hz
+    margin = _pick(margin, profile.shaft.get("separation_margin"), 0.15)
+
+    strength_ctx = (_strength_context(profile, model, damping_ratio, fatigue_method,
+                                      excitation_at, speed, shaft_ratio)
+                    if cycle_torque is not None else None)
 
     def state(m: ShaftModel, c: TorsionalChain | None) -> ShaftState:
-        lat = lateral_check(m, lateral_forcing_hz, required_ratio,
+        lat = lateral_check(m, shaft_speed_hz, required_ratio, margin=margin,
                             include_self_weight=self_weight)
         tor = (torsional_check(c, orders, speed, band, min_share, revs_per_cycle=revs)
                if c is not None else None)
-        return ShaftState(lat, tor)
+        if strength_ctx is None:
+            return ShaftState(lat, tor)
+        resp, strength = _response_and_strength(strength_ctx, m, c, cycle_torque, revs,
+                                                torque_peak_logged)
+        return ShaftState(lat, tor, resp, strength)
 
     before = state(model, chain)
     after = None
@@ -768,15 +898,113 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         "speed_rpm": speed * 60 / (2 * math.pi), "speed_hz": speed_hz,
         "revs_per_cycle": revs, "required_ratio": required_ratio, "band": band,
         "min_share": min_share, "self_weight": self_weight,
-        "orders_source": orders_source, "forcing_order": forcing_order,
-        "shaft_speed_ratio": shaft_ratio,
+        "orders_source": orders_source,
+        "forcing_order": None if math.isnan(forcing_order) else forcing_order,
+        "shaft_speed_ratio": shaft_ratio, "shaft_speed_hz": shaft_speed_hz,
+        "separation_margin": margin,
+        "lateral_forcing": "1× (unbalance) and 2× (misalignment) of the flywheel shaft "
+                           "speed; torque orders act on the torsional modes only",
+        "gyroscopic": "not included (non-rotating modes)",
         "material": material or profile.shaft.get("material", "steel"),
         "modulus_GPa": model.modulus / 1e9, "density_kg_per_m3": model.density,
         "supports": "simple (rigid)", "lateral_mass": "consistent shaft mass + point masses",
         "add_mass_kg": add_mass, "add_mass_at_m": add_mass_at,
         "add_inertia_kgm2": add_inertia, "add_inertia_at": at_name,
     }
+    if strength_ctx is not None:
+        options.update(strength_ctx["options"])
+        cautions += strength_ctx["notes"]
     return ShaftResult(before, after, tuple(cautions), options, float(speed))
+
+
+def _strength_context(profile: MachineProfile, model: ShaftModel, damping_ratio: Any,
+                      method: Any, excitation_at: Any, speed: float, shaft_ratio: float
+                      ) -> dict[str, Any]:
+    """Options and profile details shared by the before and after strength checks."""
+    from torqlog.shaft_strength import StrengthOptions, details_from_profile
+    from torqlog.strength import DEFAULT_SHAFT_STEEL, FATIGUE_METHODS
+    from torqlog.torsional_response import DEFAULT_DAMPING_RATIO
+
+    src = profile.source or "<profile>"
+    sec, tor = profile.shaft, profile.torsional
+    details = details_from_profile(model, sec, src)
+    method = _pick(method, sec.get("fatigue_method"), "goodman")
+    if method not in FATIGUE_METHODS:
+        raise UsageError(f"unknown fatigue method {method!r}; valid: "
+                         f"{', '.join(FATIGUE_METHODS)}")
+    given = "ultimate_strength_MPa" in sec and "yield_strength_MPa" in sec
+    opts = StrengthOptions(
+        ultimate=float(sec.get("ultimate_strength_MPa", DEFAULT_SHAFT_STEEL[1])),
+        yield_strength=float(sec.get("yield_strength_MPa", DEFAULT_SHAFT_STEEL[2])),
+        material=(f"{sec.get('material', 'steel')} (strengths from the profile)" if given
+                  else DEFAULT_SHAFT_STEEL[0]),
+        surface=str(sec.get("surface", "machined")),
+        reliability=float(sec.get("reliability", 0.99)),
+        temperature=float(sec.get("temperature_C", 20.0)), method=method,
+        service_factor=float(sec.get("service_factor", 1.5)),
+        roller_bearings=str(sec.get("bearing_type", "ball")) == "roller")
+    notes = []
+    if not given:
+        notes.append(f"Shaft strengths not in the profile: {DEFAULT_SHAFT_STEEL[0]} assumed "
+                     f"(Sut {DEFAULT_SHAFT_STEEL[1] / 1e6:g} MPa, "
+                     f"Sy {DEFAULT_SHAFT_STEEL[2] / 1e6:g} MPa).")
+    pressures: dict[str, float] = {}
+    if any(d["seat"] == "shrink" for d in details.seats):
+        try:
+            from torqlog.flywheel import flywheel_from_profile
+
+            hubs = [d.get("hub_length") for m, d in zip(model.masses, details.seats,
+                                                        strict=False)
+                    if m.name == "flywheel" and d["seat"] == "shrink"]
+            width = None if profile.flywheel.get("width") else (hubs[0] if hubs else None)
+            fw = flywheel_from_profile(profile, width=width)
+            if fw.fit_pressure_rest:
+                pressures["flywheel"] = float(fw.fit_pressure_rest)
+        except (DataError, UsageError) as exc:
+            notes.append(f"Shrink fit not checked: the flywheel's fit pressure could not be "
+                         f"computed ({exc}).")
+    damping = float(_pick(damping_ratio, tor.get("damping_ratio"), DEFAULT_DAMPING_RATIO))
+    excite = _pick(excitation_at, tor.get("excitation_at"), None)
+    return {"details": details, "strength": opts, "pressures": pressures, "notes": notes,
+            "damping": damping, "excitation_at": excite, "speed": speed,
+            "ratio": shaft_ratio,
+            "options": {"damping_ratio": damping, "fatigue_method": method,
+                        "excitation_at": excite}}
+
+
+def _response_and_strength(ctx: dict[str, Any], model: ShaftModel,
+                           chain: TorsionalChain | None, cycle_torque: np.ndarray, revs: int,
+                           torque_peak_logged: float | None) -> tuple[Any, Any]:
+    """Forced response of the chain to the log's orders and the strength it implies."""
+    from torqlog.shaft_strength import shaft_strength
+    from torqlog.torsional_response import complex_orders, forced_response
+
+    torque = np.asarray(cycle_torque, float)
+    resp = None
+    if chain is not None:
+        order, amp, mean = complex_orders(torque, revs)
+        resp = forced_response(chain, order, amp, mean, ctx["speed"], revs_per_cycle=revs,
+                               excitation_at=ctx["excitation_at"],
+                               damping_ratio=ctx["damping"])
+        # the flywheel shaft carries the section from the flywheel towards the torque
+        names = chain.names
+        if "flywheel" in names:
+            f = names.index("flywheel")
+            e = names.index(resp.options["excitation_at"])
+            s = f if e > f else max(f - 1, 0)
+        else:
+            s = int(resp.peak.argmax())
+        wave = resp.waveform[:, s]
+    else:
+        wave = torque
+    hi, lo = float(wave.max()), float(wave.min())
+    peak = max(abs(hi), abs(lo), abs(torque_peak_logged or 0.0))
+    ratio = ctx["ratio"]
+    strength = shaft_strength(model, ctx["details"], (hi + lo) / 2 / ratio,
+                              (hi - lo) / 2 / ratio, peak / ratio, ctx["strength"],
+                              speed_rpm=ctx["speed"] * ratio * 60 / (2 * math.pi),
+                              fit_pressures=ctx["pressures"])
+    return resp, strength
 
 
 def _pick(given: Any, from_profile: Any, default: Any) -> Any:
@@ -789,5 +1017,5 @@ __all__ = [
     "CAUTIONS", "GRAVITY", "LATERAL_METHODS", "LateralResult", "PointMass", "ShaftModel",
     "ShaftResult", "ShaftSegment", "ShaftState", "check_shaft", "dunkerley", "fe_modes",
     "lateral_check", "material_properties", "rayleigh", "shaft_mesh",
-    "shaft_model_from_profile", "static_deflection",
+    "shaft_model_from_profile", "static_deflection", "support_reactions", "bending_moment",
 ]

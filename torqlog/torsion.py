@@ -34,6 +34,7 @@ import numpy as np
 import scipy.linalg
 
 from torqlog.errors import DataError, UsageError
+from torqlog.notebook import result_html
 from torqlog.profile import MachineProfile
 
 if TYPE_CHECKING:
@@ -120,6 +121,20 @@ def torsional_chain_from_profile(profile: MachineProfile) -> TorsionalChain | No
         raise DataError(f"{src}: [torsional] {exc}") from None
 
 
+def chain_matrices(chain: TorsionalChain) -> tuple[np.ndarray, np.ndarray]:
+    """Inertia matrix J [kg*m^2] (diagonal) and stiffness matrix K [N*m/rad] of a chain
+    (K tridiagonal: k_i on and -k_i beside the diagonal; Den Hartog)."""
+    n = len(chain.inertias)
+    k = np.asarray(chain.stiffnesses, float)
+    K = np.zeros((n, n))
+    i = np.arange(n - 1)
+    np.add.at(K, (i, i), k)
+    np.add.at(K, (i + 1, i + 1), k)
+    np.add.at(K, (i, i + 1), -k)
+    np.add.at(K, (i + 1, i), -k)
+    return np.diag(np.asarray(chain.inertias, float)), K
+
+
 class TorsionalModes(NamedTuple):
     """Torsional modes: ``freqs`` [Hz] ascending, ``shapes`` (n_modes, n_inertias)."""
 
@@ -157,14 +172,8 @@ def torsional_modes(chain: TorsionalChain) -> TorsionalModes:
     Den Hartog, *Mechanical Vibrations*; Thomson and Dahleh, torsional systems.
     """
     n = len(chain.inertias)
-    k = np.asarray(chain.stiffnesses, float)
-    K = np.zeros((n, n))
-    i = np.arange(n - 1)
-    np.add.at(K, (i, i), k)
-    np.add.at(K, (i + 1, i + 1), k)
-    np.add.at(K, (i, i + 1), -k)
-    np.add.at(K, (i + 1, i), -k)
-    w2, vecs = scipy.linalg.eigh(K, np.diag(chain.inertias))
+    J, K = chain_matrices(chain)
+    w2, vecs = scipy.linalg.eigh(K, J)
     w2 = np.where(w2 <= 1e-9 * max(w2.max(), 0.0), 0.0, w2)
     shapes = vecs.T
     peak = shapes[np.arange(n), np.abs(shapes).argmax(axis=1)]
@@ -235,6 +244,8 @@ class TorsionalResult:
     min_share: float
     verdict: str
     margin_text: str
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract (frequencies in Hz)."""
@@ -319,7 +330,7 @@ def torsional_check(chain: TorsionalChain, orders: Any = None, speed: float | No
 
 
 __all__ = [
-    "ASSUMED_MAX_ORDER", "TorsionalChain", "TorsionalModes", "TorsionalResult",
+    "ASSUMED_MAX_ORDER", "TorsionalChain", "chain_matrices", "TorsionalModes", "TorsionalResult",
     "significant_orders", "torsional_chain_from_profile", "torsional_check",
     "torsional_modes", "torsional_stiffness",
 ]

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import sys
 from pathlib import Path
 from typing import Any
@@ -9,7 +10,11 @@ from typing import Any
 import click
 
 from torqlog.cli.base import (
+    FIGURE_FILE,
+    TABULAR,
     QuantityType,
+    atomic_path,
+    check_outputs,
     cli,
     cycle_options,
     emit,
@@ -18,9 +23,14 @@ from torqlog.cli.base import (
     make_cycle_options,
     output_options,
     parse_quantile,
+    positive_float,
     read_kwargs,
     run_cycles,
 )
+
+
+def _finite(x: float | None) -> bool:
+    return x is not None and math.isfinite(x)
 
 
 # --------------------------------------------------------------------------- inspect
@@ -37,6 +47,8 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 
     from torqlog.survey import survey_log
 
+    check_outputs({"-o": output}, {"log": log})
+
     s = survey_log(log, nominal_speed=speed_rpm, **read_kwargs(kw))
     d = s.to_dict()
     cols = pd.DataFrame(d["columns"])  # csv keeps the JSON key names
@@ -46,8 +58,10 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
         + (f", {d['delimiter']}-delimited, decimal '{d['decimal']}'" if d["delimiter"] else ""),
         f"rows        {d['rows']}",
         f"duration    {d['duration_s']:.6g} s",
-        f"sample rate {d['sample_rate_hz']:.6g} Hz (time-step jitter "
-        f"{100 * d['rate_jitter']:.3g} %)",
+        (f"sample rate {d['sample_rate_hz']:.6g} Hz (time-step jitter "
+         f"{100 * d['rate_jitter']:.3g} %)" if _finite(d["sample_rate_hz"]) else
+         f"sample rate not known: {d['rows']} row(s) give no time step; a rate needs at "
+         "least two samples (or give --rate HZ)"),
         f"start       {d['start_time'] or 'not stated'}",
         f"time        {d['time_kind']}",
         f"gaps        {d['gaps']['count']}"
@@ -55,13 +69,15 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
            f"{d['gaps']['list'][0]['after_s']:.6g} s, row {d['gaps']['list'][0]['row']})"
            if d["gaps"]["count"] else ""),
         "NaN rows    " + (", ".join(f"{k} {v}" for k, v in d["nan_rows"].items()) or "none"),
+        *([f"±inf rows   {', '.join(f'{k} {v}' for k, v in d['inf_rows'].items())}"]
+          if d["inf_rows"] else []),
         "clipped     " + (", ".join(f"{k} {v} samples" for k, v in d["clipped_samples"].items())
                           or "none found"),
         f"cycles from {d['cycle_source'] or '-'}: {d['cycle_source_note']}",
     ]
     if d["preamble"]:
         lines.append("preamble    " + "; ".join(f"{k}: {v}" for k, v in d["preamble"].items()))
-    emit(d, cols if fmt == "csv" else cols.rename(columns={"si_factor": "SI factor"}), fmt,
+    emit(d, cols if fmt in TABULAR else cols.rename(columns={"si_factor": "SI factor"}), fmt,
          output, text="\n".join(lines) + "\n")
 
 
@@ -69,11 +85,12 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 @cli.command()
 @click.argument("log", type=click.Path(dir_okay=True))
 @cycle_options
-@click.option("--plot", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", type=FIGURE_FILE, default=None,
               help="Write a PNG: torque, E(θ) and speed against crank angle.")
 @output_options
 def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) -> None:
     """Split a log into machine cycles: energy swing, Cs and torque per cycle."""
+    check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
     res, _ = run_cycles(log, kw)
     if plot:
         res.plot(plot)
@@ -96,10 +113,14 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         *(f"note: {n}" for n in res.notes),
         *([f"flagged cycles: {', '.join(f'{k} {v}' for k, v in s['flags'].items())} "
            "(kept in the table, left out of the figures above)"] if s["flags"] else []),
+        *([f"not running: {len(s['not_running'])} stretch(es): " + "; ".join(
+            f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s"
+            for d in s["not_running"][:5]) + ("; ..." if len(s["not_running"]) > 5 else "")]
+          if s.get("not_running") else []),
         "",
     ])
     table = None  # the JSON needs no pandas table (and so no pandas)
-    if fmt == "csv":
+    if fmt in TABULAR:
         table = res.table
     elif fmt == "table":
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
@@ -228,9 +249,9 @@ def _size_text(d: dict[str, Any], source: str) -> str:
               help="Motor synchronous speed [rpm].")
 @click.option("--rated-rpm", type=QuantityType("speed", "rpm"), default=None,
               help="Motor rated (full-load) speed [rpm].")
-@click.option("--motor-ratio", type=float, default=None,
+@click.option("--motor-ratio", type=positive_float(), default=None,
               help="Motor speed / logged shaft speed (belt or gear ratio).")
-@click.option("--flywheel-speed-ratio", type=float, default=None,
+@click.option("--flywheel-speed-ratio", type=positive_float(), default=None,
               help="Flywheel shaft speed / logged shaft speed.  [default: 1, or profile]")
 @click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
 @click.option("--tolerance", type=click.FloatRange(0, 1, min_open=True), default=0.10,
@@ -239,7 +260,7 @@ def _size_text(d: dict[str, Any], source: str) -> str:
 @click.option("--hours-per-year", type=click.FloatRange(min=0), default=4000.0,
               show_default=True, help="Running hours per year, for the copper-loss change.")
 @cycle_options
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
               help="Write a PNG: Cs and motor peak torque against added inertia.")
 @output_options
 def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
@@ -257,6 +278,8 @@ def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
     from torqlog.inertia import size_log, size_log_dict
     from torqlog.logchoice import choose_log
 
+    check_outputs({"-o": output, "--plot": plot_path},
+                  {"log": list(logs), "--after": after_log, "--profile": kw.get("profile")})
     fresh = dict(kw)
     results = []
     for path in logs:
@@ -289,8 +312,8 @@ def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
         plot_drive_curve(result.to_pandas(), plot_path, target_cs=target_cs,
                          recommended=data["added_inertia_kgm2"])
         click.echo(f"wrote {plot_path}", err=True)
-    emit(data, result.to_pandas() if fmt == "csv" and result.curve is not None else None,
-         fmt, output, text=_size_text(data, res.source))
+    emit(data, result.to_pandas() if fmt in TABULAR and result.curve is not None else None,
+         fmt, output, text=lambda d: _size_text(d, res.source))
 
 
 
@@ -335,7 +358,6 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
                 machine: str | None, folder_profiles: bool
                 ) -> tuple[list[Any], list[dict[str, str]], Any]:
     """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
-    import pandas as pd
 
     from torqlog.batch import FileJob, discover
     from torqlog.errors import UsageError
@@ -344,12 +366,6 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
     if kw.get("start") and len(files) > 1:
         raise UsageError("--start places a single file; for several files give --name-time "
                          "PATTERN or logs that carry their own timestamps")
-    if kw.get("start"):
-        try:
-            pd.Timestamp(kw["start"])
-        except ValueError:
-            raise UsageError(f"--start {kw['start']!r} is not an ISO time, e.g. "
-                             "2026-03-02T06:00:00") from None
     if name_time:
         from torqlog.batch import name_time_regex
 
@@ -429,6 +445,12 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
 @click.option("--out-dir", type=click.Path(file_okay=False), default=None,
               help="Write cycles.parquet (every cycle), shifts.csv (the rows) and the PNG "
                    "plots into this folder.")
+@click.option("--fleet", "fleet_flag", is_flag=True,
+              help="Add the fleet table: one row per machine (Cs median and worst decile "
+                   "against target, added inertia, motor RMS load, drift, last log); it "
+                   "becomes the printed table.")
+@click.option("--fleet-sort", default="cs_p90_over_target", show_default=True,
+              metavar="COLUMN", help="Rank the fleet table by this column (worst first).")
 @output_options
 def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: str | None,
               machine: str | None, folder_profiles: bool, shifts: str | None,
@@ -436,15 +458,24 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
               baseline_path: str | None, figures: str, limits_method: str,
               ewma_lambda: float, ewma_l: float, run_rule: str, n_jobs: int | None,
               use_dask: bool, scheduler: str | None, out_dir: str | None,
-              **kw: Any) -> None:
+              fleet_flag: bool, fleet_sort: str, **kw: Any) -> None:
     """Trend many logs across shifts (and machines): per-shift figures, control limits
     and the first shift where drift began. PATHS are files, folders or glob patterns."""
     from contextlib import ExitStack, nullcontext
 
     from torqlog.batch import dask_client
+    from torqlog.outputs import OUTPUT_NAMES, parquet_metadata, write_text
     from torqlog.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
 
+    profile_path = kw.get("profile")
     jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
+    figure_names = [f"trend_{f.strip()}.png" for f in figures.split(",") if f.strip()]
+    out_files = ([Path(out_dir) / n for n in (*OUTPUT_NAMES, *figure_names,
+                                               "energy_swing_box.png")]
+                 if out_dir else None)
+    check_outputs({"-o": output, "--out-dir": out_files},
+                  {"log": [j.path for j in jobs], "--profile": profile_path,
+                   "--baseline": baseline_path})
     calendar = ShiftCalendar.build(shifts, shift_names, timezone, profile)
     drift = DriftOptions(figures=tuple(f.strip() for f in figures.split(",") if f.strip()),
                          baseline_groups=baseline_shifts, lam=ewma_lambda, L=ewma_l,
@@ -464,8 +495,15 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     if out_dir:
         out = Path(out_dir)
         out.mkdir(parents=True, exist_ok=True)
-        res.cycles_table().to_parquet(out / "cycles.parquet", index=False)
-        res.to_pandas().to_csv(out / "shifts.csv", index=False)
+        import pyarrow as pa
+        import pyarrow.parquet as pq
+
+        table = pa.Table.from_pandas(res.cycles_table(), preserve_index=False)
+        table = table.replace_schema_metadata({**(table.schema.metadata or {}),
+                                               **parquet_metadata("trend-cycles")})
+        with atomic_path(out / "cycles.parquet") as tmp:
+            pq.write_table(table, tmp)
+        write_text(out / "shifts.csv", res.to_pandas().to_csv(index=False))
         written = [out / "cycles.parquet", out / "shifts.csv", *res.plot(out)]
         click.echo("wrote " + ", ".join(str(p) for p in written), err=True)
     table = res.to_pandas()
@@ -474,7 +512,22 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
                                          table["start_time"]],
                              flags=[_short_flags(f) for f in res.groups["flags"]])
         table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95"])
-    emit(d, table, fmt, output, text=_trend_text(d, n_all))
+    sheets = None
+    if fleet_flag:
+        from torqlog.cli.fleet import fleet_for
+        from torqlog.fleet import rank_rows
+
+        rank_rows([], fleet_sort)  # an unknown column is refused before the sizing runs
+        fleet = fleet_for(res, jobs, profile, folder_profiles, fleet_sort)
+        d["fleet"] = fleet.to_dict()
+        sheets = {"shifts": table}
+        table = fleet.to_pandas()
+        if out_dir:
+            fleet.to_pandas().to_csv(Path(out_dir) / "fleet.csv", index=False)
+            fleet.write_html(Path(out_dir) / "fleet.html")
+            click.echo(f"wrote {Path(out_dir) / 'fleet.csv'}, {Path(out_dir) / 'fleet.html'}",
+                       err=True)
+    emit(d, table, fmt, output, text=lambda dd: _trend_text(dd, n_all), sheets=sheets)
     if res.failed:
         click.echo(f"Error: {len(res.failed)} of {n_all} file(s) failed: "
                    + "; ".join(f"{f['file']}: {f['reason']}" for f in res.failed), err=True)
