@@ -1068,7 +1068,8 @@ def _find_shaft(d: ReportData) -> Finding:
     failed = [(n, c) for n, c in checks if c["verdict"] == "fail"]
     name, gov = failed[0] if failed else checks[0]
     strength = _shaft_strength(d)
-    verdict = "fail" if failed or (strength and strength.verdict == "fail") else "pass"
+    verdict = ("fail" if failed or (strength and strength.verdict == "fail") else
+               "marginal" if strength and strength.verdict == "marginal" else "pass")
     who = "with the flywheel" if state == "after" else "as it is"
     text = gov["margin_text"].rsplit(": ", 1)[0]
     parts: list[Any] = [f"Shaft {who}: the {name} check {'fails' if failed else 'governs'}"

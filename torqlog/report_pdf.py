@@ -24,9 +24,10 @@ from typing import Any
 from xml.sax.saxutils import escape
 
 #: Colour-blind-safe colours (Okabe & Ito): pass, fail, neutral.
-_COLOURS = {"pass": "#0072B2", "fail": "#D55E00", "info": "#5b6770",
+_COLOURS = {"pass": "#0072B2", "fail": "#D55E00", "marginal": "#B07800", "info": "#5b6770",
             "not assessed": "#5b6770"}
-_WORDS = {"pass": "PASS", "fail": "FAIL", "info": "NOTE", "not assessed": "NOT ASSESSED"}
+_WORDS = {"pass": "PASS", "fail": "FAIL", "marginal": "MARGINAL", "info": "NOTE",
+          "not assessed": "NOT ASSESSED"}
 _PAGES = {"a4": (595.2755905511812, 841.8897637795277), "letter": (612.0, 792.0)}
 
 
