@@ -19,7 +19,6 @@ from torqlog.shaft import (
     PointMass,
     ShaftModel,
     ShaftSegment,
-    check_shaft,
     dunkerley,
     fe_modes,
     lateral_check,
@@ -28,6 +27,7 @@ from torqlog.shaft import (
     shaft_model_from_profile,
     static_deflection,
 )
+from torqlog.shaft_check import check_shaft
 
 E = 207e9
 RHO = 7850.0

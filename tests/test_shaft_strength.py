@@ -10,7 +10,7 @@ import pytest
 
 from torqlog.errors import DataError
 from torqlog.profile import parse_profile
-from torqlog.shaft import check_shaft
+from torqlog.shaft_check import check_shaft
 
 _PROFILE = {
     "machine": {"speed_rpm": 45.0},

@@ -57,7 +57,8 @@ _MAX_EVENTS = 200
 COLUMNS = ("cycle", "t_start_s", "start_time", "duration_s", "speed_mean_rpm",
            "speed_min_rpm", "speed_max_rpm", "torque_mean_Nm", "torque_peak_Nm",
            "torque_min_Nm", "work_J", "energy_swing_J", "angle_speed_min_deg",
-           "angle_speed_max_deg", "cs", "cs_constant_drive", "flag")
+           "angle_speed_max_deg", "cs", "cs_constant_drive", "flag", "anomaly",
+           "anomaly_score")
 
 
 @dataclass(frozen=True)
@@ -202,6 +203,8 @@ class CycleResult:
     options: dict[str, Any]
     layout: Layout
     notes: list[str] = field(default_factory=list)
+    anomaly: Any = None  #: AnomalyResult of the cycle-shape check, or None when off
+    shape_model: Any = None  #: the ShapeModel the cycles were scored against
 
     # The figures are kept as numpy columns; the pandas tables are built on first use, so
     # `torqlog cycles` never has to import pandas (~0.3 s of start-up).
@@ -243,7 +246,8 @@ class CycleResult:
                 cols.append(v.tolist())
         rows = [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
         return {"source": self.source, "options": self.options, "cycles": rows,
-                "summary": self.summary, "notes": self.notes}
+                "summary": self.summary, "notes": self.notes,
+                "anomaly": self.anomaly.to_dict() if self.anomaly is not None else None}
 
     def energy_curve(self) -> np.ndarray:
         """E(θ) [J] of the mean cycle on the ``mean_cycle`` grid (bin edges from 0)."""
@@ -304,6 +308,9 @@ class _Stream:
         self.theta_max = -np.inf
         self.tails: dict[str, tuple[np.ndarray, np.ndarray]] = {}
         self.activity = np.empty(0)
+        #: consumer of each chunk's clean cycles (cycle numbers, start, duration, curves)
+        self.shape_sink: Callable[..., Any] | None = None
+        self.shape_scores: list[tuple[np.ndarray, np.ndarray]] = []
 
     def feed(self, chunk: Chunk, final: bool) -> None:
         t = chunk.time
@@ -643,6 +650,9 @@ class _Stream:
                 room = MAX_CURVES - self.n_curves
                 if room > 0:
                     self.curves[k].append(a[:room])
+            if self.shape_sink is not None:
+                self.shape_sink(row["cycle"][clean], row["t_start_s"][clean],
+                                duration[clean], {k: a[clean] for k, a in parts.items()})
             self.mean_n += int(clean.sum())
             self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
 
@@ -753,7 +763,8 @@ def _tracker_for(source: str, opts: CycleOptions, first: Chunk, path: str
 def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                    roles: dict[str, str] | None = None, units: dict[str, str] | None = None,
                    rate: float | None = None, start: str | None = None,
-                   progress: Callable[[float], None] | None = None) -> CycleResult:
+                   progress: Callable[[float], None] | None = None,
+                   anomaly: Any = True, shape_model: Any = None) -> CycleResult:
     """Split a log into cycles and compute the per-cycle figures, streaming.
 
     Parameters
@@ -766,6 +777,11 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         Reading options, as for :func:`torqlog.ingest.sniff_layout`.
     progress : callable, optional
         Called after each chunk with the share of the file read (0 to 1).
+    anomaly : AnomalyOptions or bool
+        The cycle-shape check (:mod:`torqlog.anomaly`): options, True for the defaults,
+        False to leave it out (``anomaly`` columns then empty).
+    shape_model : ShapeModel, optional
+        Score against this reference model instead of learning one from the log.
 
     Returns
     -------
@@ -800,6 +816,7 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         else 720 * o.revs_per_cycle
     nb_mean = 360 * o.revs_per_cycle
     st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed)
+    monitor = _shape_monitor(st, o, anomaly, shape_model)
     _recycle_temporaries()
     pending = first
     try:
@@ -814,6 +831,8 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
                         f"are needed — record a longer log (cycle source {source!r}, "
                         f"{o.revs_per_cycle} rev per cycle)")
+    if monitor is not None:
+        st.shape_scores += monitor.finish()
     table = _columns(st, lay, o)
     for col in lay.columns:
         if col.role in ("time", "torque", "speed", "angle") and col.unit_source == "assumed":
@@ -848,7 +867,35 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     summary = summarise(table, spikes=st.spikes, samples=st.samples, **health_summary)
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
-    return CycleResult(lay.path, table, summary, mean_cycle, curves, opts, lay, notes)
+    shape = None
+    if monitor is not None:
+        shape = monitor.result()
+        notes += [f"cycle shape not checked: {n}" for n in shape.notes]
+        per_bin = float(np.median(table["duration_s"])) / st.dt / monitor.bins if st.dt else 9.0
+        if shape.scored and per_bin < 2.0:
+            notes.append(f"cycle shape: {per_bin:.2g} samples per {360 // monitor.o.bins_per_rev}° "
+                         "model bin (at least 2 are needed); where the cycle's sampling moves "
+                         "expect false alarms: log faster")
+    return CycleResult(lay.path, table, summary, mean_cycle, curves, opts, lay, notes,
+                       shape, monitor.model if monitor is not None else None)
+
+
+def _shape_monitor(st: _Stream, o: CycleOptions, anomaly: Any, model: Any) -> Any:
+    """Attach the cycle-shape check (torqlog.anomaly) to the stream, or None when off."""
+    if anomaly is False and model is None:
+        return None
+    from torqlog import anomaly as an
+
+    chans = set(st.has) | ({"speed"} if st.speed_from_angle else set())
+    opts = anomaly if isinstance(anomaly, an.AnomalyOptions) else an.AnomalyOptions()
+    monitor = an.ShapeMonitor(opts, o.revs_per_cycle, chans, model)
+
+    def sink(cycles: np.ndarray, t_start: np.ndarray, duration: np.ndarray,
+             curves: dict[str, np.ndarray]) -> None:
+        st.shape_scores += monitor.push(cycles, t_start, duration, curves)
+
+    st.shape_sink = sink
+    return monitor
 
 
 def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
@@ -906,6 +953,9 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
 
         start = lay.start + pd.to_timedelta(cols["t_start_s"], unit="s")  # keeps the zone
     deg = 180.0 / math.pi
+    score = np.full(n, np.nan)
+    for c, sc in st.shape_scores:  # cycle numbers run 1..n
+        score[np.asarray(c) - int(cols["cycle"][0])] = sc
     return {
         "cycle": cols["cycle"].astype(np.int64),
         "t_start_s": cols["t_start_s"],
@@ -924,6 +974,8 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
         "cs": cs,
         "cs_constant_drive": cs_pred,
         "flag": cols["flag"].astype(str),
+        "anomaly": score > 1.0,
+        "anomaly_score": score,
     }
 
 
@@ -980,6 +1032,12 @@ def summarise(table: Any, **extra: Any) -> dict[str, Any]:
         "work_J_mean": _mean_or_none(clean("work_J")),
         "torque_mean_Nm": _mean_or_none(clean("torque_mean_Nm")),
     }
+    if "anomaly_score" in table:
+        sc = col("anomaly_score").astype(np.float64)
+        scored = int(np.isfinite(sc).sum())
+        bad = int((sc > 1.0).sum())
+        out["anomaly"] = {"scored": scored, "abnormal": bad,
+                          "rate": bad / scored if scored else None}
     counts = Counter(reason for f in flag[~ok] for reason in f.split("+"))
     out["flags"] = dict(counts.most_common())
     out.update(extra)

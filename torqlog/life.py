@@ -29,12 +29,15 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from torqlog.errors import UsageError
 from torqlog.rainflow import RainflowCounter
+
+if TYPE_CHECKING:
+    from torqlog.calibrate import DriveModel
 
 DEFAULT_SN_SLOPE = 5.0
 DEFAULT_EQUIVALENT_CYCLES = 1.0e7
@@ -179,42 +182,195 @@ def periodic_damage_sum(cycle_torque: np.ndarray, sn_slope: float) -> float:
     return float((n * r**sn_slope).sum())
 
 
-def drive_torque_before_after(angle: np.ndarray, torque: np.ndarray, revs_per_cycle: int,
-                              profile: Any, added_inertia: float
-                              ) -> tuple[np.ndarray, np.ndarray, str]:
-    """Drive-side shaft torque over the mean cycle, as the machine runs and after adding
-    ``added_inertia`` [kg*m^2] (at the logged shaft).
+@dataclass(frozen=True)
+class LifeModel:
+    """The drive model the life ratio after/before runs, and why.
 
-    The one adapter between life and the drive model: today the nameplate motor of the
-    profile's ``[motor]`` on ``[machine] inertia_kgm2``, simulated with
-    :func:`torqlog.drive.simulate_drive` (periodic steady state). Before and after run
-    the same model, so their ratio compares like with like.
+    Attributes
+    ----------
+    model : DriveModel
+        The model simulated before and after (calibrated, or nameplate).
+    size_model : str
+        The model ``torqlog size`` leads with on the same log (``"calibrated drive"``,
+        ``"nameplate drive"`` or ``"constant drive"``).
+    validation_error_rel : float or None
+        The model's Cs at the existing inertia over the measured median Cs, minus 1 (None
+        when the log has no speed within the cycle to check against).
+    validated : bool
+        Whether that error is within the sizing's tolerance.
+    note : str
+        One sentence on the choice (said in the output).
+    """
+
+    model: DriveModel
+    size_model: str
+    validation_error_rel: float | None
+    validated: bool
+    note: str
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON keys of the choice (``drive_model_*``)."""
+        return {"drive_model": self.model.name, "drive_model_used": self.model.to_dict(),
+                "drive_model_size_leads": self.size_model,
+                "drive_model_validation_error_rel": self.validation_error_rel,
+                "drive_model_validated": self.validated, "drive_model_note": self.note}
+
+
+def _checked(size: dict[str, Any], name: str) -> dict[str, Any] | None:
+    return next((c for c in size.get("models_checked") or [] if c.get("model") == name), None)
+
+
+def life_drive_model(size: dict[str, Any], profile: Any = None) -> LifeModel:
+    """Pick the drive model for the life ratio the way ``torqlog size`` picks its lead.
+
+    The model ``size`` leads with is used: the drive (or, for an engine log, the load side)
+    calibrated on the log when it reproduces the measured Cs, else the nameplate motor when
+    that does. When only the constant-drive bound leads, no validated model exists: a
+    profile's nameplate ``[motor]`` is used with a note saying so (a load log with a known
+    existing inertia), otherwise the ratio is refused.
+
+    Parameters
+    ----------
+    size : dict
+        ``SizeResult.to_dict()`` of :func:`torqlog.inertia.size_log` on the same log.
+    profile : MachineProfile, optional
+        For the nameplate fallback (``[motor]``).
+
+    Returns
+    -------
+    LifeModel
+
+    Raises
+    ------
+    UsageError
+        One sentence naming what to add when no model can run.
+
+    References
+    ----------
+    .. [1] L. Ljung, *System Identification*, 2nd ed., 1999 (a model is used only when its
+       simulated output reproduces the measurement).
+    """
+    from torqlog.calibrate import DriveModel, model_from_nameplate
+    from torqlog.drive import MotorModel
+
+    lead = size.get("model", "constant drive")
+    if lead != "constant drive" and size.get("drive_model"):
+        model = DriveModel.from_dict(size["drive_model"])
+        err = size.get("cs_model_error_rel")
+        if err is None:
+            note = (f"the {model.name} model runs unchecked: the log shows no speed within "
+                    f"the cycle to check it against")
+        else:
+            note = (f"the {model.name} model reproduces the measured Cs within "
+                    f"{abs(err):.1%}")
+        return LifeModel(model, lead, err, err is not None, note)
+    role = (size.get("cycle_options") or {}).get("torque_role", "load")
+    existing = size.get("existing_inertia_kgm2")
+    if size.get("cs_measured") is None:
+        why = "the log shows no speed within the cycle"
+        fix = "a speed or angle channel to the log"
+    else:
+        why = ", ".join(f"the {c['model']} model misses the measured Cs by "
+                        f"{c['cs_model_error_rel']:+.0%}"
+                        for c in size.get("models_checked") or []
+                        if c.get("cs_model_error_rel") is not None)
+        why = why or "no drive model could be fitted on the log"
+        fix = "an unfiltered speed or angle channel logged on the shaft the torque acts on"
+    motor = getattr(profile, "motor", None) if profile is not None else None
+    if role == "load" and motor and existing is not None:
+        src = (size.get("options") or {}).get("existing_inertia_source") or "given"
+        model = model_from_nameplate(MotorModel.from_profile(profile), existing,
+                                     f"the {src} inertia")
+        chk = _checked(size, "nameplate drive")
+        err = None if chk is None else chk.get("cs_model_error_rel")
+        note = (f"the ratio cannot be computed from a validated drive model ({why}): the "
+                f"nameplate motor is used instead; read the ratio as indicative")
+        return LifeModel(model, lead, err, False, note)
+    side = "load-side" if role == "drive" else "drive"
+    extra = ("" if role == "drive" else
+             ", or a [motor] section and [machine] inertia_kgm2 to the profile")
+    raise UsageError(f"the life ratio after/before needs a validated {side} model and "
+                     f"there is none ({why}): add {fix}{extra}")
+
+
+def drive_torque_before_after(angle: np.ndarray, torque: np.ndarray, revs_per_cycle: int,
+                              model: DriveModel, added_inertia: float
+                              ) -> tuple[np.ndarray, np.ndarray]:
+    """Shaft torque of the unlogged side over the mean cycle, as the machine runs and after
+    adding ``added_inertia`` [kg*m^2] (at the logged shaft).
+
+    The one adapter between life and the drive model: :func:`torqlog.calibrate.
+    simulate_after` of the model ``size`` leads with (:func:`life_drive_model`). Before
+    and after run the same model, so their ratio compares like with like. For a load log
+    this is the motor's torque; for an engine log the load's (generator's) torque with its
+    sign turned, which leaves the ranges unchanged.
+
+    Parameters
+    ----------
+    angle : array [rad]
+        Uniform grid over one cycle (the mean cycle's ``angle``).
+    torque : array [N*m]
+        Logged mean-cycle torque.
+    revs_per_cycle : int
+    model : DriveModel
+    added_inertia : float [kg*m^2]
 
     Returns
     -------
     before, after : arrays [N*m]
-        Drive torque at the logged shaft on the simulation's grid.
-    model : str
-        Which model produced them.
-    """
-    from torqlog.drive import MotorModel, simulate_drive
+        On the simulation's grid.
 
-    if not getattr(profile, "motor", None):
-        raise UsageError("the life ratio after/before needs a drive model: add a [motor] "
-                         "section to the profile")
-    inertia = profile.machine.get("inertia")
-    if inertia is None:
-        raise UsageError("the life ratio after/before needs [machine] inertia_kgm2 in the "
-                         "profile (the inertia the machine runs with now)")
-    motor = MotorModel.from_profile(profile)
-    load = np.asarray(torque, float)
-    if profile.machine.get("torque_role", "load") == "drive":
-        load = -load
-    before = simulate_drive(angle, load, inertia, motor, revs_per_cycle)
-    after = simulate_drive(angle, load, inertia + added_inertia, motor, revs_per_cycle,
-                           added_inertia=added_inertia)
-    return (before.motor_torque, after.motor_torque,
-            "nameplate motor (linear slip) on the profile's inertia, torqlog.drive")
+    References
+    ----------
+    .. [1] R. L. Norton, *Design of Machinery*, flywheel section (equation of motion).
+    """
+    from torqlog.calibrate import simulate_after
+
+    before = simulate_after(model, 0.0, angle, torque, revs_per_cycle)
+    after = simulate_after(model, added_inertia, angle, torque, revs_per_cycle)
+    return before.motor_torque, after.motor_torque
+
+
+def life_after(angle: np.ndarray, torque: np.ndarray, revs_per_cycle: int,
+               choice: LifeModel, added_inertia: float, sn_slope: float) -> dict[str, Any]:
+    """The after/before block of the life result: damage-equivalent ranges per cycle of
+    the unlogged side's torque before and after, their life ratio and the model used.
+
+    Parameters
+    ----------
+    angle, torque : arrays [rad], [N*m]
+        The mean cycle.
+    revs_per_cycle : int
+    choice : LifeModel
+        From :func:`life_drive_model`.
+    added_inertia : float [kg*m^2]
+        At the logged shaft.
+    sn_slope : float
+        Basquin slope m.
+
+    Returns
+    -------
+    dict
+        ``life_ratio_after_before``, ``before_/after_damage_equivalent_torque_Nm`` (at one
+        equivalent cycle per machine cycle), ``added_inertia_kgm2`` and the
+        ``drive_model_*`` keys of :meth:`LifeModel.to_dict`.
+
+    References
+    ----------
+    Miner (1945); Basquin (1910); ASTM E1049-85 (see the module notes).
+    """
+    before, after = drive_torque_before_after(angle, torque, revs_per_cycle, choice.model,
+                                              added_inertia)
+    d_b = periodic_damage_sum(before, sn_slope)
+    d_a = periodic_damage_sum(after, sn_slope)
+    side = "load (generator) side" if choice.model.torque_role == "drive" else "drive side"
+    return {"added_inertia_kgm2": added_inertia, **choice.to_dict(),
+            "before_damage_equivalent_torque_Nm": damage_equivalent_range(d_b, sn_slope, 1.0),
+            "after_damage_equivalent_torque_Nm": damage_equivalent_range(d_a, sn_slope, 1.0),
+            "life_ratio_after_before": math.inf if d_a == 0 else d_b / d_a,
+            "after_basis": f"{side} shaft torque of the mean cycle simulated with the "
+                           f"{choice.model.name} model, per cycle (damage-equivalent range "
+                           f"at 1 cycle per machine cycle)"}
 
 
 def life_ratio(before: np.ndarray, after: np.ndarray, sn_slope: float) -> float:
@@ -225,6 +381,7 @@ def life_ratio(before: np.ndarray, after: np.ndarray, sn_slope: float) -> float:
     return math.inf if d_after == 0 else d_before / d_after
 
 
-__all__ = ["DEFAULT_EQUIVALENT_CYCLES", "DEFAULT_SN_SLOPE", "LifeResult",
+__all__ = ["DEFAULT_EQUIVALENT_CYCLES", "DEFAULT_SN_SLOPE", "LifeModel", "LifeResult",
            "check_life_options", "count_torque", "damage_equivalent_range",
-           "drive_torque_before_after", "life_ratio", "miner_damage", "periodic_damage_sum"]
+           "drive_torque_before_after", "life_after", "life_drive_model", "life_ratio",
+           "miner_damage", "periodic_damage_sum"]

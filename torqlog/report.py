@@ -295,7 +295,7 @@ def _import_later_stages() -> None:
     """Import the modules the report needs after the cycle pass (sizing, plots)."""
     import importlib
 
-    for name in ("torqlog.plots", "torqlog.inertia", "torqlog.shaft", "torqlog.spectrum",
+    for name in ("torqlog.plots", "torqlog.inertia", "torqlog.shaft_check", "torqlog.spectrum",
                  "matplotlib.pyplot"):
         importlib.import_module(name)
 
@@ -444,7 +444,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
 
     from torqlog import plots
     from torqlog.inertia import size_log, size_log_dict
-    from torqlog.shaft import check_shaft
+    from torqlog.shaft_check import check_shaft
     from torqlog.spectrum import mean_cycle_spectrum
 
     ok = design.columns["flag"].astype(str) == ""

@@ -38,7 +38,7 @@ from torqlog.notebook import result_html
 from torqlog.profile import MachineProfile
 
 if TYPE_CHECKING:
-    from torqlog.shaft import ShaftSegment
+    from torqlog.shaft_geometry import ShaftSegment
 
 #: Orders assumed significant when no spectrum is given: k / revs_per_cycle up to this
 #: order of the shaft speed. A stated default of this program, not a standard.

@@ -454,7 +454,7 @@ def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
     )
 
 
-def run_cycles(log: str, kw: dict[str, Any]) -> Any:
+def run_cycles(log: str, kw: dict[str, Any], **extra: Any) -> Any:
     """Run the cycle stage for a CLI command; pops the options it uses from ``kw``.
 
     On a terminal a progress bar (on stderr) follows the bytes read; elsewhere it is quiet.
@@ -465,13 +465,13 @@ def run_cycles(log: str, kw: dict[str, Any]) -> Any:
     read = read_kwargs(kw)
     opts = make_cycle_options(kw, profile)
     if not sys.stderr.isatty():
-        return analyse_cycles(log, opts, **read), profile
+        return analyse_cycles(log, opts, **read, **extra), profile
     with click.progressbar(length=1000, label=f"reading {Path(log).name}",
                            file=sys.stderr) as bar:
         def step(fraction: float) -> None:
             bar.update(int(1000 * fraction) - bar.pos)
 
-        return analyse_cycles(log, opts, progress=step, **read), profile
+        return analyse_cycles(log, opts, progress=step, **read, **extra), profile
 
 
 def parse_quantile(text: str) -> float | str:

@@ -215,7 +215,7 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
     """Shaft natural frequencies, lateral and torsional, against the running speed."""
     from torqlog.errors import CheckFailed, UsageError
     from torqlog.profile import load_profile
-    from torqlog.shaft import check_shaft
+    from torqlog.shaft_check import check_shaft
     from torqlog.spectrum import mean_cycle_spectrum
     from torqlog.units import si_factor
 

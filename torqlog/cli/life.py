@@ -11,6 +11,7 @@ from torqlog.cli.base import (
     cli,
     cycle_options,
     emit,
+    load_profile_opt,
     output_options,
     read_kwargs,
     run_cycles,
@@ -29,13 +30,51 @@ def _life_text(d: dict[str, Any]) -> str:
                      + (f"; life {d['life_hours']:.3g} h at this duty" if d["life_hours"]
                         else ""))
     if "life_ratio_after_before" in d:
-        lines.append(f"  after adding {d['added_inertia_kgm2']:g} kg·m²: drive-side "
+        side = ("load-side" if d["drive_model_used"]["torque_role"] == "drive"
+                else "drive-side")
+        lines.append(f"  after adding {d['added_inertia_kgm2']:.4g} kg·m² "
+                     f"({d['added_inertia_source']}): {side} "
                      f"damage-equivalent range {d['after_damage_equivalent_torque_Nm']:.0f} N·m "
                      f"(before {d['before_damage_equivalent_torque_Nm']:.0f} N·m per cycle); "
-                     f"life ratio after/before {d['life_ratio_after_before']:.2f} "
-                     f"({d['drive_model']})")
+                     f"life ratio after/before {d['life_ratio_after_before']:.2f}")
+        lines.append(f"  model: {d['drive_model']} ({d['drive_model_note']})")
+    lines += [f"  note: {n}" for n in d.get("notes", [])]
     lines += ["Cautions:"] + [f"  - {c}" for c in d["cautions"]]
     return "\n".join(lines) + "\n"
+
+
+def _after_block(cycles: Any, profile: Any, target: float | None,
+                 add_inertia: float | None, sn_slope: float) -> dict[str, Any]:
+    """Size the log (the model it leads with, its recommendation), then life after/before."""
+    import numpy as np
+
+    from torqlog.errors import UsageError
+    from torqlog.inertia import size_log, size_log_dict
+    from torqlog.life import life_after, life_drive_model
+
+    if target is None:  # the model choice does not depend on the target: size at the
+        cs = cycles.table["cs"].to_numpy(float) if "cs" in cycles.table else np.array([])
+        cs = cs[np.isfinite(cs)]  # measured Cs, the cheapest to solve for
+        target = float(np.median(cs)) if cs.size else 0.01
+        sized_for = None
+    else:
+        sized_for = target
+    size = size_log_dict(size_log(cycles, profile, target_cs=target), cycles)
+    choice = life_drive_model(size, profile)
+    if add_inertia is None:
+        if size["added_inertia_kgm2"] is None:
+            raise UsageError("'torqlog size' gives no added inertia for this log (no existing "
+                             "inertia given or identified): give --add-inertia")
+        add_inertia = float(size["added_inertia_kgm2"])
+        source = (f"the added inertia 'torqlog size' recommends for the profile's target Cs "
+                  f"{sized_for:g}, {size['model']} model")
+    else:
+        source = "given with --add-inertia"
+    mc = cycles.mean_cycle
+    out = life_after(mc["angle"].to_numpy(float), mc["torque_mean"].to_numpy(float),
+                     int(cycles.options["revs_per_cycle"]), choice, add_inertia, sn_slope)
+    out["added_inertia_source"] = source
+    return out
 
 
 @cli.command("life")
@@ -52,7 +91,9 @@ def _life_text(d: dict[str, Any]) -> str:
               help="Cycles at --reference-range.")
 @click.option("--add-inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
               help="Flywheel inertia added at the logged shaft: life ratio after/before of "
-                   "the drive-side torque (needs --profile with [motor]).")
+                   "the unlogged side's torque, simulated with the model 'size' leads with "
+                   "[default: the added inertia 'size' recommends, when the profile has "
+                   "target_cs].")
 @output_options
 def life_cmd(log: str, sn_slope: float | None, equivalent_cycles: float | None,
              reference_range: float | None, reference_cycles: float,
@@ -68,10 +109,6 @@ def life_cmd(log: str, sn_slope: float | None, equivalent_cycles: float | None,
         DEFAULT_SN_SLOPE,
         check_life_options,
         count_torque,
-        damage_equivalent_range,
-        drive_torque_before_after,
-        life_ratio,
-        periodic_damage_sum,
     )
     from torqlog.shaft import CAUTIONS
 
@@ -99,22 +136,22 @@ def life_cmd(log: str, sn_slope: float | None, equivalent_cycles: float | None,
     d["duration_s"] = duration
     if res.miner is not None and duration and res.miner > 0:
         d["life_hours"] = duration / res.miner / 3600.0
-    if add_inertia is not None:
-        if kw.get("profile") is None:
-            raise UsageError("--add-inertia needs --profile with a [motor] section (the "
-                             "drive model)")
+    notes: list[str] = []
+    profile = load_profile_opt(kw.get("profile"))
+    target = profile.machine.get("target_cs") if profile is not None else None
+    if profile is not None and add_inertia is None and target is None:
+        notes.append("no life ratio after/before: give --add-inertia, or [machine] target_cs "
+                     "in the profile for the added inertia 'torqlog size' recommends")
+    elif add_inertia is not None or target is not None:
         cycles, profile = run_cycles(log, dict(kw))
-        mc = cycles.mean_cycle
-        before, after, model = drive_torque_before_after(
-            mc["angle"].to_numpy(float), mc["torque_mean"].to_numpy(float),
-            int(cycles.options["revs_per_cycle"]), profile, add_inertia)
-        d_b, d_a = periodic_damage_sum(before, m), periodic_damage_sum(after, m)
-        d.update({"added_inertia_kgm2": add_inertia, "drive_model": model,
-                  "before_damage_equivalent_torque_Nm": damage_equivalent_range(d_b, m, 1.0),
-                  "after_damage_equivalent_torque_Nm": damage_equivalent_range(d_a, m, 1.0),
-                  "life_ratio_after_before": life_ratio(before, after, m),
-                  "after_basis": "drive-side shaft torque of the mean cycle, per cycle "
-                                 "(damage-equivalent range at 1 cycle per machine cycle)"})
+        if add_inertia is not None:
+            d.update(_after_block(cycles, profile, target, add_inertia, m))
+        elif target is not None:  # not asked for: a refusal is a note, not an error
+            try:
+                d.update(_after_block(cycles, profile, target, None, m))
+            except (DataError, UsageError) as exc:
+                notes.append(str(exc))
+    d["notes"] = notes
     d["cautions"] = [*d["cautions"], CAUTIONS[0], CAUTIONS[2],
                      "The S–N slope and reference point are assumptions: use the part's "
                      "own fatigue data where known.",

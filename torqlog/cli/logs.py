@@ -27,6 +27,7 @@ from torqlog.cli.base import (
     read_kwargs,
     run_cycles,
 )
+from torqlog.cli.watch import shape_options
 
 
 def _finite(x: float | None) -> bool:
@@ -87,11 +88,25 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 @cycle_options
 @click.option("--plot", type=FIGURE_FILE, default=None,
               help="Write a PNG: torque, E(θ) and speed against crank angle.")
+@shape_options
 @output_options
 def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) -> None:
-    """Split a log into machine cycles: energy swing, Cs and torque per cycle."""
+    """Split a log into machine cycles: energy swing, Cs and torque per cycle, and cycles
+    whose shape is abnormal (with where in the cycle)."""
+    from torqlog.cli.watch import shape_kwargs
+
     check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
-    res, _ = run_cycles(log, kw)
+    save = kw.pop("save_shape_model")
+    shape_plot = kw.pop("shape_plot")
+    res, _ = run_cycles(log, kw, **shape_kwargs(log, kw))
+    if save and res.shape_model is not None:
+        res.shape_model.save(save)
+        click.echo(f"wrote {save}", err=True)
+    if shape_plot and res.anomaly is not None:
+        from torqlog.plots import plot_anomaly
+
+        plot_anomaly(res.anomaly, shape_plot)
+        click.echo(f"wrote {shape_plot}", err=True)
     if plot:
         res.plot(plot)
         click.echo(f"wrote {plot}", err=True)
@@ -117,6 +132,8 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
             f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s"
             for d in s["not_running"][:5]) + ("; ..." if len(s["not_running"]) > 5 else "")]
           if s.get("not_running") else []),
+        *([f"cycle shape   {res.anomaly.sentence} (abnormal cycles stay in the figures "
+           "above: they are real running)"] if res.anomaly is not None else []),
         "",
     ])
     table = None  # the JSON needs no pandas table (and so no pandas)
@@ -125,7 +142,7 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
     elif fmt == "table":
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
                            "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_constant_drive",
-                           "flag"]]
+                           "flag", "anomaly", "anomaly_score"]]
     emit(res.to_dict(), table, fmt, output, text=text)
 
 
