@@ -120,7 +120,8 @@ def test_inspect_table_reports_the_gap(tmp_path):
     assert "duration    3 s" in lines
     assert "gaps        1 (longest 0.2495 s; first after t = 1.2 s, row 2402)" in lines
     assert "cycles from angle: unwrapped angle channel" in lines
-    assert lines[-6].split() == ["name", "role", "unit", "unit_source", "SI", "factor"]
+    # column labels from torqlog.labels, the one map of keys to labels
+    assert lines[-6].split() == ["Column", "Role", "Unit", "Unit", "from", "SI", "factor"]
 
 
 @pytest.mark.parametrize("block_rows", [1, 100, 2401, 2402, 1_000_000])

@@ -401,7 +401,7 @@ def test_preamble_dialect(tmp_path, full_log):
     path = write_log(full_log, tmp_path / "c.txt", "preamble")
     lines = path.read_text(encoding="utf-8").splitlines()
     assert lines[:8] == [
-        "Logger: BW-DAQ 8 (invented)", "Machine: Compressor K2",
+        "Logger: Imaginary Logger Mk 0 (invented for the torqlog demo)", "Machine: Compressor K2",
         "Start: 2026-03-02 06:00:00", "Rate: 2000 Hz", "Channels: 5", "",
         "Sample\tTorque\tSpeed\tAngle\tIndex\tCounts", "-\tlbf·ft\trad/s\tdeg\tV\t-"]
     df = pd.read_csv(path, sep="\t", skiprows=[0, 1, 2, 3, 4, 5, 7])

@@ -706,7 +706,8 @@ def write_log(log: SimulatedLog, path: str | Path, dialect: str = "comma") -> Pa
                          lineterminator="\n")
         elif dialect == "preamble":
             start = log.start.strftime("%Y-%m-%d %H:%M:%S")
-            fh.write(f"Logger: BW-DAQ 8 (invented)\nMachine: {log.machine.name}\n"
+            fh.write("Logger: Imaginary Logger Mk 0 (invented for the torqlog demo)\n"
+                     f"Machine: {log.machine.name}\n"
                      f"Start: {start}\nRate: {log.rate:g} Hz\n"
                      f"Channels: {len(cols) - 1}\n\n")
             fh.write("\t".join(_PREAMBLE_NAMES[c] for c in cols) + "\n")

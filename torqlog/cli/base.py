@@ -213,9 +213,11 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
 
         parts = [text] if text else []
         if table is not None:
+            from torqlog.labels import relabel_table
+
             with pd.option_context("display.max_rows", 60, "display.width", 160,
                                    "display.max_columns", 30):
-                parts.append(table.to_string(index=False, float_format=_fmt_float))
+                parts.append(relabel_table(table).to_string(index=False))
         body = "\n".join(parts) + "\n"
     if out:
         write_text(out, body)

@@ -354,13 +354,15 @@ def _trend_text(d: dict[str, Any], n_files: int) -> str:
         lines.append("drift: none flagged after the baseline")
     lines += [f"note: {n}" for n in d["notes"]]
     lines += [f"failed: {f['file']}: {f['reason']}" for f in d["failed"]]
-    lines.append("flags: I individuals chart, E EWMA, R run rule; + above, - below")
+    lines.append("flags: limits = beyond the individuals-chart limits, ewma = EWMA beyond its "
+                 "limits, run = run rule; + above, - below")
     return "\n".join(lines) + "\n"
 
 
 def _short_flags(flags: list[str]) -> str:
-    """``cs_median:individuals_high`` and friends as ``cs_median I+ E+`` for a table."""
-    sym = {"individuals": "I", "ewma": "E", "run": "R"}
+    """``cs_median:individuals_high`` and friends as ``cs_median limits+ ewma+`` for a
+    table (words, not letters: a lone ``R`` reads as a range chart)."""
+    sym = {"individuals": "limits", "ewma": "ewma", "run": "run"}
     per: dict[str, list[str]] = {}
     for f in flags:
         fig, _, rule = f.partition(":")

@@ -110,7 +110,7 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
               default="report.html", show_default=True, help="HTML report to write.")
 @click.option("--pdf", "pdf_path", type=OutputFile((".pdf",), "the PDF report"),
               default=None,
-              help="Also write the report as PDF (matplotlib; no browser needed).")
+              help="Also write the report as a typeset PDF (no browser needed).")
 @click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
               help="Also keep the PNG figures in this folder.")
 def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, output: str,
@@ -119,14 +119,12 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
     inertia recommendation, flywheel proposal, shaft checks, trends and cautions.
 
     The first LOG is the design log (recommendation, flywheel, shaft); several logs with
-    start times also give the shift trend.
+    start times also give the shift trend. Without --profile the report holds what the
+    log alone gives and says which profile lines would add the rest.
     """
-    from torqlog.errors import UsageError
     from torqlog.report import build_report, write_report
 
     profile_path = kw.pop("profile", None)
-    if not profile_path:
-        raise UsageError("give --profile FILE: the report needs the machine profile")
     check_outputs({"-o": output, "--pdf": pdf_path}, {"log": logs, "--profile": profile_path})
     profile = load_profile_opt(profile_path)
     read = read_kwargs(kw)
@@ -148,8 +146,8 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
 
 # --- demo
 @cli.command("demo")
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), default="torqlog-demo",
-              show_default=True, help="Folder to write the demo into.")
+@click.option("-o", "--output", "--out", "out_dir", type=click.Path(file_okay=False),
+              default="torqlog-demo", show_default=True, help="Folder to write the demo into.")
 def demo_cmd(out_dir: str) -> None:
     """Run the whole chain on the invented Brindlemoor Works demo machines.
 
@@ -163,7 +161,7 @@ def demo_cmd(out_dir: str) -> None:
     reports = []
     runs = write_demo_inputs(out_dir)
     for run in runs:
-        data = build_report(list(run.logs), run.profile, figure_dir=run.folder)
+        data = build_report(list(run.logs), run.profile, figure_dir=run.folder, survey=True)
         stages = data.stage_json()
         for name in ("inspect", "cycles"):
             for log, d in zip(run.logs, stages.pop(name), strict=True):
@@ -171,7 +169,7 @@ def demo_cmd(out_dir: str) -> None:
         for name, d in stages.items():
             write_text(run.folder / f"{name}.json", to_json(d) + "\n")
         html = run.folder / "report.html"
-        write_report(data, html, run.folder / "report.pdf" if run.key == "press" else None)
+        write_report(data, html, run.folder / "report.pdf")
         verdicts = ", ".join(f"{v['check']} {v['verdict']}" for v in data.verdicts())
         click.echo(f"{data.machine} ({run.key}, {len(run.logs)} log(s), {run.dialect} "
                    f"dialect): {verdicts or 'no checks'}", err=True)
