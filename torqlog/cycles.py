@@ -17,20 +17,21 @@ from __future__ import annotations
 
 import functools
 import math
-from collections import Counter
 from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 from itertools import chain
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, Protocol
 
 import numpy as np
 
 from torqlog import angle as ang
 from torqlog import condition as cond
 from torqlog import energy as en
+from torqlog.cycle_table import ColumnStore, SummaryStream
 from torqlog.errors import DataError, UsageError
 from torqlog.ingest import Chunk, Layout, LogReader
+from torqlog.streamstats import DEFAULT_QUANTILE_BUDGET, DEFAULT_SKETCH_ERROR, RunningMoments
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -159,6 +160,19 @@ def options_from_profile(profile: Any = None, *, revs_per_cycle: int | None = No
     )
 
 
+class CycleSink(Protocol):
+    """Where finished cycles go as they complete (see :mod:`torqlog.cycle_writers`)."""
+
+    def start(self, source: str, options: dict[str, Any]) -> None:
+        """Called once, before the first block."""
+
+    def write(self, block: dict[str, np.ndarray]) -> None:
+        """A block of finished cycles, columns :data:`COLUMNS`."""
+
+    def finish(self, result: CycleResult) -> None:
+        """Called once at the end with the result (summary, notes)."""
+
+
 @dataclass(frozen=True)
 class CycleResult:
     """Everything the cycle stage found in one log.
@@ -185,6 +199,10 @@ class CycleResult:
         How the file was read.
     notes : list of str
         Things the reader should know (missing channels, estimated period ...).
+    rows_kept : bool
+        False when the rows were streamed out and not kept: ``columns`` is empty.
+    stats : SummaryStream or None
+        The running summary (histograms of the clean-cycle figures for plots).
     """
 
     source: str
@@ -195,6 +213,8 @@ class CycleResult:
     options: dict[str, Any]
     layout: Layout
     notes: list[str] = field(default_factory=list)
+    rows_kept: bool = True
+    stats: SummaryStream | None = field(default=None, repr=False, compare=False)
 
     # The figures are kept as numpy columns; the pandas tables are built on first use, so
     # `torqlog cycles` never has to import pandas (~0.3 s of start-up).
@@ -221,20 +241,33 @@ class CycleResult:
         """Rows without a flag."""
         return self.table[self.table["flag"] == ""]
 
-    def to_dict(self) -> dict[str, Any]:
-        """The JSON contract of ``torqlog cycles`` (NaN and NaT become None)."""
-        cols = []
-        for name in COLUMNS:
-            v = self.columns[name]
-            if name == "start_time":
-                cols.append([None if _isnat(x) else _iso(x) for x in v])
-            elif v.dtype.kind == "f":
-                cols.append([None if x != x else x for x in v.tolist()])
-            else:
-                cols.append(v.tolist())
-        rows = [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
-        return {"source": self.source, "options": self.options, "cycles": rows,
-                "summary": self.summary, "notes": self.notes}
+    def to_dict(self, rows: bool = True) -> dict[str, Any]:
+        """The JSON contract of ``torqlog cycles`` (NaN and NaT become None).
+
+        ``rows=False`` (or rows not kept) leaves out ``cycles``, the one part that grows
+        with the log.
+        """
+        if not (rows and self.rows_kept):
+            return {"source": self.source, "options": self.options,
+                    "summary": self.summary, "notes": self.notes}
+        return {"source": self.source, "options": self.options,
+                "cycles": row_dicts(self.columns), "summary": self.summary,
+                "notes": self.notes}
+
+    def distribution(self, name: str, bins: int = 40) -> tuple[np.ndarray, np.ndarray] | None:
+        """Histogram of a clean-cycle figure from the running summary (no table needed).
+
+        Parameters
+        ----------
+        name : {"energy_swing_J", "cs", "torque_peak_Nm", "duration_s"}
+        bins : int
+            Equal-width bins over the values' range.
+
+        Returns
+        -------
+        (counts, edges) or None when no clean cycle has the figure.
+        """
+        return None if self.stats is None else self.stats.histogram(name, bins)
 
     def energy_curve(self) -> np.ndarray:
         """E(θ) [J] of the mean cycle on the ``mean_cycle`` grid (bin edges from 0)."""
@@ -256,7 +289,8 @@ class _Stream:
     """Carries samples and state from chunk to chunk."""
 
     def __init__(self, opts: CycleOptions, tracker: ang.AngleTracker, has: set[str],
-                 speed_from_angle: bool, nb_mean: int, nb_speed: int) -> None:
+                 speed_from_angle: bool, nb_mean: int, nb_speed: int,
+                 on_block: Callable[[dict[str, np.ndarray]], None]) -> None:
         self.o = opts
         self.tracker = tracker
         self.has = has
@@ -267,9 +301,9 @@ class _Stream:
         self.carry: dict[str, np.ndarray] | None = None
         self.next_m: int | None = None
         self.dt: float | None = None
-        self.rows: list[dict[str, np.ndarray]] = []
+        self.on_block = on_block  # takes each block of finished cycles, then drops it
         self.speed_ctx: np.ndarray | None = None  # raw speed bins of recent cycles
-        self.mean_acc: dict[str, np.ndarray] = {}
+        self.moments: dict[str, RunningMoments] = {}
         self.mean_n = 0
         self.curves: dict[str, list[np.ndarray]] = {"torque": [], "speed": []}
         self.n_curves = 0
@@ -425,7 +459,7 @@ class _Stream:
         row["flag"] = flags
         row["cycle"] = self.cycle_no + 1 + np.arange(n_emit)
         self.cycle_no += n_emit
-        self.rows.append(row)
+        self.on_block(row)
         # mean cycle (clean cycles only) and curves for plots
         clean = flags == ""
         if clean.any():
@@ -440,9 +474,7 @@ class _Stream:
                 parts["speed"] = en.fill_rows(en.speed_bins_from_angle(t, th, bm, self.nb_mean))
             for k, a in parts.items():
                 a = a[clean]
-                s1, s2 = self.mean_acc.get(k + "1", 0.0), self.mean_acc.get(k + "2", 0.0)
-                self.mean_acc[k + "1"] = s1 + a.sum(axis=0)
-                self.mean_acc[k + "2"] = s2 + (a * a).sum(axis=0)
+                self.moments.setdefault(k, RunningMoments()).add(a)
                 room = MAX_CURVES - self.n_curves
                 if room > 0:
                     self.curves[k].append(a[:room])
@@ -488,8 +520,17 @@ def _tracker_for(source: str, opts: CycleOptions, first: Chunk, path: str
 def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                    roles: dict[str, str] | None = None, units: dict[str, str] | None = None,
                    rate: float | None = None, start: str | None = None,
-                   progress: Callable[[float], None] | None = None) -> CycleResult:
+                   progress: Callable[[float], None] | None = None,
+                   keep_rows: bool = True, sink: CycleSink | None = None,
+                   quantile_budget: int = DEFAULT_QUANTILE_BUDGET,
+                   sketch_error: float = DEFAULT_SKETCH_ERROR) -> CycleResult:
     """Split a log into cycles and compute the per-cycle figures, streaming.
+
+    The state kept per cycle is the summary's (running sums; values for exact quantiles
+    up to ``quantile_budget`` clean cycles, a relative-error sketch beyond) and, with
+    ``keep_rows``, the per-cycle table in compact typed columns. With ``keep_rows=False``
+    and a ``sink`` memory does not grow with the number of cycles: each block of finished
+    cycles goes to the sink (a file written as the cycles complete) and is dropped.
 
     Parameters
     ----------
@@ -501,6 +542,16 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         Reading options, as for :func:`torqlog.ingest.sniff_layout`.
     progress : callable, optional
         Called after each chunk with the share of the file read (0 to 1).
+    keep_rows : bool
+        Keep every cycle's row (``columns``, ``table``); False keeps the summary, mean
+        cycle and plot curves only.
+    sink : CycleSink, optional
+        Receives ``start(source, options)`` before the first block, ``write(block)`` for
+        each block of finished cycles (columns :data:`COLUMNS`) and ``finish(result)``.
+    quantile_budget : int
+        Clean cycles held for exact quantiles [count] (recorded in the options).
+    sketch_error : float
+        Relative error bound of the quantile sketch used past the budget [–].
 
     Returns
     -------
@@ -534,7 +585,35 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     nb_speed = int(min(2048, max(32, 8 * o.speed_cutoff_orders))) if o.speed_cutoff_orders \
         else 720 * o.revs_per_cycle
     nb_mean = 360 * o.revs_per_cycle
-    st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed)
+    stats = SummaryStream(quantile_budget, sketch_error)
+    store = ColumnStore() if keep_rows else None
+    opts: dict[str, Any] = {}
+    started: list[bool] = []
+
+    def record() -> dict[str, Any]:  # every option that made the result
+        if not opts:
+            opts.update(asdict(o))
+            opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,
+                         "angle_grid_bins": nb_mean,
+                         "sample_rate_hz": 1.0 / st.dt if st.dt else None, **extra,
+                         "quantile_budget_cycles": int(quantile_budget),
+                         "sketch_relative_error": float(sketch_error)})
+            opts.pop("block_rows")
+            opts.pop("read_ahead")
+        return opts
+
+    def on_block(row: dict[str, np.ndarray]) -> None:
+        block = _block_columns(row, lay, o)
+        stats.add(block)
+        if store is not None:
+            store.add({k: v for k, v in block.items() if k != "start_time"})
+        if sink is not None:
+            if not started:
+                started.append(True)
+                sink.start(lay.path, record())
+            sink.write(block)
+
+    st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed, on_block)
     _recycle_temporaries()
     pending = first
     for chunk in chain(it, [None]):
@@ -546,7 +625,6 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
                         f"are needed — record a longer log (cycle source {source!r}, "
                         f"{o.revs_per_cycle} rev per cycle)")
-    table = _columns(st, lay, o)
     for col in lay.columns:
         if col.role in ("time", "torque", "speed", "angle") and col.unit_source == "assumed":
             notes.append(f"column {col.name!r} states no unit: {col.role} taken as "
@@ -563,16 +641,29 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                      "flag their cycle")
     if st.spikes:
         notes.append(f"{st.spikes} one-sample spike(s) replaced by their neighbours' mean")
-    opts = asdict(o)
-    opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,
-                 "angle_grid_bins": nb_mean, "sample_rate_hz": 1.0 / st.dt if st.dt else None,
-                 **extra})
-    opts.pop("block_rows")
-    opts.pop("read_ahead")
-    summary = summarise(table, spikes=st.spikes, samples=st.samples)
+    summary = stats.result(spikes=st.spikes, samples=st.samples)
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
-    return CycleResult(lay.path, table, summary, mean_cycle, curves, opts, lay, notes)
+    table = _stored_columns(store, lay) if store is not None else {}
+    res = CycleResult(lay.path, table, summary, mean_cycle, curves, record(), lay, notes,
+                      rows_kept=keep_rows, stats=stats)
+    if sink is not None:
+        sink.finish(res)
+    return res
+
+
+def row_dicts(columns: dict[str, np.ndarray]) -> list[dict[str, Any]]:
+    """Rows of per-cycle columns as JSON-ready dicts (NaN and NaT become None)."""
+    cols = []
+    for name in COLUMNS:
+        v = columns[name]
+        if name == "start_time":
+            cols.append([None if _isnat(x) else _iso(x) for x in v])
+        elif v.dtype.kind == "f":
+            cols.append([None if x != x else x for x in v.tolist()])
+        else:
+            cols.append(v.tolist())
+    return [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
 
 
 def _isnat(x: Any) -> bool:
@@ -587,10 +678,9 @@ def _iso(x: Any) -> str:
     return pd.Timestamp(x).isoformat()
 
 
-def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]:
-    cols: dict[str, np.ndarray] = {}
-    for k in st.rows[0]:
-        cols[k] = np.concatenate([r[k] for r in st.rows])
+def _block_columns(cols: dict[str, np.ndarray], lay: Layout, o: CycleOptions
+                   ) -> dict[str, np.ndarray]:
+    """The output columns (:data:`COLUMNS`, SI converted at this edge) of a block of cycles."""
     n = cols["cycle"].size
     nan = np.full(n, np.nan)
     wmean = cols["speed_mean"]
@@ -602,11 +692,7 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
         cs_pred = nan
     else:
         cs_pred = de / (o.inertia * wmean**2) if o.inertia else nan
-    start: Any = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
-    if lay.start is not None:  # the file or the options gave a time: pandas is loaded
-        import pandas as pd
-
-        start = lay.start + pd.to_timedelta(cols["t_start_s"], unit="s")  # keeps the zone
+    start = _start_times(cols["t_start_s"], lay)
     deg = 180.0 / math.pi
     return {
         "cycle": cols["cycle"].astype(np.int64),
@@ -625,24 +711,28 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
         "angle_speed_max_deg": cols.get("angle_speed_max", nan) * deg,
         "cs": cs,
         "cs_predicted": cs_pred,
-        "flag": cols["flag"].astype(str),
+        "flag": cols["flag"],
     }
 
 
-def _stats(x: np.ndarray) -> dict[str, float | None]:
-    x = x[~np.isnan(x)]
-    if x.size == 0:
-        return {"median": None, "p95": None, "max": None}
-    return {"median": float(np.median(x)), "p95": float(np.quantile(x, 0.95)),
-            "max": float(x.max())}
+def _start_times(t_start: np.ndarray, lay: Layout) -> Any:
+    """Absolute start of each cycle (NaT without a start time in the file or options)."""
+    if lay.start is None:
+        return np.full(t_start.size, np.datetime64("NaT"), dtype="datetime64[ns]")
+    import pandas as pd  # the file or the options gave a time: pandas is loaded
+
+    return lay.start + pd.to_timedelta(t_start, unit="s")  # keeps the zone
 
 
-def _mean_or_none(x: np.ndarray) -> float | None:
-    x = x[~np.isnan(x)]
-    return float(x.mean()) if x.size else None
+def _stored_columns(store: ColumnStore, lay: Layout) -> dict[str, np.ndarray]:
+    """Every kept row, in :data:`COLUMNS` order."""
+    cols = store.columns()
+    cols["start_time"] = _start_times(cols["t_start_s"], lay)
+    return {k: cols[k] for k in COLUMNS}
 
 
-def summarise(table: Any, **extra: Any) -> dict[str, Any]:
+def summarise(table: Any, *, quantile_budget: int = DEFAULT_QUANTILE_BUDGET,
+              sketch_error: float = DEFAULT_SKETCH_ERROR, **extra: Any) -> dict[str, Any]:
     """Summary over the clean cycles of a per-cycle table.
 
     Parameters
@@ -656,48 +746,26 @@ def summarise(table: Any, **extra: Any) -> dict[str, Any]:
         ``cycles`` (clean count), ``cycles_total``, ``flagged``, ``cycle_rate_per_min``,
         ``energy_swing_J`` and ``cs`` ({median, p95 (linear interpolation), max}),
         ``torque_peak_Nm_p99``, ``speed_mean_rpm``, ``work_J_mean``, ``torque_mean_Nm``,
-        ``flags`` (count of each reason); NaN values are left out of each figure.
+        ``flags`` (count of each reason), ``quantiles`` (exact, or the sketch and its
+        relative error bound past ``quantile_budget`` clean cycles); NaN values are left
+        out of each figure. :func:`analyse_cycles` forms the same summary block by block.
     """
-    def col(name: str) -> np.ndarray:
-        return np.asarray(table[name])
-
-    flag = col("flag").astype(str)
-    ok = flag == ""
-
-    def clean(name: str) -> np.ndarray:
-        return col(name).astype(np.float64)[ok]
-
-    peak = clean("torque_peak_Nm")
-    peak = peak[~np.isnan(peak)]
-    out: dict[str, Any] = {
-        "cycles": int(ok.sum()),
-        "cycles_total": int(flag.size),
-        "flagged": int((~ok).sum()),
-        "cycle_rate_per_min": float(60.0 / np.median(clean("duration_s"))) if ok.any()
-        else None,
-        "energy_swing_J": _stats(clean("energy_swing_J")),
-        "cs": _stats(clean("cs")),
-        "torque_peak_Nm_p99": float(np.quantile(peak, 0.99)) if peak.size else None,
-        "speed_mean_rpm": _mean_or_none(clean("speed_mean_rpm")),
-        "work_J_mean": _mean_or_none(clean("work_J")),
-        "torque_mean_Nm": _mean_or_none(clean("torque_mean_Nm")),
-    }
-    counts = Counter(reason for f in flag[~ok] for reason in f.split("+"))
-    out["flags"] = dict(counts.most_common())
-    out.update(extra)
-    return out
+    acc = SummaryStream(quantile_budget, sketch_error)
+    acc.add({k: np.asarray(table[k]) for k in ("flag", "energy_swing_J", "cs", "torque_peak_Nm",
+                                               "duration_s", "speed_mean_rpm", "work_J",
+                                               "torque_mean_Nm")})
+    return acc.result(**extra)
 
 
 def _mean_cycle(st: _Stream) -> dict[str, np.ndarray]:
+    """The running (Welford) mean cycle and its spread on the angle grid."""
     nb = st.nb_mean
     a = (np.arange(nb) + 0.5) * st.span / nb
     df = {"angle": a}
-    n = max(st.mean_n, 1)
     for k in ("torque", "speed"):
-        if k + "1" in st.mean_acc:
-            m = st.mean_acc[k + "1"] / n
-            var = np.maximum(st.mean_acc[k + "2"] / n - m * m, 0.0)
-            df[k + "_mean"], df[k + "_sd"] = m, np.sqrt(var)
+        rm = st.moments.get(k)
+        if rm is not None and rm.mean is not None:
+            df[k + "_mean"], df[k + "_sd"] = rm.mean, rm.std()
         else:
             df[k + "_mean"] = df[k + "_sd"] = np.full(nb, np.nan)
     return df

@@ -26,6 +26,8 @@ if TYPE_CHECKING:
     import pandas as pd
 
 FORMATS = ("table", "csv", "json")
+#: Formats of commands that stream a row per cycle as the cycles complete.
+STREAM_FORMATS = ("table", "csv", "json", "jsonl", "parquet")
 
 
 # --------------------------------------------------------------------------- helpers
@@ -293,15 +295,17 @@ def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
     )
 
 
-def run_cycles(log: str, kw: dict[str, Any]) -> Any:
+def run_cycles(log: str, kw: dict[str, Any], **how: Any) -> Any:
     """Run the cycle stage for a CLI command; pops the options it uses from ``kw``.
 
-    On a terminal a progress bar (on stderr) follows the bytes read; elsewhere it is quiet.
+    ``how`` goes to :func:`torqlog.cycles.analyse_cycles` (``keep_rows``, ``sink``, the
+    quantile budget). On a terminal a progress bar (on stderr) follows the bytes read;
+    elsewhere it is quiet.
     """
     from torqlog.cycles import analyse_cycles
 
     profile = load_profile_opt(kw.pop("profile", None))
-    read = read_kwargs(kw)
+    read = read_kwargs(kw) | how
     opts = make_cycle_options(kw, profile)
     if not sys.stderr.isatty():
         return analyse_cycles(log, opts, **read), profile

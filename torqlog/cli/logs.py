@@ -9,6 +9,7 @@ from typing import Any
 import click
 
 from torqlog.cli.base import (
+    STREAM_FORMATS,
     QuantityType,
     cli,
     cycle_options,
@@ -66,25 +67,16 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 
 
 # --------------------------------------------------------------------------- cycles
-@cli.command()
-@click.argument("log", type=click.Path(dir_okay=True))
-@cycle_options
-@click.option("--plot", type=click.Path(dir_okay=False), default=None,
-              help="Write a PNG: torque, E(θ) and speed against crank angle.")
-@output_options
-def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) -> None:
-    """Split a log into machine cycles: energy swing, Cs and torque per cycle."""
-    res, _ = run_cycles(log, kw)
-    if plot:
-        res.plot(plot)
-        click.echo(f"wrote {plot}", err=True)
+def _cycles_text(res: Any) -> str:
+    """Readable summary of a cycles result."""
     s = res.summary
     de, cs = s["energy_swing_J"], s["cs"]
 
     def g(x: float | None, scale: float = 1.0, unit: str = "") -> str:
         return "-" if x is None else f"{x * scale:.4g}{unit}"
 
-    text = "\n".join([
+    q = s.get("quantiles") or {}
+    return "\n".join([
         f"{res.source}: {s['cycles']} clean cycles of {s['cycles_total']} "
         f"(cycle source: {res.options['cycle_source']}, {res.options['revs_per_cycle']} "
         f"rev/cycle), {g(s['cycle_rate_per_min'])} cycles/min at {g(s['speed_mean_rpm'])} rpm",
@@ -93,21 +85,69 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         f"Cs            median {g(cs['median'])}, p95 {g(cs['p95'])}, max {g(cs['max'])}"
         f"  (speed low-passed at {res.options['speed_cutoff_orders']:g} cycle orders)",
         f"peak torque   p99 {g(s['torque_peak_Nm_p99'], 1e-3, ' kN·m')}",
+        *([f"note: quantiles from a sketch (more than {q['exact_budget_cycles']} clean "
+           f"cycles), within {100 * q['relative_error_bound']:g} % of the exact values"
+           + ("" if q.get("bound_holds") else " except the smallest values")]
+          if q.get("method") == "sketch" else []),
         *(f"note: {n}" for n in res.notes),
         *([f"flagged cycles: {', '.join(f'{k} {v}' for k, v in s['flags'].items())} "
            "(kept in the table, left out of the figures above)"] if s["flags"] else []),
         "",
     ])
-    table = None  # the JSON needs no pandas table (and so no pandas)
-    if fmt == "csv":
-        table = res.table
-    elif fmt == "table":
-        table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
-                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_predicted",
-                           "flag"]]
-    emit(res.to_dict(), table, fmt, output, text=text)
 
 
+@cli.command()
+@click.argument("log", type=click.Path(dir_okay=True))
+@cycle_options
+@click.option("--plot", type=click.Path(dir_okay=False), default=None,
+              help="Write a PNG: torque, E(θ) and speed against crank angle.")
+@click.option("--summary-only", is_flag=True,
+              help="Write the summary alone, without a row per cycle.")
+@click.option("--quantile-budget", type=click.IntRange(min=1), default=None,
+              help="Clean cycles held for exact quantiles; past it a sketch within "
+                   "--sketch-error answers (the summary says which).  [default: 500000]")
+@click.option("--sketch-error", type=click.FloatRange(0, 1, min_open=True, max_open=True),
+              default=None, help="Relative error bound of the quantile sketch.  "
+                                 "[default: 1e-4]")
+@click.option("--format", "fmt", type=click.Choice(STREAM_FORMATS), default="table",
+              show_default=True, help="Output format; rows are written as the cycles "
+                                      "complete (parquet needs -o).")
+@click.option("-o", "--output", "output", type=click.Path(dir_okay=False), default=None,
+              help="Write the result to this file instead of stdout.")
+def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_only: bool,
+           quantile_budget: int | None, sketch_error: float | None, **kw: Any) -> None:
+    """Split a log into machine cycles: energy swing, Cs and torque per cycle."""
+    from torqlog.cli.base import _flat
+    from torqlog.cli.cycle_output import make_writer
+    from torqlog.errors import UsageError
+
+    if output and Path(output).exists() and Path(log).exists() \
+            and Path(output).resolve() == Path(log).resolve():
+        raise UsageError(f"-o {output} is the input log: input files are never written to")
+    writer = None
+    if not summary_only:
+        writer = make_writer(fmt, output, _cycles_text)
+    elif fmt in ("jsonl", "parquet"):
+        raise UsageError(f"--summary-only writes table, csv or json, not {fmt}")
+    extra = {k: v for k, v in (("quantile_budget", quantile_budget),
+                               ("sketch_error", sketch_error)) if v is not None}
+    try:
+        res, _ = run_cycles(log, kw, keep_rows=False, sink=writer, **extra)
+    except BaseException:
+        if writer is not None:
+            writer.abort()
+        raise
+    if output and writer is not None:
+        click.echo(f"wrote {output}", err=True)
+    if plot:
+        res.plot(plot)
+        click.echo(f"wrote {plot}", err=True)
+    if summary_only:
+        import pandas as pd
+
+        d = res.to_dict(rows=False)
+        emit(d, pd.DataFrame([_flat(d["summary"])]) if fmt == "csv" else None, fmt, output,
+             text=_cycles_text(res))
 
 
 # --- size
