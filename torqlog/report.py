@@ -291,13 +291,16 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
 
     entries: list[dict[str, Any]] = []
     results = []
-    for log in logs:
+    for i, log in enumerate(logs):
         survey = survey_log(log, nominal_speed=opts.nominal_speed, **read)
-        res = analyse_cycles(log, opts, **read)
+        # memory stays flat: only the design log keeps its rows (the sizing resamples
+        # every clean cycle); the others keep their summary, and no entry holds rows
+        res = analyse_cycles(log, opts, keep_rows=i == 0, **read)
         results.append(res)
         entries.append({"path": str(log), "name": Path(log).name,
                         "sha256": file_sha256(log), "bytes": Path(log).stat().st_size,
-                        "inspect": _plain(survey.to_dict()), "cycles": _plain(res.to_dict())})
+                        "inspect": _plain(survey.to_dict()),
+                        "cycles": _plain(res.to_dict(rows=False))})
     design = results[0]
     if len(logs) > 1:
         notes.append(f"{len(logs)} logs: the recommendation, flywheel and shaft checks are "
