@@ -5,9 +5,10 @@ chunk of the log). :class:`SummaryStream` folds each block into the summary over
 cycles with state that stops growing (running sums, exact quantiles up to a budget and a
 relative-error sketch beyond it, see :mod:`torqlog.streamstats`). :class:`ColumnStore`
 keeps the block's rows, when a caller wants every row, as typed numpy columns — no Python
-object per cycle: flags as small integer codes into their few distinct texts, the two
-crank-angle columns as float32 (7 significant digits; the angle is found on a grid of
-at best 0.5°, so float32 loses nothing), the rest float64.
+object per cycle: flags as small integer codes into their few distinct texts, numbers
+as float64. (float32 would save 8 bytes a cycle on the two crank-angle columns, but the
+rows are kept only where every cycle is needed, and float32 would print other digits
+than the streamed outputs; the same rows must give the same text either way.)
 """
 
 from __future__ import annotations
@@ -19,8 +20,6 @@ import numpy as np
 
 from torqlog.streamstats import DEFAULT_QUANTILE_BUDGET, DEFAULT_SKETCH_ERROR, QuantileKeeper
 
-#: Columns kept in float32 (see the module docstring).
-FLOAT32_COLUMNS = frozenset({"angle_speed_min_deg", "angle_speed_max_deg"})
 #: Summary figures with quantiles: name in the summary → (column, quantiles asked).
 _QUANTILE_FIGURES = ("energy_swing_J", "cs", "torque_peak_Nm", "duration_s")
 _MEAN_FIGURES = ("speed_mean_rpm", "work_J", "torque_mean_Nm")
@@ -121,9 +120,8 @@ class ColumnStore:
         self._bufs: dict[str, np.ndarray] = {}
         self._levels: dict[str, int] = {"": 0}
 
-    def _dtype(self, name: str, x: np.ndarray) -> np.dtype:
-        if name in FLOAT32_COLUMNS:
-            return np.dtype(np.float32)
+    @staticmethod
+    def _dtype(x: np.ndarray) -> np.dtype:
         return x.dtype if x.dtype.kind in "iub" else np.dtype(np.float64)
 
     def add(self, block: dict[str, np.ndarray]) -> None:
@@ -144,7 +142,7 @@ class ColumnStore:
             buf = self._bufs.get(k)
             if buf is None or buf.size < need:
                 grown = np.empty(max(need, 2 * (0 if buf is None else buf.size), 256),
-                                 dtype=np.uint16 if k == "flag" else self._dtype(k, v))
+                                 dtype=np.uint16 if k == "flag" else self._dtype(v))
                 if buf is not None:
                     grown[: self.n] = buf[: self.n]
                 self._bufs[k] = buf = grown
