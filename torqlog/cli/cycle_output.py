@@ -278,7 +278,7 @@ class TableWriter:
         self.text = text
         self.spill = tempfile.TemporaryFile("w+", encoding="utf-8")
         self.batch = _Batched(BATCH_ROWS)
-        self.widths = [max(len(c), 10) for c in TABLE_COLUMNS]
+        self.widths = [max(len(c), 6 if c == "cycle" else 10) for c in TABLE_COLUMNS]
 
     def start(self, source: str, options: dict[str, Any]) -> None:
         head = [c.rjust(w) for c, w in zip(TABLE_COLUMNS[:-1], self.widths, strict=False)]
