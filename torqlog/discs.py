@@ -58,6 +58,15 @@ def disc_stresses(radius: np.ndarray | float, speed: float, outer_radius: float,
     -------
     (radial, tangential) : arrays [Pa]
 
+    Examples
+    --------
+    At the centre of a solid steel disc both stresses are (3+nu)/8 rho w^2 b^2; the rim
+    is free of radial stress:
+
+    >>> sr, st = disc_stresses([0.0, 0.5], 100.0, 0.5, 0.0, 7850.0, 0.3)
+    >>> round(float(sr[0]) / 1e6, 4), round(float(st[0]) / 1e6, 4), abs(round(float(sr[1]), 6))
+    (8.0953, 8.0953, 0.0)
+
     References
     ----------
     .. [1] Timoshenko & Goodier, Theory of Elasticity, 3rd ed., section 32, eqs. for the

@@ -365,6 +365,12 @@ def coefficient_of_fluctuation(speed_max: np.ndarray, speed_min: np.ndarray,
         ``"cycle"``: Cs = (ω_max − ω_min)/ω̄ with ω̄ the cycle's mean speed;
         ``"midrange"``: ω̄ = (ω_max + ω_min)/2 (the form in [1]_ eq. 16-59).
 
+    Examples
+    --------
+    >>> import numpy as np
+    >>> coefficient_of_fluctuation(np.array([52.0]), np.array([48.0]), np.array([50.0]))
+    array([0.08])
+
     References
     ----------
     .. [1] Budynas & Nisbett, *Shigley's*, 10th ed., eq. 16-59.

@@ -202,6 +202,13 @@ def inertia(geometry: DiscGeometry, density: float) -> float:
     -------
     float [kg*m^2]
 
+    Examples
+    --------
+    A solid steel disc 1 m across and 0.1 m wide, I = m r^2 / 2:
+
+    >>> round(inertia(DiscGeometry("solid-disc", 1.0, 0.0, 0.1), 7850.0), 2)
+    77.07
+
     References
     ----------
     .. [1] Roark's Formulas for Stress and Strain, 7th ed., Appendix (mass moments of

@@ -141,6 +141,14 @@ def required_inertia(energy_swing: float | np.ndarray, target_cs: float,
     float [kg*m^2]
         Total inertia needed at that shaft.
 
+    Examples
+    --------
+    A design swing of 8.2 kJ at 45 rpm (4.712 rad/s) and a target Cs of 0.10:
+
+    >>> import math
+    >>> round(required_inertia(8200.0, 0.10, 45 * 2 * math.pi / 60), 1)
+    3692.6
+
     References
     ----------
     .. [1] J. E. Shigley, C. R. Mischke, *Mechanical Engineering Design*, flywheel section.

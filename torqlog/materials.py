@@ -167,6 +167,12 @@ def get_material(name: str) -> Material:
     ------
     UsageError
         ``unknown material 'xyz'; known: ...`` listing every name.
+
+    Examples
+    --------
+    >>> m = get_material("steel-c45")
+    >>> m.density, m.strength / 1e6, m.designation
+    (7850.0, 305.0, 'C45+N (EN 10083-2)')
     """
     key = str(name).strip().lower()
     if key not in MATERIALS:

@@ -105,6 +105,16 @@ def order_spectrum(torque: np.ndarray, revs_per_cycle: int = 1,
         Amplitudes are single-sided peak values 2 |X_k| / n (|X_k| / n at the Nyquist
         bin of an even n).
 
+    Examples
+    --------
+    A mean of 500 N*m with an 80 N*m second order:
+
+    >>> import numpy as np
+    >>> th = np.linspace(0, 2 * np.pi, 360, endpoint=False)
+    >>> s = order_spectrum(500 + 80 * np.sin(2 * th))
+    >>> float(s.mean), float(s.order[s.amplitude.argmax()]), round(float(s.amplitude.max()), 6)
+    (500.0, 2.0, 80.0)
+
     References
     ----------
     Brigham, *The Fast Fourier Transform and its Applications* (1988).

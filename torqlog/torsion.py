@@ -144,6 +144,14 @@ def torsional_modes(chain: TorsionalChain) -> TorsionalModes:
     TorsionalModes
         ``freqs`` [Hz], ``shapes`` scaled to a peak of +1, ``rigid_body`` flags.
 
+    Examples
+    --------
+    Two inertias on one spring: f = sqrt(k (J1 + J2) / (J1 J2)) / 2 pi = 250 / 2 pi Hz.
+
+    >>> modes = torsional_modes(TorsionalChain(("motor", "flywheel"), (2.0, 8.0), (1.0e5,)))
+    >>> [round(float(f), 3) for f in modes.freqs]
+    [0.0, 39.789]
+
     References
     ----------
     Den Hartog, *Mechanical Vibrations*; Thomson and Dahleh, torsional systems.
