@@ -40,7 +40,7 @@ __all__ = ["STREAM_FORMATS", "CsvWriter", "JsonWriter", "ParquetWriter", "TableW
 #: Rows gathered before a write (bounds the buffer; fewer, larger writes).
 BATCH_ROWS = 4096
 #: Rows per Parquet row group.
-ROW_GROUP_ROWS = 32768
+ROW_GROUP_ROWS = 8192
 #: Columns of the readable table.
 TABLE_COLUMNS = ("cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm", "torque_peak_Nm",
                  "work_J", "energy_swing_J", "cs", "cs_predicted", "flag")
