@@ -292,9 +292,9 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
     entries: list[dict[str, Any]] = []
     results = []
     for i, log in enumerate(logs):
-        # chunks of the cycle stage's size: the survey's temporaries stay as small as its
+        # chunks of the cycle stage's size, read in turn: the survey's buffers stay small
         survey = survey_log(log, nominal_speed=opts.nominal_speed, block_rows=opts.block_rows,
-                            **read)
+                            read_ahead=False, **read)
         # memory stays flat: only the design log keeps its rows (the sizing resamples
         # every clean cycle); the others keep their summary, and no entry holds rows
         res = analyse_cycles(log, opts, keep_rows=i == 0, **read)
