@@ -109,8 +109,8 @@ def test_speed_log_cs_against_solve_ivp(tmp_path):
     own_cs = float(np.median(own))
     assert own_cs < 0.05
     assert res.summary["cs"]["median"] == pytest.approx(own_cs, rel=0.03)
-    # small-fluctuation relation ΔE ≈ I·Cs·ω̄² (Shigley eq. 16-62): cs_predicted
-    assert float(res.clean["cs_predicted"].median()) == pytest.approx(own_cs, rel=0.05)
+    # small-fluctuation relation ΔE ≈ I·Cs·ω̄² (Shigley eq. 16-62): cs_constant_drive
+    assert float(res.clean["cs_constant_drive"].median()) == pytest.approx(own_cs, rel=0.05)
 
 
 def test_every_cycle_source_gives_the_same_energy_swing(tmp_path):

@@ -276,7 +276,8 @@ def test_fit_not_checked_without_interference():
     d = check_flywheel(DiscGeometry("annular-disc", 1.4, 0.16, 0.12), "steel",
                        50.0).to_dict()
     assert d["fit_loosening_rpm"] is None
-    assert [c["name"] for c in d["checks"]] == ["stress_safety_factor", "rim_speed_m_s"]
+    assert [c["name"] for c in d["checks"]] == ["stress_safety_factor", "rim_speed_m_s",
+                                                   "width_to_outer_diameter"]
 
 
 # --------------------------------------------------------------------------- sizing

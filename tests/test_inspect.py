@@ -185,7 +185,7 @@ def test_inspect_csv_and_output_file(tmp_path):
     assert res.exit_code == 0
     assert res.stderr == f"wrote {out}\n"
     assert out.read_text().splitlines()[0] == "name,role,unit,unit_source,si_factor"
-    assert out.read_text().splitlines()[2] == "Torque [kN·m],torque,kN·m,header,1000.0"
+    assert out.read_text().splitlines()[2] == "Torque [kN·m],torque,kN·m,header,1000"  # rounded CSV
 
 
 # ----------------------------------------------------------------------- bad input
@@ -298,7 +298,7 @@ def test_click_usage_errors_exit_2(tmp_path):
     res = run("inspect", p, "--format", "xml")
     assert res.exit_code == 2
     assert res.stderr.endswith("Error: Invalid value for '--format': 'xml' is not one of "
-                               "'table', 'csv', 'json'.\n")
+                               "'table', 'csv', 'json', 'xlsx', 'parquet'.\n")
 
 
 def test_reading_leaves_the_file_untouched(tmp_path):

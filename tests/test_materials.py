@@ -86,8 +86,11 @@ def test_custom_material_from_scratch_needs_the_core_values():
                          rim_speed_limit=None, source=m.source)
     with pytest.raises(UsageError) as err:
         custom_material(density=2700.0, strength=240 * MPA)
-    assert str(err.value) == ("a custom material without a base needs modulus, poisson; "
-                              "give them or start from a known material")
+    assert str(err.value) == (
+        "material 'custom' is given by its properties and lacks 1. modulus (--modulus on "
+        "the command line, modulus_GPa in a profile or materials file); 2. poisson "
+        "(--poisson on the command line, poisson in a profile or materials file); give "
+        "each, or name a known material")
 
 
 def test_out_of_range_values_are_refused():

@@ -25,6 +25,7 @@ import pandas as pd
 
 from torqlog.cycles import CycleOptions
 from torqlog.errors import DataError, TorqlogError, UsageError
+from torqlog.outputs import is_torqlog_output
 
 #: File endings read when a folder is given.
 LOG_SUFFIXES: tuple[str, ...] = (".csv", ".csv.gz", ".txt", ".parquet", ".pq")
@@ -32,6 +33,11 @@ LOG_SUFFIXES: tuple[str, ...] = (".csv", ".csv.gz", ".txt", ".parquet", ".pq")
 
 def discover(paths: Sequence[str | Path]) -> tuple[list[Path], list[dict[str, str]]]:
     """Log files named by files, folders (searched recursively) and glob patterns.
+
+    Folders and patterns skip the files torqlog itself wrote
+    (:func:`torqlog.outputs.is_torqlog_output`: the per-cycle Parquet table and the
+    per-shift CSV of an earlier ``trend --out-dir``); such a file named on its own is
+    reported in ``missing`` with the reason.
 
     Returns
     -------
@@ -43,7 +49,10 @@ def discover(paths: Sequence[str | Path]) -> tuple[list[Path], list[dict[str, st
     missing: list[dict[str, str]] = []
 
     def is_log(p: Path) -> bool:
-        return p.is_file() and p.name.lower().endswith(LOG_SUFFIXES)
+        # files torqlog wrote itself (trend --out-dir tables, unfinished temporary
+        # outputs) are not logs, whatever their suffix
+        return (p.is_file() and p.name.lower().endswith(LOG_SUFFIXES)
+                and not is_torqlog_output(p))
 
     for raw in paths:
         s = str(raw)
@@ -54,6 +63,9 @@ def discover(paths: Sequence[str | Path]) -> tuple[list[Path], list[dict[str, st
                 missing.append({"file": s, "reason": "folder holds no log files ("
                                 + ", ".join(LOG_SUFFIXES) + ")"})
             found += hits
+        elif p.exists() and p.is_file() and is_torqlog_output(p):
+            missing.append({"file": s, "reason": "a table torqlog wrote (an earlier trend "
+                            "--out-dir), not a log; leave it out"})
         elif p.exists():
             found.append(p)
         elif glob.has_magic(s):

@@ -4,7 +4,10 @@
 tracks the shaft angle, cuts a cycle every ``revs_per_cycle`` × 2π, and reduces each
 cycle to its figures (work, energy swing, Cs ...) with vectorised segment reductions. A
 cycle that spans a chunk boundary is carried over to the next chunk. Cycles with a gap,
-NaNs or clipped samples stay in the table with a ``flag`` and are left out of the summary.
+NaNs, clipped samples or another channel fault (:mod:`torqlog.health`: spike runs,
+dropouts, frozen runs, ±inf, stops, reversals, off-length or unsteady cycles) stay in the
+table with a ``flag`` and are left out of the summary; a log with no two clean cycles, or
+one that is not cyclic, is refused with the reason.
 
 References
 ----------
@@ -28,9 +31,11 @@ import numpy as np
 from torqlog import angle as ang
 from torqlog import condition as cond
 from torqlog import energy as en
+from torqlog import health
 from torqlog.cycle_table import ColumnStore, SummaryStream
-from torqlog.errors import DataError, UsageError
+from torqlog.errors import DataError, UsageError, naming_file
 from torqlog.ingest import Chunk, Layout, LogReader
+from torqlog.notebook import result_html
 from torqlog.streamstats import DEFAULT_QUANTILE_BUDGET, DEFAULT_SKETCH_ERROR, RunningMoments
 
 if TYPE_CHECKING:
@@ -47,11 +52,13 @@ _HOLD = 2
 MAX_CURVES = 300
 #: A block allocated and freed once before streaming (see :func:`_recycle_temporaries`).
 _WARM_BLOCK_BYTES = 8 << 20
+#: Faulty stretches listed in a result (all are counted).
+_MAX_EVENTS = 200
 
 COLUMNS = ("cycle", "t_start_s", "start_time", "duration_s", "speed_mean_rpm",
            "speed_min_rpm", "speed_max_rpm", "torque_mean_Nm", "torque_peak_Nm",
            "torque_min_Nm", "work_J", "energy_swing_J", "angle_speed_min_deg",
-           "angle_speed_max_deg", "cs", "cs_predicted", "flag")
+           "angle_speed_max_deg", "cs", "cs_constant_drive", "flag")
 
 
 @dataclass(frozen=True)
@@ -69,7 +76,7 @@ class CycleOptions:
     pulses_per_rev : float
         Encoder counts per revolution.
     inertia : float or None [kg*m^2]
-        Rotating inertia referred to the logged shaft (for ``cs_predicted`` and the
+        Rotating inertia referred to the logged shaft (for ``cs_constant_drive`` and the
         speed-only energy swing).
     speed_cutoff_orders : float
         Zero-phase low-pass of speed before max − min, in cycle orders (0 = off).
@@ -150,9 +157,9 @@ def options_from_profile(profile: Any = None, *, revs_per_cycle: int | None = No
     return CycleOptions(
         revs_per_cycle=int(revs_per_cycle or machine.get("revs_per_cycle", 1)),
         cycle_source=cycle_source,
-        nominal_speed=nominal_speed or machine.get("speed"),
+        nominal_speed=nominal_speed if nominal_speed is not None else machine.get("speed"),
         pulses_per_rev=pulses_per_rev,
-        inertia=inertia or machine.get("inertia"),
+        inertia=inertia if inertia is not None else machine.get("inertia"),
         speed_cutoff_orders=speed_cutoff_orders,
         torque_role=torque_role or machine.get("torque_role", "load"),
         cs_mean=cs_mean,
@@ -241,6 +248,8 @@ class CycleResult:
         """Rows without a flag."""
         return self.table[self.table["flag"] == ""]
 
+    _repr_html_ = result_html  # the notebook view
+
     def to_dict(self, rows: bool = True) -> dict[str, Any]:
         """The JSON contract of ``torqlog cycles`` (NaN and NaT become None).
 
@@ -312,6 +321,23 @@ class _Stream:
         self.spike_scale: dict[str, float] = {}
         self.samples = 0
         self.cycle_no = 0
+        # channel health (torqlog.health)
+        self.scales: dict[str, health.ChannelScale] = {}
+        self.frozen_len: dict[str, int] = {}
+        self.speed_ref: float | None = None
+        self.prev_speed: float | None = None
+        self.events: list[dict[str, Any]] = []
+        self.event_count: dict[str, int] = {}
+        self.stretches: list[tuple[float, float, str]] = []
+        self.theta_offset = 0.0
+        self.last_time: float | None = None
+        self.last_theta: float | None = None
+        self.durations = np.empty(0)
+        self.dead: set[str] = set()
+        self.last_speed_mean: float | None = None
+        self.theta_max = -np.inf
+        self.tails: dict[str, tuple[np.ndarray, np.ndarray]] = {}
+        self.activity = np.empty(0)
 
     def feed(self, chunk: Chunk, final: bool) -> None:
         t = chunk.time
@@ -319,31 +345,176 @@ class _Stream:
         if self.dt is None and len(t) > 1:
             self.dt = float(np.median(np.diff(t)))
         new: dict[str, np.ndarray] = {"time": t}
-        nanmask = np.zeros(len(t), dtype=bool)
+        fault = np.zeros(len(t), dtype=np.uint8)
+        channels = dict(chunk.channels)
         for role in ("torque", "speed"):
             if role in chunk.channels:
-                x, bad = cond.fill_nan(t, chunk.channels[role])
-                if bad.any():
-                    long = cond.long_runs(bad, cond.NAN_REPAIR_RUN)
-                    self.nan_filled += int(bad.sum() - long.sum())
-                    nanmask |= long
-                if self.o.despike:
-                    if role not in self.spike_scale:
-                        self.spike_scale[role] = cond.spike_scale(x)
-                    x, sp = cond.despike(x, scale=self.spike_scale[role])
-                    self.spikes += int(sp.sum())
+                x, for_angle = self._condition(role, t, chunk.channels[role], fault)
+                channels[role] = for_angle
                 new[role] = x
-        new["nan"] = nanmask
-        theta = self.tracker.push(t, chunk.channels)
-        new["theta"] = np.asarray(theta, dtype=np.float64)
+        new["fault"] = fault
+        theta = np.asarray(self.tracker.push(t, channels), dtype=np.float64)
+        if self.tracker.source in ("angle", "counts"):
+            self._angle_reversal(t, theta, fault)
+        new["theta"] = self._anchor(t, theta)
         buf = new if self.carry is None else {
             k: np.concatenate((self.carry[k], new[k])) for k in new}
         if self.tracker.source == "index" and self.carry is not None:
             nc = len(self.carry["time"])
             head = buf["theta"][:nc]
             if np.isnan(head).any():
-                buf["theta"][:nc] = self.tracker.angle_at(buf["time"][:nc])
+                buf["theta"][:nc] = self.tracker.angle_at(buf["time"][:nc]) + self.theta_offset
         self._process(buf, final)
+
+    def _condition(self, role: str, t: np.ndarray, raw: np.ndarray, fault: np.ndarray
+                   ) -> tuple[np.ndarray, np.ndarray]:
+        """One channel's samples made usable, its faults marked in ``fault`` (see
+        :mod:`torqlog.health`); returns (conditioned, bridged-only for the angle)."""
+        B = health.BITS
+        inf = np.isinf(raw)
+        if inf.any():
+            raw = np.where(inf, np.nan, raw)
+            fault[inf] |= B["nonfinite"]
+            self._event(role, "nonfinite", t, inf)
+        x, bad = cond.fill_nan(t, raw)
+        if bad.any():
+            long = cond.long_runs(bad & ~inf, cond.NAN_REPAIR_RUN)
+            self.nan_filled += int((bad & ~inf).sum() - long.sum())
+            fault[long] |= B["nan"]
+            self._event(role, "nan", t, long)
+        if role not in self.scales:
+            self.scales[role] = health.ChannelScale.of(x)
+        sc = self.scales[role]
+        x = self._spike_runs(role, t, x, sc, fault)
+        still = np.zeros(x.size, dtype=bool)
+        if sc.high <= sc.low:  # one value from the start: a dead sensor or a set-point
+            self.dead.add(role)
+        if role in self.dead:
+            return x, x
+        if role == "speed":
+            if self.speed_ref is None:
+                self.speed_ref = health.running_speed(x)
+            ref = self.speed_ref or 2.0 * health.MIN_RUNNING_SPEED  # standing so far
+            drop, stop, rev = health.speed_state(x, ref, self.prev_speed)
+            self.prev_speed = float(x[-1])
+            if drop.any():
+                lag = int(round(self.span / (ref * self.dt))) if self.dt else 0
+                hist = self.carry[role] if self.carry is not None else None
+                x = health.bridge_periodic(t, x, drop, lag, hist)
+                fault[drop] |= B["dropout"]
+                self._event(role, "dropout", t, drop)
+            fault[stop] |= B["stop"]
+            fault[rev] |= B["reversal"]
+            still = stop
+            if stop.any():
+                self._record_stretches(t, x, stop, rev)
+        if role not in self.frozen_len:  # runs this long are frozen (judged per cycle)
+            per_rev = (TWO_PI / (self.speed_ref * self.dt)) if (
+                self.speed_ref and self.dt) else None
+            self.frozen_len[role] = health.frozen_run_length(sc, per_rev)
+        for_angle = x
+        if self.o.despike:
+            if role not in self.spike_scale:
+                self.spike_scale[role] = cond.spike_scale(x)
+            x, one = cond.despike(x, scale=self.spike_scale[role])
+            one &= ~still
+            self.spikes += int(one.sum())
+        return x, for_angle
+
+    def _angle_reversal(self, t: np.ndarray, theta: np.ndarray, fault: np.ndarray) -> None:
+        """A measured angle that runs back more than :data:`torqlog.health.REVERSAL_ANGLE`
+        behind its running maximum: the shaft turned backwards (jitter is far smaller)."""
+        fin = np.where(np.isfinite(theta), theta, -np.inf)
+        run = np.maximum.accumulate(np.concatenate(([self.theta_max], fin)))[1:]
+        self.theta_max = float(run[-1])
+        back = run - fin > health.REVERSAL_ANGLE
+        back &= np.isfinite(fin)
+        if back.any():
+            fault[back] |= health.BITS["reversal"]
+            s, e = health.runs(back)
+            self.stretches.extend(zip(t[s].tolist(), t[e - 1].tolist(),
+                                      ["reversal"] * s.size, strict=True))
+
+    def _spike_runs(self, role: str, t: np.ndarray, x: np.ndarray,
+                    sc: health.ChannelScale, fault: np.ndarray) -> np.ndarray:
+        """Find spike runs in this chunk with the previous chunk's last samples in front,
+        so a run across the chunk boundary is seen whole; repair them; a lone sample is
+        counted as a one-sample spike, a run is flagged (also on the carried samples)."""
+        k = health.SPIKE_RUN_MAX + 1
+        tail = self.tails.get(role)
+        n0 = 0 if tail is None else tail[1].size
+        xx = x if tail is None else np.concatenate((tail[1], x))
+        sp = health.spike_runs(xx, sc)
+        if sp.any():
+            tt = t if tail is None else np.concatenate((tail[0], t))
+            xx = health.bridge(tt, xx, sp)
+            lone = sp & ~cond.long_runs(sp, 1)
+            self.spikes += int(lone.sum())
+            sp &= ~lone
+            self._event(role, "spikes", tt, sp)
+            fault[sp[n0:]] |= health.BITS["spikes"]
+            back = sp[:n0]
+            if back.any() and self.carry is not None:
+                m = min(n0, len(self.carry["time"]))
+                if m:
+                    self.carry["fault"][-m:][back[-m:]] |= health.BITS["spikes"]
+                    self.carry[role][-m:] = np.where(back[-m:], xx[n0 - m:n0],
+                                                     self.carry[role][-m:])
+            x = xx[n0:]
+        self.tails[role] = (t[-k:], x[-k:])
+        return x
+
+    def _event(self, role: str, kind: str, t: np.ndarray, mask: np.ndarray) -> None:
+        """Count the faulty stretches of one kind and keep the first ones (start, end)."""
+        if not mask.any():
+            return
+        s, e = health.runs(mask)
+        self.event_count[kind] = self.event_count.get(kind, 0) + int(s.size)
+        room = max(_MAX_EVENTS - len(self.events), 0)
+        self.events.extend({"kind": kind, "channel": role, "start_s": a, "end_s": b}
+                           for a, b in zip(t[s[:room]].tolist(), t[e[:room] - 1].tolist(),
+                                           strict=True))
+
+    def _record_stretches(self, t: np.ndarray, speed: np.ndarray, stop: np.ndarray,
+                          rev: np.ndarray) -> None:
+        """Non-running stretches of the speed channel: what happened, start, end [s]."""
+        s, e = health.runs(stop)
+        reversed_ = np.maximum.reduceat(rev, s)
+        ref = self.speed_ref or 2.0 * health.MIN_RUNNING_SPEED
+        rest = np.minimum.reduceat(np.abs(speed), s) < 0.05 * ref
+        kind = np.where(reversed_, "reversal", np.where(
+            rest, "stop", "run-down/run-up (below half the running speed)"))
+        self.stretches.extend(zip(t[s].tolist(), t[e - 1].tolist(), kind.tolist(),
+                                  strict=True))
+
+    def _anchor(self, t: np.ndarray, theta: np.ndarray) -> np.ndarray:
+        """Shift the angle after each gap back by whole cycles so at most one cycle
+        boundary falls inside the gap: a long gap costs the cycle it interrupts (and the
+        one before), and the cycles after it keep the phase their angle source gives.
+        Records gaps longer than a cycle as non-running stretches."""
+        theta = theta + self.theta_offset if self.theta_offset else theta
+        prev_t, prev_th = self.last_time, self.last_theta
+        self.last_time = float(t[-1])
+        if self.dt is None or theta.size == 0:
+            return theta
+        tt = t if prev_t is None else np.concatenate(([prev_t], t))
+        off = 0 if prev_t is None else 1
+        for j in np.flatnonzero(np.diff(tt) > cond.GAP_FACTOR * self.dt):  # gaps are few
+            i = int(j) + 1 - off  # index in theta of the first sample after the gap
+            before = prev_th if i == 0 else float(theta[i - 1])
+            after = float(theta[i])
+            if before is None or not (math.isfinite(before) and math.isfinite(after)):
+                continue
+            nxt = self.span * (math.floor(before / self.span) + 1)
+            if after >= nxt + self.span:
+                shift = self.span * math.floor((after - nxt) / self.span)
+                theta[i:] -= shift
+                self.theta_offset -= shift
+                self.stretches.append((float(tt[j]), float(tt[j + 1]), "gap"))
+        fin = theta[np.isfinite(theta)]
+        if fin.size:
+            self.last_theta = float(fin[-1])
+        return theta
 
     def _process(self, buf: dict[str, np.ndarray], final: bool) -> None:
         theta = buf["theta"]
@@ -357,7 +528,8 @@ class _Stream:
             buf = {k: v[first:] for k, v in buf.items()}
             theta = buf["theta"]
             last -= first
-        if self.tracker.source in ("angle", "counts"):  # measured angles can jitter back
+        if self.tracker.source in ("angle", "counts", "speed"):
+            # measured angles can jitter back; an integrated speed runs back on a reversal
             th = np.maximum.accumulate(np.where(np.isfinite(theta), theta, -np.inf))
         elif last + 1 < len(theta):  # integrated or interpolated: increasing by construction
             th = theta.copy()
@@ -373,6 +545,10 @@ class _Stream:
         if n_emit < 1:
             self.carry = buf
             return
+        if n_all > len(theta):  # more cycles than samples: no real machine turns so fast
+            raise DataError("the log's speed or angle implies more cycles than samples (a "
+                            "damaged file, or the wrong unit); check the column's values and "
+                            "unit")
         bounds_all = self.span * np.arange(self.next_m, m_last + 1, dtype=np.float64)
         seg = slice(0, last + 1)
         t, thv = buf["time"][seg], th[seg]
@@ -411,13 +587,14 @@ class _Stream:
                 row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_max, ce.angle_e_min
             else:
                 row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_min, ce.angle_e_max
-            # clipped: a flat run (≥ CLIP_RUN equal samples) at the cycle's peak or minimum
-            i = cond.flat_run_index(tq[lo:stop])
-            c = cid[i]
-            v = tq[lo + i]
-            clipped[c[(v == ce.torque_peak[c]) | (v == ce.torque_min[c])]] = True
-        nan = np.zeros(n_emit, dtype=bool)
-        nan[cid[np.flatnonzero(buf["nan"][lo:stop])]] = True
+        # sample faults (torqlog.health bits): OR over each cycle's samples
+        fault_s = buf["fault"][lo:stop]
+        fault = np.bitwise_or.reduceat(fault_s, sg.offsets)
+        frozen = np.zeros(n_emit, dtype=bool)
+        for role in ("torque", "speed"):
+            if role in self.has and role not in self.dead:
+                self._flat(buf[role][lo:stop], role, sg, fault_s, t[lo:stop], clipped,
+                           frozen)
         gap = np.zeros(n_emit, dtype=bool)
         if self.dt is not None:  # a step longer than GAP_FACTOR median steps
             limit = cond.GAP_FACTOR * self.dt
@@ -425,9 +602,11 @@ class _Stream:
                 big = np.flatnonzero(np.diff(t[:stop]) > limit) + 1
             else:
                 big = np.flatnonzero(np.diff(t[lo - 1:stop]) > limit)
+            # the cycle after the gap, and the one before when a boundary fell inside it
             gap[cid[big]] = True
+            gap[cid[np.maximum(big - 1, 0)]] = True
         # speed, per angle bin, low-passed in the angle domain
-        wmax = wmin = None
+        wmax = wmin = mine = None
         sp_bins_all = None
         bounds_sp = bounds_all
         if "speed" in self.has or self.speed_from_angle:
@@ -452,8 +631,26 @@ class _Stream:
                 row["angle_speed_min"] = centre[np.argmin(mine, axis=1)]
                 row["angle_speed_max"] = centre[np.argmax(mine, axis=1)]
             row["speed_max"], row["speed_min"] = wmax, wmin
+        length = self._length_check(duration)
+        if tq is not None and ("speed" not in self.has or "speed" in self.dead):
+            # no speed to tell a stop by: a cycle whose torque hardly moves is not running
+            quiet = self._quiet(ce.torque_peak - ce.torque_min)
+            if quiet.any():
+                fault[quiet] |= health.BITS["stop"]
+                self.stretches.extend(
+                    (float(tb[k]), float(tb[k + 1]), "stop (torque quiet; no speed channel)")
+                    for k in np.flatnonzero(quiet))
+        unsteady = self._steady_check(w_mean)
+        if mine is not None:  # steady running ends a cycle at the speed it began with
+            unsteady |= np.abs(mine[:, -1] - mine[:, 0]) > health.UNSTEADY_TOL * w_mean
+        B = health.BITS
         flags = np.full(n_emit, "", dtype=object)
-        for name, mask in (("gap", gap), ("nan", nan), ("clipped", clipped)):
+        for name, mask in (("gap", gap), ("nan", (fault & B["nan"]) != 0),
+                           ("clipped", clipped), *(
+                               (k, (fault & B[k]) != 0) for k in
+                               ("nonfinite", "spikes", "dropout", "stop", "reversal")),
+                           ("frozen", frozen), ("length", length),
+                           ("unsteady", unsteady)):
             if mask.any():
                 flags[mask] = np.where(flags[mask] == "", name, flags[mask] + "+" + name)
         row["flag"] = flags
@@ -482,6 +679,69 @@ class _Stream:
             self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
 
 
+    def _flat(self, x: np.ndarray, role: str, sg: en.Segments, fault: np.ndarray,
+              t: np.ndarray, clipped: np.ndarray, frozen: np.ndarray) -> None:
+        """Flat runs of one channel over the emitted cycles: at a cycle's peak or minimum
+        (≥ CLIP_RUN equal samples) the cycle is clipped; elsewhere, longer than the noise
+        makes plausible (``frozen_len``), frozen. A standing machine is neither."""
+        i = cond.flat_run_index(x)  # samples in runs of ≥ CLIP_RUN equal values (few)
+        if not i.size:
+            return
+        cid, off = sg.cid, sg.offsets
+        top, bot = np.maximum.reduceat(x, off), np.minimum.reduceat(x, off)
+        stop = health.BITS["stop"]
+        c, v = cid[i], x[i]
+        at = (v == top[c]) | (v == bot[c])
+        moving = (fault[i] & stop) == 0
+        hit = at & moving
+        if hit.any():
+            clipped[c[hit]] = True
+            # a rail under noise: the samples that reach it tie with the extreme without
+            # forming one run; counted only once a run at an extreme was seen
+            n_tie = max(self.frozen_len.get(role, 0), 2 * cond.CLIP_RUN)
+            still = (fault & stop) != 0
+            ties = np.add.reduceat((x == sg.spread(top)) & ~still, off) + \
+                np.add.reduceat((x == sg.spread(bot)) & ~still, off)
+            clipped |= ties >= n_tie
+        n = self.frozen_len.get(role)
+        if not n:
+            return
+        # frozen: runs of ≥ n equal samples away from the cycle's extremes
+        brk = np.flatnonzero((np.diff(i) != 1) | (v[1:] != v[:-1])) + 1
+        first = np.concatenate(([0], brk))
+        length = np.diff(np.append(first, i.size))
+        sel = np.repeat(length >= n, length) & ~at & moving
+        if not sel.any():
+            return
+        frozen[c[sel]] = True
+        mask = np.zeros(x.size, dtype=bool)
+        mask[i[sel]] = True
+        self._event(role, "frozen", t, mask)
+
+    def _quiet(self, torque_range: np.ndarray) -> np.ndarray:
+        """Cycles whose torque range [N*m] is below :data:`torqlog.health.QUIET_SHARE` of
+        the running median (last 50 cycles): the machine stood or idled unloaded."""
+        hist = np.concatenate((self.activity, torque_range))
+        self.activity = hist[-50:]
+        return torque_range < health.QUIET_SHARE * float(np.median(hist))
+
+    def _steady_check(self, speed_mean: np.ndarray) -> np.ndarray:
+        """Cycles whose mean speed [rad/s] differs from the previous cycle's by more than
+        :data:`torqlog.health.UNSTEADY_TOL`: the machine is running up or down."""
+        prev = np.concatenate(([self.last_speed_mean if self.last_speed_mean else
+                                speed_mean[0]], speed_mean[:-1]))
+        self.last_speed_mean = float(speed_mean[-1])
+        return np.abs(speed_mean / prev - 1.0) > health.UNSTEADY_TOL
+
+    def _length_check(self, duration: np.ndarray) -> np.ndarray:
+        """Cycles off the running median length (last 50 cycles) by more than
+        :data:`torqlog.health.CYCLE_LENGTH_TOL`: merged or split cycles, run-downs."""
+        hist = np.concatenate((self.durations, duration))
+        ref = float(np.median(hist))
+        self.durations = hist[-50:]
+        return np.abs(duration / ref - 1.0) > health.CYCLE_LENGTH_TOL
+
+
 def _recycle_temporaries() -> None:
     """Let the C allocator recycle the chunk-sized temporaries instead of faulting them in.
 
@@ -505,7 +765,12 @@ def _tracker_for(source: str, opts: CycleOptions, first: Chunk, path: str
     if source == "period":
         sig = first.channels.get("torque", first.channels.get("speed"))
         n = min(len(sig), 1 << 19)
-        est = ang.estimate_period(first.time[:n], sig[:n], path=path)
+        t = first.time[:n]
+        sig = np.where(np.isinf(sig[:n]), np.nan, sig[:n])
+        if not np.isnan(sig).all():  # spike runs would swamp the autocorrelation
+            sig = cond.fill_nan(t, sig)[0]
+            sig = health.bridge(t, sig, health.spike_runs(sig, health.ChannelScale.of(sig)))
+        est = ang.estimate_period(t, sig, path=path)
         period = est.period
         extra = {"period_s": est.period, "period_confidence": round(est.confidence, 4)}
         notes.append(f"no speed, angle or index channel: cycle period estimated from the "
@@ -587,6 +852,9 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     nb_mean = 360 * o.revs_per_cycle
     stats = SummaryStream(quantile_budget, sketch_error)
     store = ColumnStore() if keep_rows else None
+    # the running-segment and refusal checks read three columns of every cycle (17 bytes
+    # a cycle); without kept rows only those are stored
+    running = ColumnStore()
     opts: dict[str, Any] = {}
     started: list[bool] = []
 
@@ -603,10 +871,12 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         return opts
 
     def on_block(row: dict[str, np.ndarray]) -> None:
-        block = _block_columns(row, lay, o)
+        block = _block_columns(row, lay, o, st.dead)
         stats.add(block)
         if store is not None:
             store.add({k: v for k, v in block.items() if k != "start_time"})
+        else:
+            running.add({k: block[k] for k in ("t_start_s", "duration_s", "flag")})
         if sink is not None:
             if not started:
                 started.append(True)
@@ -616,11 +886,14 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed, on_block)
     _recycle_temporaries()
     pending = first
-    for chunk in chain(it, [None]):
-        st.feed(pending, final=chunk is None)
-        pending = chunk
-        if progress is not None:
-            progress(reader.fraction_read())
+    try:
+        for chunk in chain(it, [None]):
+            st.feed(pending, final=chunk is None)
+            pending = chunk
+            if progress is not None:
+                progress(reader.fraction_read())
+    except DataError as exc:  # the cycle stage does not know the file: name it here
+        raise naming_file(exc, lay.path) from None
     if st.cycle_no < 2:
         raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
                         f"are needed — record a longer log (cycle source {source!r}, "
@@ -641,7 +914,15 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                      "flag their cycle")
     if st.spikes:
         notes.append(f"{st.spikes} one-sample spike(s) replaced by their neighbours' mean")
-    summary = stats.result(spikes=st.spikes, samples=st.samples)
+    for role in sorted(st.dead):
+        notes.append(f"the {role} channel holds one value from the start (a dead sensor or "
+                     "a set-point, not a measurement)" + (
+                         ": cycles cut at that speed as if it were constant, Cs left empty, "
+                         "and the energy swing off by up to about Cs (the angle ignores the "
+                         "speed's swing)" if role == "speed"
+                         else ""))
+    health_summary = _health(st, (store or running).columns(), lay.path, source)
+    summary = stats.result(spikes=st.spikes, samples=st.samples, **health_summary)
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
     table = _stored_columns(store, lay) if store is not None else {}
@@ -666,6 +947,29 @@ def row_dicts(columns: dict[str, np.ndarray]) -> list[dict[str, Any]]:
     return [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
 
 
+def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
+            ) -> dict[str, Any]:
+    """Faults, non-running stretches and running segments of a log (summary keys);
+    refuses a log with no segment of two clean cycles, or one that is not cyclic."""
+    not_running, segs = health.running_segments(
+        st.stretches, table["t_start_s"], table["duration_s"], table["flag"],
+        join=2.0 * (st.dt or 0.0))
+    health.refuse_without_clean_cycles(path, table["flag"], not_running)
+    share = float("nan")
+    for k in ("torque", "speed"):
+        rm = st.moments.get(k)
+        if rm is not None and rm.mean is not None and k not in st.dead:
+            # the sums the share is defined on, from the running moments
+            s1 = rm.mean * rm.n
+            s2 = rm.m2 + rm.n * rm.mean * rm.mean
+            share = health.cyclic_share(s1, s2, st.mean_n)
+            health.refuse_if_not_cyclic(path, share, st.mean_n, k, source)
+            break
+    return {"cyclic_share": None if share != share else round(share, 4),
+            "faults": {k: st.event_count[k] for k in health.BITS if k in st.event_count},
+            "fault_list": st.events, "not_running": not_running, "segments": segs}
+
+
 def _isnat(x: Any) -> bool:
     return x is None or (isinstance(x, np.datetime64) and bool(np.isnat(x))) or x != x
 
@@ -678,13 +982,15 @@ def _iso(x: Any) -> str:
     return pd.Timestamp(x).isoformat()
 
 
-def _block_columns(cols: dict[str, np.ndarray], lay: Layout, o: CycleOptions
-                   ) -> dict[str, np.ndarray]:
+def _block_columns(cols: dict[str, np.ndarray], lay: Layout, o: CycleOptions,
+                   dead: set[str]) -> dict[str, np.ndarray]:
     """The output columns (:data:`COLUMNS`, SI converted at this edge) of a block of cycles."""
     n = cols["cycle"].size
     nan = np.full(n, np.nan)
     wmean = cols["speed_mean"]
     wmax, wmin = cols.get("speed_max", nan), cols.get("speed_min", nan)
+    if "speed" in dead:  # a constant channel cannot tell the fluctuation
+        wmax = wmin = nan
     cs = en.coefficient_of_fluctuation(wmax, wmin, wmean, mean=o.cs_mean)
     de = cols.get("energy_swing")
     if de is None:
@@ -710,7 +1016,7 @@ def _block_columns(cols: dict[str, np.ndarray], lay: Layout, o: CycleOptions
         "angle_speed_min_deg": cols.get("angle_speed_min", nan) * deg,
         "angle_speed_max_deg": cols.get("angle_speed_max", nan) * deg,
         "cs": cs,
-        "cs_predicted": cs_pred,
+        "cs_constant_drive": cs_pred,
         "flag": cols["flag"],
     }
 
@@ -764,7 +1070,7 @@ def _mean_cycle(st: _Stream) -> dict[str, np.ndarray]:
     df = {"angle": a}
     for k in ("torque", "speed"):
         rm = st.moments.get(k)
-        if rm is not None and rm.mean is not None:
+        if rm is not None and rm.mean is not None and k not in st.dead:
             df[k + "_mean"], df[k + "_sd"] = rm.mean, rm.std()
         else:
             df[k + "_mean"] = df[k + "_sd"] = np.full(nb, np.nan)

@@ -71,6 +71,7 @@ def write_demo_inputs(out_dir: str | Path) -> list[DemoRun]:
     list of DemoRun
         Press, compressor, engine.
     """
+    from torqlog.outputs import write_text
     from torqlog.simulate import demo_profile, simulate, write_log
 
     root = Path(out_dir)
@@ -79,7 +80,7 @@ def write_demo_inputs(out_dir: str | Path) -> list[DemoRun]:
         folder = root / key
         folder.mkdir(parents=True, exist_ok=True)
         profile = folder / f"{key}.toml"
-        profile.write_text(demo_profile(key), encoding="utf-8")
+        write_text(profile, demo_profile(key))
         logs = []
         shifts = PRESS_SHIFTS if key == "press" else 1
         for i in range(shifts):

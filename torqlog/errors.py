@@ -30,3 +30,20 @@ class CheckFailed(TorqlogError):
     """A design check failed and the caller asked for strict mode (exit code 3)."""
 
     exit_code = 3
+
+
+def naming_file(exc: TorqlogError, path: object) -> TorqlogError:
+    """The same kind of error, its sentence led by the file it concerns.
+
+    Deep stages (cycle tracking, sizing) do not know the file; the function that opened
+    it adds the name once, here, unless the sentence already starts with it.
+
+    Examples
+    --------
+    >>> str(naming_file(DataError("too few samples"), "press.csv"))
+    'press.csv: too few samples'
+    """
+    text, name = str(exc), str(path)
+    if text.startswith(name):
+        return exc
+    return type(exc)(f"{name}: {text}")

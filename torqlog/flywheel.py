@@ -49,6 +49,7 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -66,6 +67,7 @@ from torqlog.discs import (
 )
 from torqlog.errors import DataError, UsageError
 from torqlog.materials import Material, get_material
+from torqlog.notebook import result_html
 
 SHAPES = ("solid-disc", "annular-disc", "rim")
 CRITERIA = ("von-mises", "max-principal")
@@ -288,6 +290,12 @@ def solve_geometry(required_inertia: float, material: Material | str, shape: str
                          "neither; the other one is solved from the inertia")
     if shape not in SHAPES:
         raise UsageError(f"unknown shape {shape!r}; valid: {', '.join(SHAPES)}")
+    for name, value in (("outer diameter", outer_diameter), ("width", width),
+                        ("bore", bore)):
+        if value is not None and not (math.isfinite(value) and value >= 0
+                                      and (value > 0 or name == "bore")):
+            raise UsageError(f"{name} must be {'zero or more' if name == 'bore' else 'positive'}"
+                             f", got {value!r} m")
     r = bore / 2.0
     what = f"{shape} in {mat.name} holding {required_inertia:.4g} kg*m^2"
 
@@ -426,6 +434,8 @@ class FlywheelResult:
         [Pa]."""
         return self.material.strength / self.required_stress_factor
 
+    _repr_html_ = result_html  # the notebook view
+
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract (units in the key names)."""
         g = self.geometry
@@ -440,6 +450,7 @@ class FlywheelResult:
             "shape": g.shape,
             "material": self.material.name,
             "material_designation": self.material.designation,
+            "material_source": self.material.source,
             "outer_diameter_m": g.outer_diameter,
             "bore_m": g.bore,
             "width_m": g.width,
@@ -491,6 +502,13 @@ class FlywheelResult:
 
 
 # --------------------------------------------------------------------------- checks
+#: Largest face width / outer diameter a flywheel may have (common practice). The disc
+#: formulas used here assume plane stress, true of a disc thin against its diameter
+#: (Timoshenko & Goodier, 3rd ed., sec. 32); a part wider than its diameter is a long
+#: cylinder (plane strain, same section) and no flywheel a shop would make.
+MAX_WIDTH_TO_DIAMETER = 1.0
+
+
 def _validate_speed(speed: float) -> None:
     if not (math.isfinite(speed) and speed > 0):
         raise UsageError(f"speed must be positive, got {speed / _RPM:g} rpm "
@@ -589,11 +607,21 @@ def check_flywheel(geometry: DiscGeometry, material: Material | str, speed: floa
     if mat.rim_speed_limit is not None:
         checks.append(Check("rim_speed_m_s", rim_speed, mat.rim_speed_limit,
                             rim_speed <= mat.rim_speed_limit))
+    proportion = geometry.width / geometry.outer_diameter
+    checks.append(Check("width_to_outer_diameter", proportion, MAX_WIDTH_TO_DIAMETER,
+                        proportion <= MAX_WIDTH_TO_DIAMETER))
     if required_inertia is not None:
         checks.append(Check("inertia_kgm2", i_total, required_inertia,
                             i_total >= required_inertia * (1.0 - 1e-9)))
 
     cautions = list(CAUTIONS)
+    if proportion > MAX_WIDTH_TO_DIAMETER:
+        cautions.insert(0, (
+            f"The face width ({geometry.width:.4g} m) is more than "
+            f"{MAX_WIDTH_TO_DIAMETER:g} x the outer diameter ({geometry.outer_diameter:.4g} m):"
+            " this is a long cylinder, not a disc, so the disc stresses above do not apply and"
+            " it cannot be built as a flywheel; give a larger outer diameter or a smaller "
+            "inertia."))
     if geometry.shape == "rim":
         cautions.append(
             "Rim shape: web and rim are modelled as a stepped disc; the stress raiser at "
@@ -827,7 +855,10 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
                           interference: float | None = None, density: float | None = None,
                           strength: float | None = None, poisson: float | None = None,
                           modulus: float | None = None,
-                          material_factor: float | None = None) -> FlywheelResult:
+                          material_factor: float | None = None,
+                          brittle: bool | None = None, material_name: str | None = None,
+                          materials: Mapping[str, Material] | None = None,
+                          ) -> FlywheelResult:
     """Size or check a flywheel from given values over a profile and a sizing result.
 
     What ``torqlog flywheel`` and the report both run. A value given here wins; None
@@ -847,15 +878,23 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
         The JSON contract of ``torqlog size`` (:func:`torqlog.inertia.size_log_dict`).
     size_source : str
         Where ``size`` came from, for messages and ``options["from_size"]``.
-    material : str, optional
-        A name of :data:`torqlog.materials.MATERIALS`.
+    material : str or mapping, optional
+        A name of :data:`torqlog.materials.MATERIALS` or of ``materials``, or a table of
+        properties (the profile's ``[flywheel] material = { ... }``).
     shape, outer_diameter, bore, width, max_width, max_outer_diameter,
     rim_inner_diameter, rim_depth, web_width : [m] for lengths
         See :func:`design_flywheel`.
     overspeed, slowdown, interference, material_factor
         See :func:`check_flywheel` (overspeed default 1.2).
     density [kg/m^3], strength [Pa], poisson, modulus [Pa] : float, optional
-        Override the material's values.
+        Override the material's values; with no material named, all four make a
+        material of its own (:func:`torqlog.materials.resolve_material`).
+    brittle : bool, optional
+        The ductile/brittle choice for a material given by its properties.
+    material_name : str, optional
+        The user's name for a material given by its properties (default ``"custom"``).
+    materials : mapping of str to Material, optional
+        A plant's own materials table (:func:`torqlog.materials.load_materials`).
 
     Returns
     -------
@@ -871,7 +910,7 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
     ----------
     Timoshenko & Goodier, *Theory of Elasticity*, 3rd ed., section 32.
     """
-    from torqlog.materials import MATERIALS, custom_material
+    from torqlog.materials import resolve_material
 
     fw = profile.flywheel if profile is not None else {}
     mach = profile.machine if profile is not None else {}
@@ -890,13 +929,11 @@ def flywheel_from_profile(profile: Any = None, *, inertia: float | None = None,
     def pick(value: Any, key: str, default: Any = None) -> Any:
         return value if value is not None else fw.get(key, default)
 
-    material = pick(material, "material")
-    if material is None:
-        raise UsageError(f"give --material; known: {', '.join(MATERIALS)}")
-    mat = get_material(material)
-    if any(v is not None for v in (density, strength, poisson, modulus)):
-        mat = custom_material(mat, density=density, modulus=modulus, poisson=poisson,
-                              strength=strength)
+    spec = pick(material, "material")
+    mat = resolve_material(spec, table=materials, density=density, modulus=modulus,
+                           poisson=poisson, strength=strength, brittle=brittle,
+                           name=material_name,
+                           where=f"{getattr(profile, 'source', '<profile>')} [flywheel] material")
     shape = pick(shape, "shape", "annular-disc")
     outer_diameter = pick(outer_diameter, "outer_diameter")
     bore = pick(bore, "bore", 0.0)

@@ -31,15 +31,12 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from torqlog.drive import (
-    CURVE_COLUMNS,
-    DriveCycle,
-    MotorModel,
-    curve_frame,
-    drive_cycles,
-)
+from torqlog.calibrate import BOUND_NOTE, HOURS_PER_YEAR, TOLERANCE_REL
+from torqlog.drive import CURVE_COLUMNS, MotorModel
 from torqlog.errors import DataError, UsageError
 from torqlog.identify import IdentifyResult, check_role, identify_inertia_cycle
+from torqlog.notebook import result_html
+from torqlog.recommend import recommend
 
 _RPM = 60.0 / (2.0 * math.pi)  # rad/s -> rpm
 
@@ -284,6 +281,49 @@ def bootstrap_ci(energy_swing: np.ndarray, speed: np.ndarray | float, *, target_
     return float(lo), float(hi)
 
 
+def quantile_interval_lognormal(values: np.ndarray, quantile: float,
+                                level: float = 0.95) -> tuple[float, float]:
+    """Confidence interval of a quantile of log-normal values (noncentral t).
+
+    With ``y = ln x`` normal, the p-quantile is ``μ + z_p·σ``; its two-sided interval is
+    ``ȳ + k·s`` with ``k = t'_{α/2, 1−α/2}(n − 1, z_p·√n)/√n`` from the noncentral t
+    distribution (:data:`scipy.stats.nct`). A sample of 40 cycles cannot bound a 95th
+    percentile from above by order statistics alone; this parametric interval can, and
+    it is wider than a percentile bootstrap of the sample quantile.
+
+    Parameters
+    ----------
+    values : array [J]
+        Per-cycle energy swings (positive, finite).
+    quantile : float
+        In (0, 1).
+    level : float
+        Coverage.
+
+    Returns
+    -------
+    (float, float) [J]
+
+    References
+    ----------
+    .. [1] G. J. Hahn, W. Q. Meeker, *Statistical Intervals: A Guide for Practitioners*,
+       Wiley, 1991, confidence intervals for a percentile of a normal distribution.
+    """
+    from scipy.stats import nct, norm
+
+    y = np.log(np.asarray(values, dtype=float))
+    n = y.size
+    if n < 3 or not np.all(np.isfinite(y)):
+        raise DataError("the quantile interval needs at least 3 positive energy swings")
+    sd = float(np.std(y, ddof=1))
+    nc = float(norm.ppf(quantile)) * math.sqrt(n)
+    alpha = 1.0 - level
+    k_lo = float(nct.ppf(alpha / 2, n - 1, nc)) / math.sqrt(n)
+    k_hi = float(nct.ppf(1 - alpha / 2, n - 1, nc)) / math.sqrt(n)
+    mean = float(np.mean(y))
+    return math.exp(mean + k_lo * sd), math.exp(mean + k_hi * sd)
+
+
 # --------------------------------------------------------------------------- sizing
 CAUTIONS: tuple[str, ...] = (
     "Adding a flywheel changes shaft stresses, bearing loads and the shaft's natural "
@@ -297,7 +337,7 @@ CAUTIONS: tuple[str, ...] = (
 
 CYCLE_COLUMNS = ("cycle", "t_start_s", "duration_s", "speed_mean_rpm", "speed_min_rpm",
                  "speed_max_rpm", "torque_mean_Nm", "torque_peak_Nm", "torque_min_Nm",
-                 "work_J", "energy_swing_J", "cs", "cs_predicted", "flag")
+                 "work_J", "energy_swing_J", "cs", "cs_constant_drive", "flag")
 _METHODS = ("torque", "speed")
 SPEED_ONLY_NEEDS_INERTIA = ("a speed-only log needs the existing inertia (--inertia or "
                             "[machine] inertia_kgm2) to size a flywheel")
@@ -307,7 +347,9 @@ SPEED_ONLY_NEEDS_INERTIA = ("a speed-only log needs the existing inertia (--iner
 class SizeResult:
     """Flywheel inertia recommendation (see :func:`size_from_cycles`).
 
-    Inertias are at the logged shaft unless the name says ``at_flywheel``.
+    Inertias are at the logged shaft unless the name says ``at_flywheel``. The headline
+    (``required_inertia``, ``added_inertia``, ``ci95``) comes from ``model``, the model that
+    leads; the constant-drive figure is kept as ``bound_required_inertia``.
     """
 
     method: str
@@ -327,6 +369,19 @@ class SizeResult:
     cautions: tuple[str, ...] = CAUTIONS
     options: dict[str, Any] = field(default_factory=dict)
     curve: pd.DataFrame | None = field(default=None, repr=False, compare=False)
+    model: str = "constant drive"
+    model_reason: str = ""
+    cs_measured: float | None = None
+    validation: dict[str, Any] | None = None
+    candidates: tuple[dict[str, Any], ...] = ()
+    model_params: dict[str, Any] | None = None
+    bound_required_inertia: float = math.nan
+    bound_ci95: tuple[float, float] = (math.nan, math.nan)
+    ci95_parts: dict[str, list[float]] = field(default_factory=dict)
+    added_ci95: tuple[float, float] | None = None
+    nameplate_slope: float | None = None
+    now: dict[str, Any] | None = None
+    after: dict[str, Any] | None = None
 
     @property
     def added_inertia_at_flywheel(self) -> float | None:
@@ -335,18 +390,45 @@ class SizeResult:
             return None
         return self.added_inertia / self.flywheel_speed_ratio ** 2
 
+    _repr_html_ = result_html  # the notebook view
+
     def to_dict(self) -> dict[str, Any]:
-        """JSON contract of the sizing."""
+        """JSON contract of the sizing (every key is listed in the README)."""
+        v = self.validation or {}
+        mp = self.model_params or {}
+        bound_added = (None if self.existing_inertia is None else
+                       max(self.bound_required_inertia - self.existing_inertia, 0.0))
         return {
+            "model": self.model,
+            "model_reason": self.model_reason,
+            "required_inertia_kgm2": self.required_inertia,
+            "added_inertia_kgm2": self.added_inertia,
+            "ci95_kgm2": [self.ci95[0], self.ci95[1]],
+            "ci95_parts_kgm2": {k: list(x) for k, x in self.ci95_parts.items()},
+            "added_ci95_kgm2": (None if self.added_ci95 is None else
+                                [self.added_ci95[0], self.added_ci95[1]]),
+            "cs_measured": self.cs_measured,
+            "cs_model_existing": v.get("cs_model_existing"),
+            "cs_model_error_rel": v.get("cs_model_error_rel"),
+            "cs_model_tolerance_rel": v.get("tolerance_rel"),
+            "cs_model_of": v.get("model"),
+            "drive_slope_Nms_per_rad": mp.get("slope_Nms_per_rad"),
+            "drive_slope_se_Nms_per_rad": mp.get("slope_se_Nms_per_rad"),
+            "drive_slope_nameplate_Nms_per_rad": self.nameplate_slope,
+            "drive_model": self.model_params,
+            "models_checked": list(self.candidates),
+            "bound_constant_drive_required_inertia_kgm2": self.bound_required_inertia,
+            "bound_constant_drive_added_inertia_kgm2": bound_added,
+            "bound_constant_drive_ci95_kgm2": [self.bound_ci95[0], self.bound_ci95[1]],
+            "bound_constant_drive_note": BOUND_NOTE,
+            "machine_now": self.now,
+            "machine_after": self.after,
             "method": self.method,
             "target_cs": self.target_cs,
             "speed_mean_rpm": self.speed_mean * _RPM,
             "design_energy_swing_J": self.design_energy_swing,
             "quantile": self.quantile,
-            "required_inertia_kgm2": self.required_inertia,
-            "ci95_kgm2": [self.ci95[0], self.ci95[1]],
             "existing_inertia_kgm2": self.existing_inertia,
-            "added_inertia_kgm2": self.added_inertia,
             "flywheel_speed_ratio": self.flywheel_speed_ratio,
             "added_inertia_at_flywheel_kgm2": self.added_inertia_at_flywheel,
             "cycles_used": self.cycles_used,
@@ -368,13 +450,28 @@ def _finite(col: pd.Series) -> np.ndarray:
     return pd.to_numeric(col, errors="coerce").to_numpy(dtype=float)
 
 
+#: Given and identified inertia further apart than this are reported as a conflict.
+INERTIA_CONFLICT_REL = 0.20
+#: Nameplate slope within this of the log's is said to agree (common practice, stated).
+NAMEPLATE_AGREES_REL = 0.05
+
+
 def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = None, *,
                      target_cs: float, quantile: float | str = 0.95,
                      existing_inertia: float | None = None, method: str | None = None,
                      flywheel_speed_ratio: float = 1.0, motor: MotorModel | None = None,
                      revs_per_cycle: int = 1, seed: int = 0, n_boot: int = 2000,
-                     torque_role: str = "load", speed: float | None = None) -> SizeResult:
-    """Recommend flywheel inertia from a per-cycle table.
+                     torque_role: str = "load", speed: float | None = None,
+                     tolerance: float = TOLERANCE_REL,
+                     hours_per_year: float = HOURS_PER_YEAR) -> SizeResult:
+    """Recommend flywheel inertia from a per-cycle table and the mean cycle.
+
+    The log is evidence, the nameplate advice: when the mean cycle has torque and speed,
+    the inertia and the drive's torque–speed slope are fitted on it
+    (:mod:`torqlog.calibrate`), the fitted model is run at the existing inertia and its Cs
+    compared with the measured median Cs; within ``tolerance`` it sizes the flywheel. Else
+    the nameplate motor is tried the same way, and failing both the constant-drive bound
+    ``I = ΔE/(Cs·ω̄²)`` leads, labelled as an upper bound (:mod:`torqlog.recommend`).
 
     Parameters
     ----------
@@ -383,15 +480,15 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
         are left out.
     mean_cycle : DataFrame, optional
         Mean cycle on a uniform angle grid (``angle`` [rad], ``torque_mean`` [N*m],
-        ``speed_mean`` [rad/s], ...). Used to identify the existing inertia (when it has
-        both torque and speed) and, with ``motor``, to simulate the drive.
+        ``speed_mean`` [rad/s], ...).
     target_cs : float
         Target coefficient of speed fluctuation, 0 < Cs < 1.
     quantile : float or "max"
         Design quantile of the per-cycle energy swings.
     existing_inertia : float, optional [kg*m^2]
         Inertia of the existing rotating parts at the logged shaft, not counting the motor
-        rotor of ``motor`` (its ``J·n²`` is added).
+        rotor of ``motor`` (its ``J·n²`` is added). An inertia identified on the log wins
+        over it (and a conflict beyond 20 % is reported).
     method : {"torque", "speed"}, optional
         ``torque``: per-cycle ``energy_swing_J`` from the logged torque; ``speed``:
         ``½·I·(ω_max² − ω_min²)`` with the existing inertia. Default: torque when the
@@ -399,15 +496,20 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     flywheel_speed_ratio : float
         Flywheel shaft speed / logged shaft speed (the added inertia there is I/r²).
     motor : MotorModel, optional
-        Drive motor, for the simulated Cs and motor torque against added inertia.
+        Nameplate motor: fallback model, rated torque for the load shares.
     revs_per_cycle : int
         Shaft revolutions per cycle.
     seed, n_boot : int
         Bootstrap seed and number of resamples.
     torque_role : {"load", "drive"}
-        Whose torque was logged ("drive" for an engine log).
+        Whose torque was logged ("drive" for an engine log: the fit then gives the load
+        side's slope).
     speed : float, optional [rad/s]
         Mean speed to use when the table has no speed (a torque-only log).
+    tolerance : float
+        Relative Cs error within which a model explains the log (default 0.10).
+    hours_per_year : float [h]
+        Running hours for the copper-loss change per year.
 
     Returns
     -------
@@ -419,11 +521,12 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
         Target Cs, quantile, method or torque role out of range; a speed-only log without
         the existing inertia.
     DataError
-        Missing columns, no clean cycles.
+        Missing columns, no clean cycles, a torque-only log without a stated speed.
 
     References
     ----------
-    .. [1] J. E. Shigley, C. R. Mischke, *Mechanical Engineering Design*, flywheel section.
+    .. [1] R. G. Budynas, J. K. Nisbett, *Shigley's Mechanical Engineering Design*, 10th
+       ed., 2015, eq. 16-62 (constant-drive bound).
     .. [2] R. L. Norton, *Design of Machinery*, flywheel section.
     """
     cs = _check_cs(target_cs)
@@ -439,6 +542,8 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
         raise UsageError(f"existing inertia must be zero or positive, got {existing_inertia!r}")
     if int(revs_per_cycle) != revs_per_cycle or revs_per_cycle < 1:
         raise UsageError(f"revs_per_cycle must be a whole number ≥ 1, got {revs_per_cycle!r}")
+    if not (math.isfinite(tolerance) and tolerance > 0):
+        raise UsageError(f"tolerance must be a positive fraction, got {tolerance!r}")
     missing = [c for c in ("speed_mean_rpm", "speed_min_rpm", "speed_max_rpm",
                            "torque_mean_Nm", "energy_swing_J", "flag") if c not in cycles]
     if missing:
@@ -455,6 +560,7 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
     swing_t = _finite(clean["energy_swing_J"])
     has_torque = bool(np.any(np.isfinite(_finite(clean["torque_mean_Nm"])) &
                              np.isfinite(swing_t)))
+    has_speed = bool(np.any(np.isfinite(w_mean)))
     chosen = method or ("torque" if has_torque else "speed")
     if chosen == "torque" and not has_torque:
         raise DataError("method 'torque' needs the torque channel, but the per-cycle table "
@@ -464,14 +570,18 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
         "method": chosen, "method_chosen_by": "caller" if method else "auto",
         "quantile": q, "n_boot": int(n_boot), "seed": int(seed), "torque_role": torque_role,
         "revs_per_cycle": int(revs_per_cycle), "cs_definition": "(w_max - w_min) / w_mean",
-        "energy_swing_relation": "dE = I * Cs * w_mean^2",
+        "energy_swing_relation": "dE = I * Cs * w_mean^2", "tolerance_rel": tolerance,
+        "hours_per_year": hours_per_year,
+        "model_cycle": "mean cycle, load fluctuation scaled to the median per-cycle energy "
+                       "swing (check, now/after) or the design swing (sizing)",
     }
 
-    # existing inertia: given, or identified from the mean cycle
+    # existing inertia: identified on the log (evidence) or given
     rotor = motor.referred_inertia if motor is not None else 0.0
     identified: IdentifyResult | None = None
     mc_ok = (mean_cycle is not None and {"angle", "torque_mean", "speed_mean"} <=
-             set(mean_cycle.columns))
+             set(mean_cycle.columns)
+             and bool(np.all(np.isfinite(mean_cycle["speed_mean"].to_numpy(float)))))
     if mc_ok and chosen == "torque":
         try:
             identified = identify_inertia_cycle(
@@ -479,26 +589,31 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
                 mean_cycle["speed_mean"].to_numpy(float), torque_role=torque_role,
                 revs_per_cycle=int(revs_per_cycle))
         except DataError as exc:
-            messages.append(f"the existing inertia could not be identified from the mean "
-                            f"cycle: {exc}")
+            messages.append(f"the log cannot separate the inertia from the drive slope: {exc}")
+    given = float(existing_inertia) + rotor if existing_inertia is not None else None
     total_existing: float | None
-    if existing_inertia is not None:
-        total_existing = float(existing_inertia) + rotor
-        options["existing_inertia_source"] = "given"
+    if identified is not None:
+        total_existing = identified.inertia
+        source = "identified on the log's mean cycle"
+        if given is not None:
+            gap = identified.inertia / given - 1.0 if given > 0 else math.inf
+            if abs(gap) > INERTIA_CONFLICT_REL:
+                messages.append(
+                    f"the given inertia {given:.4g} kg m^2 and the inertia identified on the "
+                    f"log {identified.inertia:.4g} kg m^2 are {abs(gap):.0%} apart: the "
+                    f"identified value is used, because the log is evidence of what turns "
+                    f"with the shaft; check what the given figure includes")
+            else:
+                messages.append(f"the log's inertia {identified.inertia:.4g} kg m^2 agrees "
+                                f"with the given {given:.4g} kg m^2 within {abs(gap):.0%}")
+    elif given is not None:
+        total_existing, source = given, "given"
         if rotor > 0:
             messages.append(f"the existing inertia includes the motor rotor referred to the "
                             f"logged shaft ({rotor:.4g} kg m^2)")
-        if identified is not None:
-            messages.append(f"the log suggests a total inertia of {identified.inertia:.4g} "
-                            f"kg m^2 (given: {total_existing:.4g} kg m^2)")
-    elif identified is not None:
-        total_existing = identified.inertia
-        options["existing_inertia_source"] = "identified from the mean cycle"
-        messages.append(f"existing inertia identified from the log: {identified.inertia:.4g} "
-                        f"kg m^2 (R² {identified.r2:.3f})")
     else:
-        total_existing = None
-        options["existing_inertia_source"] = None
+        total_existing, source = None, None
+    options["existing_inertia_source"] = source
 
     # per-cycle energy swings
     if chosen == "speed":
@@ -511,7 +626,7 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
         options["energy_swing_source"] = "energy_swing_J from the logged torque"
     swings = np.asarray(swings, dtype=float)
     use = np.isfinite(swings)
-    if np.any(np.isfinite(w_mean)):
+    if has_speed:
         use &= np.isfinite(w_mean)
         per_cycle_speed: np.ndarray | float = w_mean[use]
         options["speed_source"] = "mean of speed_mean_rpm over the cycles used"
@@ -519,8 +634,9 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
         per_cycle_speed = float(speed)
         options["speed_source"] = "given"
     else:
-        raise DataError("the per-cycle table has no speed_mean_rpm values; give the mean "
-                        "speed ([machine] speed_rpm or --speed) to size from a torque-only log")
+        raise DataError("the log has torque but no speed, and no speed was given: give the "
+                        "mean speed (--nominal-speed or [machine] speed_rpm) to size from a "
+                        "torque-only log")
     if not np.any(use):
         raise DataError("no clean cycle has an energy swing and a mean speed to size from")
     e_used = swings[use]
@@ -530,101 +646,111 @@ def size_from_cycles(cycles: pd.DataFrame, mean_cycle: pd.DataFrame | None = Non
         messages.append(f"only {n_used} clean cycles: the design swing and its interval are "
                         f"rough (20 or more cycles is common practice)")
     e_design = design_energy_swing(e_used, q)
-    i_req = float(required_inertia(e_design, cs, wbar))
-    ci = bootstrap_ci(e_used, per_cycle_speed, target_cs=cs, quantile=q, n_boot=n_boot,
-                      seed=seed)
+    bound = float(required_inertia(e_design, cs, wbar))
+    bound_ci = bootstrap_ci(e_used, per_cycle_speed, target_cs=cs, quantile=q, n_boot=n_boot,
+                            seed=seed)
+    options["interval"] = ("cycle scatter: percentile bootstrap over cycles")
+    if q != "max" and q < 1.0 and n_used >= 10 and np.all(e_used > 0):
+        # the wider of the bootstrap and the log-normal (noncentral t) interval of the swing
+        p_lo, p_hi = quantile_interval_lognormal(e_used, float(q))
+        bound_ci = (min(bound_ci[0], bound * p_lo / e_design),
+                    max(bound_ci[1], bound * p_hi / e_design))
+        options["interval"] = ("cycle scatter: the wider of a percentile bootstrap over "
+                               "cycles and a log-normal noncentral-t interval of the design "
+                               "quantile (Hahn & Meeker)")
+    options["interval"] += ("; drive slope: ±1.96 standard errors of the fit; model error: "
+                            "target moved by the measured/model Cs ratio; combined in "
+                            "quadrature on each side (GUM)")
+    cs_all = _finite(clean["cs"]) if "cs" in clean else np.array([])
+    cs_all = cs_all[np.isfinite(cs_all)]
+    cs_measured = float(np.median(cs_all)) if has_speed and cs_all.size else None
+    measured = {f"speed_{name}_rpm_measured": (float(np.median(x[np.isfinite(x)])) * _RPM
+                                                if np.any(np.isfinite(x)) else None)
+                for name, x in (("min", w_min), ("max", w_max))}
 
+    rec = recommend(
+        mean_cycle if mc_ok or (mean_cycle is not None and "torque_mean" in mean_cycle)
+        else None, fit=identified, motor=motor, existing=total_existing,
+        existing_source=f"the {source} inertia" if source else "",
+        target_cs=cs, cs_measured=cs_measured, swing_median=float(np.median(e_used)),
+        swing_design=e_design, bound=bound, bound_ci=bound_ci, torque_role=torque_role,
+        revs=int(revs_per_cycle), tolerance=tolerance, hours_per_year=hours_per_year,
+        measured=measured, messages=messages) if chosen == "torque" else None
+    if rec is None:
+        rec = {"model": "constant drive", "required": bound, "ci95": bound_ci,
+               "model_reason": ("the log has no torque channel, so the energy swing comes "
+                                "from the speed and the given inertia, and no drive model can "
+                                "be run; " + BOUND_NOTE),
+               "ci95_parts": {"cycle_scatter_kgm2": [bound_ci[0] - bound,
+                                                     bound_ci[1] - bound]}}
+    i_req = float(rec["required"])
+    model_inertia = (rec.get("model_params") or {}).get("inertia_kgm2")
+    if rec["model"] != "constant drive" and model_inertia is not None:
+        total_existing = float(model_inertia)
+    elif identified is not None and given is not None:
+        total_existing = given
+        options["existing_inertia_source"] = "given"
+        messages.append(f"no model explains the log, so its identified inertia is not "
+                        f"trusted either: the given {given:.4g} kg m^2 is used")
     added: float | None = None
+    added_ci: tuple[float, float] | None = None
     if total_existing is not None:
         added = max(i_req - total_existing, 0.0)
+        se_i = (rec.get("model_params") or {}).get("inertia_se_kgm2") or 0.0
+        if rec["model"] == "constant drive" and identified is not None:
+            se_i = identified.inertia_se
+        lo, hi = rec["ci95"]
+        d_lo, d_hi = i_req - lo, hi - i_req
+        h = 1.959963984540054 * se_i
+        added_ci = (max(i_req - total_existing - math.hypot(d_lo, h), 0.0),
+                    max(i_req - total_existing + math.hypot(d_hi, h), 0.0))
         if added == 0.0:
-            messages.append(f"the machine already meets Cs ≤ {cs:g} with its existing "
-                            f"inertia (required {i_req:.4g} kg m^2, existing "
-                            f"{total_existing:.4g} kg m^2); no inertia needs adding")
+            extra = (f", measured Cs {cs_measured:.4g}" if cs_measured is not None else "")
+            messages.append(f"nothing to add: the machine already meets Cs ≤ {cs:g} with its "
+                            f"existing inertia (required {i_req:.4g} kg m^2, existing "
+                            f"{total_existing:.4g} kg m^2{extra})")
     else:
-        messages.append("no existing inertia given: the required inertia is the total at the "
-                        "logged shaft, existing parts included")
+        messages.append("no existing inertia given or identified: the required inertia is "
+                        "the total at the logged shaft, existing parts included")
     if ratio != 1.0 and added is not None:
         messages.append(f"on a flywheel shaft turning {ratio:g} × the logged shaft the added "
                         f"inertia is {added / ratio ** 2:.4g} kg m^2 (I/r²)")
-
-    drive, curve = None, None
-    if motor is not None:
-        drive, curve = _drive_block(mean_cycle, motor, total_existing, added, cs,
-                                    torque_role, int(revs_per_cycle), messages)
+    nameplate_slope = motor.slope if motor is not None else None
+    mp = rec.get("model_params") or {}
+    if (nameplate_slope is not None and mp.get("name") == "calibrated drive"
+            and torque_role == "load"):
+        gap = nameplate_slope / mp["slope_Nms_per_rad"] - 1.0
+        verb = "disagrees with" if abs(gap) > NAMEPLATE_AGREES_REL else "agrees with"
+        messages.append(f"the nameplate motor's slope {nameplate_slope:.4g} N m s/rad "
+                        f"{verb} the log's {mp['slope_Nms_per_rad']:.4g} ± "
+                        f"{mp['slope_se_Nms_per_rad']:.2g} N m s/rad ({gap:+.0%})"
+                        + ("; the log's slope is used" if rec["model"] == "calibrated drive"
+                           else ""))
     options["flywheel_speed_ratio"] = ratio
     return SizeResult(
         method=chosen, target_cs=cs, speed_mean=wbar, design_energy_swing=e_design,
-        quantile=q, required_inertia=i_req, ci95=ci, existing_inertia=total_existing,
-        added_inertia=added, flywheel_speed_ratio=ratio, cycles_used=n_used,
-        identified=identified.to_dict() if identified is not None else None, drive=drive,
-        messages=tuple(messages), cautions=CAUTIONS, options=options, curve=curve)
-
-
-def _drive_block(mean_cycle: pd.DataFrame | None, motor: MotorModel,
-                 total_existing: float | None, added: float | None, cs: float,
-                 torque_role: str, revs_per_cycle: int,
-                 messages: list[str]) -> tuple[dict[str, Any] | None, pd.DataFrame | None]:
-    """Simulate the motor drive over a grid of added inertia (for size_from_cycles)."""
-    if torque_role != "load":
-        messages.append("no motor simulation: the logged torque is the drive torque (engine "
-                        "log), not the load a motor drives")
-        return None, None
-    if (mean_cycle is None or "torque_mean" not in mean_cycle
-            or not np.all(np.isfinite(mean_cycle["torque_mean"].to_numpy(float)))):
-        messages.append("no motor simulation: it needs the mean cycle with the load torque")
-        return None, None
-    if total_existing is None or added is None:
-        messages.append("no motor simulation: the existing inertia is unknown")
-        return None, None
-    base = total_existing - motor.referred_inertia
-    if base <= 0:
-        messages.append("no motor simulation: the existing inertia is not larger than the "
-                        "motor rotor's")
-        return None, None
-    top = 2.0 * added if added > 0 else total_existing
-    grid = np.unique(np.append(np.linspace(0.0, top, 9), added))
-    angle = mean_cycle["angle"].to_numpy(float)
-    load = mean_cycle["torque_mean"].to_numpy(float)
-    try:
-        sims: list[DriveCycle] = drive_cycles(angle, load, base, grid, motor, revs_per_cycle)
-    except DataError as exc:
-        messages.append(f"no motor simulation: {exc}")
-        return None, None
-    curve = curve_frame(sims)
-    rec = next(s for s in sims if s.added_inertia == added)
-    cs_curve = curve["cs"].to_numpy()
-    inertia_curve = curve["added_inertia_kgm2"].to_numpy()
-    for_target: float | None
-    below = np.nonzero(cs_curve <= cs)[0]
-    if below.size == 0:
-        for_target = None
-        messages.append(f"with the motor's slip the simulated Cs stays above {cs:g} up to "
-                        f"{inertia_curve[-1]:.4g} kg m^2 added")
-    elif below[0] == 0:
-        for_target = 0.0
-    else:
-        j = int(below[0])
-        c0, c1 = cs_curve[j - 1], cs_curve[j]
-        i0, i1 = inertia_curve[j - 1], inertia_curve[j]
-        for_target = float(i0 + (c0 - cs) * (i1 - i0) / (c0 - c1))
-    messages.append(f"with the motor's slip the simulated Cs at the recommended inertia is "
-                    f"{rec.cs:.4g} (the static estimate assumes a constant drive torque)")
-    messages.extend(f"motor: {m}" for m in rec.messages)
-    drive = {
-        "motor": motor.to_dict(),
-        "existing": sims[0].to_dict(),
-        "recommended": rec.to_dict(),
-        "added_inertia_for_target_cs_kgm2": for_target,
-        "curve": curve.to_dict(orient="records"),
-    }
-    return drive, curve
+        quantile=q, required_inertia=i_req, ci95=tuple(rec["ci95"]),
+        existing_inertia=total_existing, added_inertia=added, flywheel_speed_ratio=ratio,
+        cycles_used=n_used,
+        identified=identified.to_dict() if identified is not None else None,
+        drive=rec.get("drive"), messages=tuple(messages), cautions=CAUTIONS, options=options,
+        curve=rec.get("curve"), model=rec["model"], model_reason=rec["model_reason"],
+        cs_measured=cs_measured,
+        validation=(rec["validation"].to_dict() | {"model": (rec.get("model_params") or {})
+                                                   .get("name")}
+                    if rec.get("validation") is not None else None),
+        candidates=tuple(rec.get("candidates", ())), model_params=rec.get("model_params"),
+        bound_required_inertia=bound, bound_ci95=bound_ci,
+        ci95_parts=rec["ci95_parts"], added_ci95=added_ci, nameplate_slope=nameplate_slope,
+        now=rec.get("now"), after=rec.get("after"))
 
 
 def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None,
              machine_class: str | None = None, quantile: float | str = 0.95,
              motor: Mapping[str, float] | None = None,
-             flywheel_speed_ratio: float | None = None, seed: int = 0) -> SizeResult:
+             flywheel_speed_ratio: float | None = None, seed: int = 0,
+             tolerance: float = TOLERANCE_REL,
+             hours_per_year: float = HOURS_PER_YEAR) -> SizeResult:
     """Size a flywheel from the cycles of one log and a machine profile.
 
     The values given here win over the profile's; this is what ``torqlog size`` and the
@@ -651,6 +777,10 @@ def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None
         Flywheel shaft speed / logged shaft speed (default: profile, else 1).
     seed : int
         Bootstrap seed.
+    tolerance : float
+        Relative Cs error within which a drive model explains the log.
+    hours_per_year : float [h]
+        Running hours per year for the copper-loss change.
 
     Returns
     -------
@@ -676,13 +806,23 @@ def size_log(cycles: Any, profile: Any = None, *, target_cs: float | None = None
     motor_kw = dict(profile.motor) if profile is not None else {}
     motor_kw.update({k: v for k, v in (motor or {}).items() if v is not None})
     model = MotorModel.from_profile(motor_kw) if motor_kw else None
-    ratio = flywheel_speed_ratio or machine.get("flywheel_speed_ratio", 1.0)
+    ratio = (flywheel_speed_ratio if flywheel_speed_ratio is not None
+             else machine.get("flywheel_speed_ratio", 1.0))
     o = cycles.options
+    summary = cycles.summary
+    if not summary.get("cycles"):
+        flags = ", ".join(f"{k} {v}" for k, v in (summary.get("flags") or {}).items())
+        raise DataError(f"{cycles.source}: no clean cycles to size from: all "
+                        f"{summary.get('cycles_total', 0)} cycles are flagged"
+                        + (f" ({flags})" if flags else "")
+                        + "; see the flag column of 'torqlog cycles' and fix the log or how "
+                          "it is read")
     return size_from_cycles(cycles.table, cycles.mean_cycle, target_cs=target_cs,
                             quantile=quantile, existing_inertia=o["inertia"],
                             flywheel_speed_ratio=ratio, motor=model,
                             revs_per_cycle=o["revs_per_cycle"], seed=seed,
-                            torque_role=o["torque_role"], speed=o.get("nominal_speed"))
+                            torque_role=o["torque_role"], speed=o.get("nominal_speed"),
+                            tolerance=tolerance, hours_per_year=hours_per_year)
 
 
 def size_log_dict(result: SizeResult, cycles: Any) -> dict[str, Any]:

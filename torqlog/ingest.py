@@ -21,6 +21,7 @@ import math
 import queue
 import re
 import threading
+import zlib
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
@@ -307,9 +308,21 @@ class LogReader:
         if lay.kind == "parquet":
             import pyarrow.parquet as pq
 
-            pf = pq.ParquetFile(lay.path)
-            yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
-                                       columns=[c.name for c in wanted])
+            try:
+                pf = pq.ParquetFile(lay.path)
+                yield from pf.iter_batches(batch_size=min(self.block_rows, 65536),
+                                           columns=[c.name for c in wanted])
+            except (OSError, ValueError, pa.ArrowException) as exc:  # pyarrow's own types
+                raise DataError(f"{lay.path}: not a readable Parquet file ("
+                                f"{_first_line(exc)}); check that the file is complete") \
+                    from None
+            return
+        if lay.kind in ("mdf4", "hdf5"):
+            from torqlog.read_hdf import iter_hdf_batches
+            from torqlog.read_mdf import iter_mdf_batches
+
+            read = iter_mdf_batches if lay.kind == "mdf4" else iter_hdf_batches
+            yield from read(lay, [c.name for c in wanted])
             return
         names = [c.name for c in lay.columns]
         types: dict[str, pa.DataType] = {}
@@ -337,6 +350,17 @@ class LogReader:
             yield from reader
         except pa.ArrowInvalid as exc:
             raise _explain_arrow_error(lay, wanted, exc) from None
+        except (OSError, EOFError, pa.ArrowException) as exc:
+            gz = lay.path.lower().endswith(".gz")
+            raise DataError(f"{lay.path}: cannot be read {'as gzip ' if gz else ''}to the end "
+                            f"({_first_line(exc)}); the file is damaged or was cut short: "
+                            "export or copy it again") from None
+
+
+def _first_line(exc: BaseException) -> str:
+    """First line of an exception's message, at most 120 characters."""
+    text = (str(exc).strip().splitlines() or [type(exc).__name__])[0]
+    return text if len(text) <= 120 else text[:117] + "..."
 
 
 def _numbers(arr: pa.Array | pa.ChunkedArray, dtype: type = np.float64) -> np.ndarray:
@@ -384,33 +408,47 @@ def _explain_arrow_error(lay: Layout, wanted: list[Column], exc: Exception) -> D
         m2 = re.search(r"Expected (\d+) columns, got (\d+): (.*)", msg)
         if m2:
             return DataError(f"{lay.path}: a row has {m2.group(2)} fields where the header has "
-                             f"{m2.group(1)}: {m2.group(3)[:60]!r}; fix or remove that row")
+                             f"{m2.group(1)}: {_show(m2.group(3))}; fix or remove that row")
     if m:
         col = lay.columns[int(m.group(1))] if int(m.group(1)) < len(lay.columns) else None
         bad = m.group(2)
         line = _find_line(lay, col, bad) if col is not None else None
         where = f"line {line}, " if line else ""
         cname = col.name if col else f"#{m.group(1)}"
+        if "\x00" in bad:
+            return DataError(f"{lay.path}: {where}column {cname!r}: the value holds "
+                             f"{bad.count(chr(0))} NUL byte(s), binary data inside the text; "
+                             "the file is damaged: export or copy it again")
         if col is not None and col.role == "time" and lay.time_kind == "timestamp":
-            return DataError(f"{lay.path}: {where}column {cname!r}: {bad!r} is not an ISO-8601 "
-                             "timestamp; fix the value or remove the row")
-        return DataError(f"{lay.path}: {where}column {cname!r}: {bad!r} is not a number; "
+            return DataError(f"{lay.path}: {where}column {cname!r}: {_show(bad)} is not an "
+                             "ISO-8601 timestamp; fix the value or remove the row")
+        return DataError(f"{lay.path}: {where}column {cname!r}: {_show(bad)} is not a number; "
                          "fix the value or remove the row")
     return DataError(f"{lay.path}: cannot parse the file ({msg.splitlines()[0]})")
+
+
+def _show(value: str, width: int = 40) -> str:
+    """A bad value for a message: quoted, runs of NUL bytes counted, at most ``width``
+    characters of it."""
+    text = re.sub(r"\x00+", lambda m: f"<{len(m.group())} NUL>", value)
+    return repr(text if len(text) <= width else text[:width] + "...")
 
 
 def _find_line(lay: Layout, col: Column, bad: str) -> int | None:
     """Slow search for the line holding a bad value (error path only)."""
     idx = [c.name for c in lay.columns].index(col.name)
     opener = gzip.open if lay.path.lower().endswith(".gz") else open
-    enc = "utf-8" if lay.encoding == "utf8" else "latin-1"
-    with opener(lay.path, "rt", encoding=enc, errors="replace") as fh:
-        for n, line in enumerate(fh, start=1):
-            if n <= lay.skip_rows:
-                continue
-            f = split_fields(line.rstrip("\r\n"), lay.delimiter)
-            if idx < len(f) and f[idx] == bad:
-                return n
+    enc = {"utf8": "utf-8", "utf-16": "utf-16"}.get(lay.encoding, "latin-1")
+    try:
+        with opener(lay.path, "rt", encoding=enc, errors="replace") as fh:
+            for n, line in enumerate(fh, start=1):
+                if n <= lay.skip_rows:
+                    continue
+                f = split_fields(line.rstrip("\r\n"), lay.delimiter)
+                if idx < len(f) and f[idx] == bad:
+                    return n
+    except (OSError, EOFError, zlib.error):  # a damaged file: the caller still names the value
+        return None
     return None
 
 

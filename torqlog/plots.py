@@ -62,11 +62,24 @@ def style() -> dict:
 
 
 def save(fig: Figure, path: str | Path) -> Path:
-    """Save a figure to PNG (150 dpi) and close it; returns the path."""
+    """Save a figure (150 dpi; PNG, or SVG/PDF by the path's suffix) and close it.
+
+    The file is written to a temporary name beside it and renamed into place
+    (:func:`torqlog.outputs.atomic_path`). Returns the path.
+    """
+    from torqlog.errors import UsageError
+    from torqlog.outputs import atomic_path
+
     p = Path(path)
-    with plt.rc_context(_RC):
-        fig.savefig(p, dpi=150)
-    plt.close(fig)
+    fmt = p.suffix.lower().lstrip(".") or "png"
+    if fmt not in ("png", "svg", "pdf"):
+        plt.close(fig)
+        raise UsageError(f"{p}: a figure file must end in .png, .svg or .pdf")
+    try:
+        with plt.rc_context(_RC), atomic_path(p) as tmp:
+            fig.savefig(tmp, dpi=150, format=fmt)
+    finally:
+        plt.close(fig)
     return p
 
 

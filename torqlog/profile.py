@@ -36,7 +36,7 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
     },
     "flywheel": {
         "shape": (str, None),
-        "material": (str, None),
+        "material": ((str, dict), None),
         "outer_diameter_m": ((int, float), 1.0),
         "bore_m": ((int, float), 1.0),
         "max_width_m": ((int, float), 1.0),
@@ -59,12 +59,19 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "band": ((int, float), 1.0),
         "min_share": ((int, float), 1.0),
     },
+    "output": {
+        "units": (str, None),
+    },
     "shifts": {
         "starts": (list, None),
         "names": (list, None),
         "timezone": (str, None),
     },
 }
+
+#: Numeric keys for which zero makes sense (a solid disc has no bore); every other
+#: numeric key must be positive.
+_ZERO_OK = frozenset({"bore_m", "interference_m"})
 
 _SEGMENT_KEYS = {"length_m", "diameter_m", "bore_m", "material"}
 _MASS_KEYS = {"name", "mass_kg", "at_m", "inertia_kgm2"}
@@ -78,7 +85,7 @@ class MachineProfile:
     ----------
     source : str
         Path of the TOML file ("" when built in code).
-    machine, motor, flywheel, shaft, torsional, shifts : dict
+    machine, motor, flywheel, shaft, torsional, shifts, output : dict
         One dict per section. Numeric values are SI and the keys lose their unit
         suffix (``speed_rpm`` becomes ``speed`` [rad/s], ``inertia_kgm2`` becomes
         ``inertia`` [kg*m^2], ``power_kW`` becomes ``power`` [W]); lists and text keep
@@ -92,6 +99,7 @@ class MachineProfile:
     shaft: dict[str, Any] = field(default_factory=dict)
     torsional: dict[str, Any] = field(default_factory=dict)
     shifts: dict[str, Any] = field(default_factory=dict)
+    output: dict[str, Any] = field(default_factory=dict)
     raw: dict[str, Any] = field(default_factory=dict)
 
 
@@ -103,6 +111,21 @@ def _plain(key: str) -> str:
         if key.endswith(suf):
             return key[: -len(suf)]
     return key
+
+
+def _with_unit(text: str, key: str, sec: str, source: str) -> float:
+    """A number written with its unit (``outer_diameter_m = "55 in"``) in the key's unit."""
+    from torqlog.units import KEY_UNITS, registry
+
+    suffix = next((s for s in sorted(KEY_UNITS, key=len, reverse=True)
+                   if key.endswith(s)), None)
+    unit = KEY_UNITS[suffix][1] if suffix else ""
+    try:
+        return float(registry().Quantity(text).to(unit).magnitude)
+    except Exception:  # noqa: BLE001 - pint raises several types for bad text
+        raise DataError(f"{source}: [{sec}] {key} = {text!r}: give a number in "
+                        f"{unit or 'no unit'}, or a number with a unit of that kind "
+                        f"(e.g. \"1.2 {unit}\")") from None
 
 
 def _check_table(items: list, allowed: set[str], where: str, path: str) -> None:
@@ -138,6 +161,8 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
                 raise DataError(f"{source}: unknown key {key!r} in [{sec}]; valid keys: "
                                 f"{', '.join(_SCHEMA[sec])}")
             typ, factor = _SCHEMA[sec][key]
+            if isinstance(value, str) and typ == (int, float) and factor is not None:
+                value = _with_unit(value, key, sec, source)
             if typ in ((int, float), int) and isinstance(value, bool):
                 raise DataError(f"{source}: [{sec}] {key} must be a number, not {value!r}")
             if not isinstance(value, typ):
@@ -145,6 +170,11 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
                                 f"({type(value).__name__}); give a "
                                 f"{'number' if factor is not None else typ.__name__}")
             if factor is not None:
+                least = "zero or more" if key in _ZERO_OK else "greater than zero"
+                if not math.isfinite(value) or value < 0 or (value == 0 and
+                                                             key not in _ZERO_OK):
+                    raise DataError(f"{source}: [{sec}] {key} must be {least}, got {value!r}; "
+                                    "fix the profile")
                 out[_plain(key)] = float(value) * factor
             else:
                 out[key] = value
@@ -157,6 +187,9 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
     if role is not None and role not in ("load", "drive"):
         raise DataError(f"{source}: [machine] torque_role must be \"load\" or \"drive\", "
                         f"got {role!r}")
+    units = sections.get("output", {}).get("units")
+    if units is not None and units not in ("si", "us"):
+        raise DataError(f"{source}: [output] units must be \"si\" or \"us\", got {units!r}")
     rpc = sections.get("machine", {}).get("revs_per_cycle")
     if rpc is not None and rpc < 1:
         raise DataError(f"{source}: [machine] revs_per_cycle must be 1 or more, got {rpc}")

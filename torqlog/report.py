@@ -38,7 +38,7 @@ from typing import Any
 import numpy as np
 
 from torqlog import __version__
-from torqlog.errors import TorqlogError
+from torqlog.errors import DataError, TorqlogError
 
 #: Caution every report carries, whatever the stages found (DESIGN.md, Safety).
 GENERAL_CAUTION = (
@@ -114,6 +114,9 @@ class ReportData:
         Things the reader should know.
     version, created : str
         torqlog version and the UTC time the report was built.
+    failed_logs : list of dict
+        ``{"file", "reason"}`` of every log that could not be read; the report is built
+        from the others (each also has a ``skipped`` entry).
     """
 
     machine: str
@@ -131,6 +134,7 @@ class ReportData:
     notes: list[str]
     version: str
     created: str
+    failed_logs: list[dict[str, str]] = field(default_factory=list)
 
     @property
     def design(self) -> dict[str, Any]:
@@ -291,18 +295,30 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
 
     entries: list[dict[str, Any]] = []
     results = []
-    for i, log in enumerate(logs):
-        # chunks of the cycle stage's size, read in turn: the survey's buffers stay small
-        survey = survey_log(log, nominal_speed=opts.nominal_speed, block_rows=opts.block_rows,
-                            read_ahead=False, **read)
-        # memory stays flat: only the design log keeps its rows (the sizing resamples
-        # every clean cycle); the others keep their summary, and no entry holds rows
-        res = analyse_cycles(log, opts, keep_rows=i == 0, **read)
+    failed: list[dict[str, str]] = []
+    for log in logs:
+        try:  # one bad log among several: keep the others, name the bad one
+            # chunks of the cycle stage's size, read in turn: the survey's buffers stay
+            # small; only the design log (the first good one) keeps its rows, for the
+            # sizing's bootstrap over every clean cycle, and no entry holds rows
+            survey = survey_log(log, nominal_speed=opts.nominal_speed,
+                                block_rows=opts.block_rows, read_ahead=False, **read)
+            res = analyse_cycles(log, opts, keep_rows=not results, **read)
+        except DataError as exc:
+            if len(logs) == 1:
+                raise
+            failed.append({"file": str(log), "reason": str(exc)})
+            skipped[f"log {log}"] = f"left out: {exc}"
+            continue
         results.append(res)
         entries.append({"path": str(log), "name": Path(log).name,
                         "sha256": file_sha256(log), "bytes": Path(log).stat().st_size,
                         "inspect": _plain(survey.to_dict()),
                         "cycles": _plain(res.to_dict(rows=False))})
+    if not results:
+        raise DataError("no log could be used: "
+                        + "; ".join(f["reason"] for f in failed))
+    logs = [e["path"] for e in entries]
     design = results[0]
     if len(logs) > 1:
         notes.append(f"{len(logs)} logs: the recommendation, flywheel and shaft checks are "
@@ -439,7 +455,8 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
         logs=entries, spectrum=_plain(spectrum.to_dict()) if spectrum is not None else None,
         size=size, flywheel=fw, shaft=shaft, trend=trend, skipped=skipped,
         options=_plain(options), figures=figures, cautions=cautions, notes=notes,
-        version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"))
+        version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
+        failed_logs=failed)
 
 
 def _run_trend(logs: Sequence[str | Path], prof: Any, opts: Any, read: dict[str, Any],
@@ -670,8 +687,10 @@ def write_pdf(data: ReportData, path: str | Path) -> Path:
     for line in report_text(data):
         wrapped += textwrap.wrap(line, 100, subsequent_indent="    ") or [""]
     per_page = 62
+    from torqlog.outputs import atomic_path
+
     p = Path(path)
-    with plt.rc_context(style()), PdfPages(p) as pdf:
+    with plt.rc_context(style()), atomic_path(p) as tmp, PdfPages(tmp) as pdf:
         info = pdf.infodict()
         info["Title"] = f"torqlog report: {data.machine}"
         info["Creator"] = f"torqlog {data.version}"
@@ -700,8 +719,9 @@ def write_pdf(data: ReportData, path: str | Path) -> Path:
 def write_report(data: ReportData, html: str | Path, pdf: str | Path | None = None
                  ) -> list[Path]:
     """Write the HTML report (and the PDF); returns the files written."""
-    out = Path(html)
-    out.write_text(render_html(data), encoding="utf-8")
+    from torqlog.outputs import write_text
+
+    out = write_text(html, render_html(data))
     written = [out]
     if pdf is not None:
         written.append(write_pdf(data, pdf))

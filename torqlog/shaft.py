@@ -54,6 +54,7 @@ from torqlog.beam import (
     solve_static,
 )
 from torqlog.errors import DataError, UsageError
+from torqlog.notebook import result_html
 from torqlog.profile import MachineProfile
 from torqlog.torsion import (
     ASSUMED_MAX_ORDER,
@@ -520,6 +521,8 @@ class LateralResult:
     deflection: np.ndarray = field(repr=False)  # static deflection [m]
     mode_shapes: np.ndarray = field(repr=False)  # (n_modes, n_nodes)
 
+    _repr_html_ = result_html  # the notebook view
+
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract (frequencies in Hz, deflection in mm)."""
         return {
@@ -643,6 +646,8 @@ class ShaftResult:
                          for i, (f, r) in enumerate(zip(tor.modes_hz, tor.rigid_body,
                                                         strict=True))]
         return pd.DataFrame(rows, columns=["state", "check", "estimate", "frequency_Hz"])
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         cur = self.current.to_dict()

@@ -40,6 +40,7 @@ from scipy.integrate import solve_ivp
 
 from torqlog.errors import UsageError
 from torqlog.machines import PROFILE_PARTS, DemoMachine, get_machine
+from torqlog.notebook import result_html
 from torqlog.units import si_factor
 
 #: Channels :func:`simulate` can produce, in the order they appear in the data.
@@ -199,6 +200,8 @@ class SimulatedLog:
     def rate(self) -> float:
         """Sample rate [Hz]."""
         return float(self.options["rate"])
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """Summary for JSON output: machine, rows, duration, channels, options."""
@@ -437,8 +440,8 @@ def _table(log: SimulatedLog, dialect: str) -> pd.DataFrame:
     return pd.DataFrame(out)
 
 
-def _open_text(path: Path) -> io.TextIOBase:
-    if path.suffix == ".gz":
+def _open_text(path: Path, gz: bool) -> io.TextIOBase:
+    if gz:
         raw = gzip.GzipFile(filename="", mode="wb", fileobj=open(path, "wb"), mtime=0)
         return io.TextIOWrapper(raw, encoding="utf-8", newline="")
     return open(path, "w", encoding="utf-8", newline="")
@@ -477,9 +480,13 @@ def write_log(log: SimulatedLog, path: str | Path, dialect: str = "comma") -> Pa
         For an unknown dialect, or a log with gaps in the ``preamble`` dialect (which
         has no time column).
     """
+    from torqlog.outputs import atomic_path
+
     p = Path(path)
     if p.suffix == ".parquet":
-        return _write_parquet(log, p)
+        with atomic_path(p) as tmp:
+            _write_parquet(log, tmp)
+        return p
     if dialect not in DIALECTS:
         raise UsageError(f"unknown dialect {dialect!r}; valid dialects: {', '.join(DIALECTS)}")
     if dialect == "preamble" and log.options.get("gaps", 0):
@@ -487,7 +494,7 @@ def write_log(log: SimulatedLog, path: str | Path, dialect: str = "comma") -> Pa
                          "cannot be written in it; use gaps=0 or another dialect")
     table = _table(log, dialect)
     cols = list(table.columns)
-    with _open_text(p) as fh:
+    with atomic_path(p) as tmp, _open_text(tmp, p.suffix == ".gz") as fh:
         if dialect == "comma":
             table.to_csv(fh, index=False, header=[_COMMA_NAMES[c] for c in cols],
                          lineterminator="\n")

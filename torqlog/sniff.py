@@ -18,6 +18,7 @@ from __future__ import annotations
 import datetime
 import gzip
 import re
+import zlib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -25,7 +26,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from torqlog.errors import DataError, UsageError
-from torqlog.units import si_factor
+from torqlog.units import is_unit, looks_like_unit_of, si_factor
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -99,11 +100,11 @@ class Layout:
     path : str
         The file.
     kind : str
-        "csv" or "parquet".
+        "csv", "parquet", "mdf4" or "hdf5".
     delimiter, decimal : str
         Field delimiter and decimal mark.
     encoding : str
-        Text encoding ("utf8" or "latin1").
+        Text encoding ("utf8", "latin1" or "utf-16").
     skip_rows : int
         Lines before the first data row (preamble, header, unit row).
     columns : tuple of Column
@@ -160,11 +161,19 @@ def _read_head(path: Path) -> tuple[str, str, bool]:
     try:
         with opener(path, "rb") as fh:
             raw = fh.read(_SNIFF_BYTES)
-    except (OSError, EOFError) as exc:
+    except (OSError, EOFError, zlib.error) as exc:
         raise DataError(f"{path}: cannot be read as {'gzip' if opener is gzip.open else 'a file'}"
                         f" ({exc}); check that the file is complete") from None
     if not raw.strip():
         raise DataError(f"{path}: the file is empty; export the log again")
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff"):  # UTF-16 with its byte-order mark
+        cut16 = len(raw) >= _SNIFF_BYTES
+        try:
+            text = raw[: len(raw) // 2 * 2].decode("utf-16", errors="strict")
+        except UnicodeDecodeError:
+            raise DataError(f"{path}: starts as UTF-16 text but is not valid UTF-16; save "
+                            "the export again as UTF-8 CSV") from None
+        return text, "utf-16", cut16
     if b"\x00" in raw[:4096]:
         raise DataError(f"{path}: binary content, not a text export; give a CSV, CSV.gz or "
                         "Parquet file")
@@ -202,7 +211,16 @@ def split_fields(line: str, delimiter: str) -> list[str]:
     -------
     list of str
     """
-    return [f.strip().strip('"').strip("'").strip() for f in line.split(delimiter)]
+    if '"' in line:  # quoted fields may hold the delimiter ("12,5" in a comma file)
+        import csv
+
+        try:
+            parts = next(csv.reader([line], delimiter=delimiter), [])
+        except csv.Error:
+            parts = line.split(delimiter)
+    else:
+        parts = line.split(delimiter)
+    return [f.strip().strip('"').strip("'").strip() for f in parts]
 
 
 def _is_num(s: str, decimal: str) -> bool:
@@ -255,8 +273,23 @@ def _detect_role(name: str) -> str | None:
     return None
 
 
+#: Last words of a column name that are words, not units, though pint may read some
+#: of them as one ("in" inch, "min" minute, "a" year): ``speed_in``, ``torque_max``.
+_NOT_UNIT_WORDS = frozenset({"mean", "raw", "filt", "filtered", "avg", "max", "min", "rms",
+                             "in", "out", "act", "actual", "set", "ref", "cmd", "meas",
+                             "motor", "shaft", "crank", "drive", "load", "value", "val",
+                             "abs", "pk", "peak", "sum", "std", "a", "b", "c", "x", "y",
+                             "z", "l", "r"})
+
+
 def _suffix_unit(name: str, role: str | None) -> str:
-    """Unit given as a name suffix: ``time_s``, ``Speed_rpm``, ``speed_rad_s``."""
+    """Unit given as a name suffix: ``time_s``, ``Speed_rpm``, ``speed_rad_s``.
+
+    A last word that is a unit of another kind (``torque_kg``, ``speed_furlongs``) or a
+    misspelt unit of this kind (``torque_kNx``: a torque unit followed by junk) is
+    returned too, so that reading the column fails with a message naming it rather than
+    taking the values as SI.
+    """
     if role is None or role in ("index", "counts"):
         return ""
     parts = name.split("_")
@@ -270,7 +303,15 @@ def _suffix_unit(name: str, role: str | None) -> str:
                 return cand
             except UsageError:
                 continue
-    return ""
+    if len(parts) < 2:
+        return ""
+    last = parts[-1]
+    if (not last or last.lower() in _NOT_UNIT_WORDS or last.isdigit()
+            or _words(last) and _detect_role(last)):
+        return ""
+    if is_unit(last):
+        return last  # a unit, but not of this kind: refused by the caller
+    return last if looks_like_unit_of(last, ROLES[role]) else ""  # kNx: "kN" then junk
 
 
 def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
@@ -281,7 +322,7 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
     Parameters
     ----------
     path : str or Path
-        CSV, CSV.gz or Parquet file.
+        CSV, CSV.gz, Parquet, MDF4 (``.mf4``) or HDF5 (``.h5``) file.
     roles : dict, optional
         Role → column name overrides (``{"torque": "Drehmoment"}``).
     units : dict, optional
@@ -308,6 +349,12 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
             raise UsageError(f"unknown channel role {k!r}; valid: {', '.join(ROLES)}")
     if p.suffix.lower() in (".parquet", ".pq"):
         return _sniff_parquet(p, roles, units, rate, start)
+    from torqlog import read_hdf, read_mdf
+
+    if p.suffix.lower() in read_mdf.SUFFIXES:
+        return read_mdf.sniff_mdf(p, roles, units, rate, start)
+    if p.suffix.lower() in read_hdf.SUFFIXES:
+        return read_hdf.sniff_hdf(p, roles, units, rate, start)
     text, enc, cut = _read_head(p)
     # pyarrow ends lines at \n, \r and \r\n only; str.splitlines() would also split at
     # \x85, \x0c, \u2028 ... and shift every line number (and skip_rows) after them
@@ -346,6 +393,8 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
     sample = [split_fields(ln, delim) for ln in lines[data_start:data_start + 50] if ln.strip()]
     if delim == ";" and any("," in x for row in sample for x in row):
         decimal = ","
+    if delim == "," and any("," in x for row in sample for x in row):
+        decimal = ","  # "12,5","46,2": decimal commas inside quoted fields
     header_idx = data_start - 1
     unit_row: list[str] | None = None
     while header_idx >= 0 and not lines[header_idx].strip():
@@ -360,6 +409,14 @@ def sniff_layout(path: str | Path, *, roles: dict[str, str] | None = None,
         unit_row = cand
         header_idx = prev
     header = split_fields(lines[header_idx], delim)
+    if len(header) != n_fields and all(_is_value(x, ",") for x in header):
+        # a short or long data row right under the header, not a header
+        head = next((i for i in range(header_idx - 1, -1, -1) if lines[i].strip()), None)
+        where = (f"the header (line {head + 1}) and the other rows have" if head is not None
+                 and len(split_fields(lines[head], delim)) == n_fields else
+                 "the other rows have")
+        raise DataError(f"{p}: line {header_idx + 1}: a data row has {len(header)} fields "
+                        f"where {where} {n_fields}; fix or remove that row")
     if len(header) != n_fields:
         raise DataError(f"{p}: line {header_idx + 1}: the header has {len(header)} fields but "
                         f"the data rows have {n_fields}; check the delimiter")
@@ -540,12 +597,17 @@ def _sniff_parquet(p: Path, roles: dict[str, str], units: dict[str, str],
     except Exception as exc:  # noqa: BLE001 - pyarrow raises several types
         raise DataError(f"{p}: not a readable Parquet file ({exc})") from None
     names = pf.schema_arrow.names
-    first = pf.read_row_group(0, columns=names).slice(0, 1).to_pylist() if pf.num_row_groups \
-        else []
+    try:
+        first = pf.read_row_group(0, columns=names).slice(0, 1).to_pylist() \
+            if pf.num_row_groups else []
+        meta = {k.decode(): v.decode() for k, v in (pf.schema_arrow.metadata or {}).items()
+                if not k.startswith(b"ARROW") and not k.startswith(b"pandas")}
+    except Exception as exc:  # noqa: BLE001 - pyarrow raises several types
+        text = (str(exc).strip().splitlines() or [type(exc).__name__])[0][:120]
+        raise DataError(f"{p}: not a readable Parquet file ({text}); check that the file is "
+                        "complete") from None
     if not first:
         raise DataError(f"{p}: the Parquet file has no rows")
-    meta = {k.decode(): v.decode() for k, v in (pf.schema_arrow.metadata or {}).items()
-            if not k.startswith(b"ARROW") and not k.startswith(b"pandas")}
     values = [first[0][n] for n in names]
     return _build_layout(p, "parquet", ",", ".", "utf8", 0, names, None, meta, roles, units,
                          rate, start, values)

@@ -23,6 +23,7 @@ import numpy as np
 import pandas as pd
 
 from torqlog.errors import DataError, UsageError
+from torqlog.notebook import result_html
 
 if TYPE_CHECKING:
     from torqlog.cycles import CycleResult
@@ -71,6 +72,8 @@ class OrderSpectrum:
         """Columns ``order``, ``amplitude_Nm``, ``share``."""
         return pd.DataFrame({"order": self.order, "amplitude_Nm": self.amplitude,
                              "share": self.share})
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract."""

@@ -6,7 +6,7 @@ logs of any length in bounded memory.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -14,7 +14,9 @@ import numpy as np
 
 from torqlog import condition as cond
 from torqlog.angle import pick_cycle_source
+from torqlog.health import MIN_RUNNING_SPEED
 from torqlog.ingest import Layout, LogReader
+from torqlog.notebook import result_html
 
 _MAX_GAPS_LISTED = 20
 
@@ -35,6 +37,9 @@ class Survey:
     clipped: dict[str, int]
     cycle_source: str | None
     cycle_source_note: str
+    inf_rows: dict[str, int] = field(default_factory=dict)
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """JSON contract of ``torqlog inspect``."""
@@ -58,6 +63,7 @@ class Survey:
             "gaps": {"count": self.gap_count, "longest_s": self.gap_longest,
                      "list": self.gaps},
             "nan_rows": self.nan_rows,
+            "inf_rows": self.inf_rows,
             "clipped_samples": self.clipped,
             "cycle_source": self.cycle_source,
             "cycle_source_note": self.cycle_source_note,
@@ -83,7 +89,9 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
         Sample rate is 1 / median time step [Hz]; jitter is the standard deviation of the
         time step over its median (gaps excluded); a gap is a step longer than
         :data:`torqlog.condition.GAP_FACTOR` median steps; clipped samples sit in runs of
-        :data:`torqlog.condition.CLIP_RUN` or more equal values at the channel's extreme.
+        :data:`torqlog.condition.CLIP_RUN` or more equal values at the channel's extreme
+        (a flat speed below :data:`torqlog.health.MIN_RUNNING_SPEED` is a standing shaft,
+        not clipping); ±inf samples are counted apart (``inf_rows``) and not as NaN.
     """
     reader = LogReader(path, block_rows=block_rows, **read_options)
     lay = reader.layout
@@ -96,6 +104,7 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
     s1 = s2 = 0.0
     ns = 0
     nan_rows = {r: 0 for r in lay.roles}
+    nonfinite: dict[str, int] = {}
     extremes: dict[str, list[float]] = {}
     flats: dict[str, list[np.ndarray]] = {}
     t_end = 0.0
@@ -117,6 +126,10 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
         ns += int(ok.size)
         for role, x in ch.channels.items():
             nan_rows[role] += int(np.isnan(x).sum())
+            inf = np.isinf(x)
+            if inf.any():
+                nonfinite[role] = nonfinite.get(role, 0) + int(inf.sum())
+                x = np.where(inf, np.nan, x)
             if role in ("torque", "speed"):
                 fm = cond.flat_runs(x)
                 if fm.any():
@@ -135,7 +148,10 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
         v = np.concatenate(parts)
         lo, hi = extremes[role]
         if hi > lo:  # a constant channel is flat, not clipped
-            clipped[role] = int(np.sum((v == lo) | (v == hi)))
+            at = (v == lo) | (v == hi)
+            if role == "speed":  # a standing shaft reads a flat zero: a stop, not a rail
+                at &= np.abs(v) >= MIN_RUNNING_SPEED
+            clipped[role] = int(np.sum(at))
     gi = np.concatenate(gap_idx) if gap_idx else np.empty(0, int)
     gd = np.concatenate(gap_dur) if gap_dur else np.empty(0)
     gt = np.concatenate(gap_time) if gap_time else np.empty(0)
@@ -154,4 +170,5 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
     except Exception as exc:  # noqa: BLE001 - reported, not raised, by inspect
         src, note = None, str(exc)
     return Survey(lay, rows, t_end, float(rate), jitter, gaps, int(gi.size),
-                  float(gd.max()) if gd.size else 0.0, nan_rows, clipped, src, note)
+                  float(gd.max()) if gd.size else 0.0, nan_rows, clipped, src, note,
+                  nonfinite)

@@ -34,6 +34,7 @@ import numpy as np
 import scipy.linalg
 
 from torqlog.errors import DataError, UsageError
+from torqlog.notebook import result_html
 from torqlog.profile import MachineProfile
 
 if TYPE_CHECKING:
@@ -235,6 +236,8 @@ class TorsionalResult:
     min_share: float
     verdict: str
     margin_text: str
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract (frequencies in Hz)."""

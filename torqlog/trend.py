@@ -37,6 +37,7 @@ from torqlog.control import (
 )
 from torqlog.cycles import CycleOptions
 from torqlog.errors import DataError, UsageError
+from torqlog.notebook import result_html
 from torqlog.shifts import ShiftCalendar
 
 #: Ways to group cycles into rows.
@@ -386,6 +387,8 @@ class TrendResult:
             elif isinstance(v, np.generic):
                 out[k] = v.item()
         return out
+
+    _repr_html_ = result_html  # the notebook view
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract of ``torqlog trend``."""

@@ -21,6 +21,7 @@ from typing import TYPE_CHECKING
 from torqlog.errors import UsageError
 
 if TYPE_CHECKING:
+    import pandas as pd
     import pint
 
 #: SI unit of each physical kind used in torqlog, as pint understands it.
@@ -39,6 +40,7 @@ SI_UNITS: dict[str, str] = {
     "frequency": "Hz",
     "stiffness_torsional": "N*m/rad",
     "dimensionless": "",
+    "velocity": "m/s",
 }
 
 # Spellings seen in logger exports that pint does not read as meant.
@@ -170,6 +172,65 @@ def si_factor(unit: str, kind: str) -> float:
     return float(f)
 
 
+@functools.lru_cache(maxsize=256)
+def is_unit(text: str) -> bool:
+    """Whether pint reads ``text`` as a unit of any kind (``"kg"``, ``"furlong"``: yes;
+    ``"motor"``: no). Used to tell a unit suffix of a column name from a word.
+
+    Examples
+    --------
+    >>> is_unit("furlong"), is_unit("crank")
+    (True, False)
+    """
+    norm = _normalise(text)
+    if norm == "" or any((norm, k) in _COMMON for k in SI_UNITS):
+        return norm != ""
+    ureg = registry()
+    try:
+        ureg.Quantity(1.0, norm)
+    except Exception:  # noqa: BLE001 - pint raises several types for text it cannot parse
+        return False
+    return True
+
+
+#: Kinds whose unit may begin with a unit of another kind: a torque unit with a force
+#: unit (kN·m), a speed unit with an angle unit (rad/s, deg/s).
+_LEADING_KINDS: dict[str, tuple[str, ...]] = {
+    "torque": ("torque", "force"),
+    "speed": ("speed", "angle"),
+}
+_FORCE_AND_ANGLE = {"force": "N", "angle": "rad"}
+
+
+def looks_like_unit_of(text: str, kind: str) -> bool:
+    """Whether ``text``, which is not a unit, begins with a unit that fits ``kind``.
+
+    ``"kNx"`` begins with ``kN`` (a force, as a torque unit does) and is taken for a
+    misspelt torque unit; ``"motor"`` is not. Used to refuse unit suffixes of column
+    names that torqlog cannot read instead of assuming SI.
+
+    Examples
+    --------
+    >>> looks_like_unit_of("kNx", "torque"), looks_like_unit_of("motor", "speed")
+    (True, False)
+    """
+    if kind not in ("torque", "speed", "angle"):
+        return False
+    kinds = _LEADING_KINDS.get(kind, (kind,))
+    for n in range(len(text) - 1, 1, -1):
+        head = text[:n]
+        if not is_unit(head):
+            continue
+        for k in kinds:
+            unit = _FORCE_AND_ANGLE.get(k) or SI_UNITS[k]
+            try:
+                registry().Quantity(1.0, _normalise(head)).to(unit)
+                return True
+            except Exception:  # noqa: BLE001 - not this kind
+                continue
+    return False
+
+
 _EXAMPLES = {
     "torque": "kN*m",
     "speed": "rpm",
@@ -223,3 +284,190 @@ def parse_quantity(value: str | float | int, default_unit: str, kind: str,
         return number * si_factor(unit, kind)
     except UsageError as exc:
         raise UsageError(f"{name}: {exc}") from None
+
+
+# --------------------------------------------------------------------------- output units
+#: Unit of an output key by its suffix: suffix -> (unit as shown, unit as pint reads it).
+#: Longest suffixes first, so ``rim_speed_m_s`` is m/s, not s.
+KEY_UNITS: dict[str, tuple[str, str]] = {
+    "_Nm_s_per_rad": ("N·m·s/rad", "N*m*s/rad"),
+    "_Nm_per_rad": ("N·m/rad", "N*m/rad"),
+    "_kg_per_m3": ("kg/m³", "kg/m**3"),
+    "_per_min": ("1/min", "1/min"),
+    "_rad_s": ("rad/s", "rad/s"),
+    "_kgm2": ("kg·m²", "kg*m**2"),
+    "_m_s": ("m/s", "m/s"),
+    "_MPa": ("MPa", "MPa"),
+    "_GPa": ("GPa", "GPa"),
+    "_rpm": ("rpm", "rpm"),
+    "_deg": ("°", "degree"),
+    "_rad": ("rad", "rad"),
+    "_Nm": ("N·m", "N*m"),
+    "_kW": ("kW", "kW"),
+    "_Hz": ("Hz", "Hz"),
+    "_Pa": ("Pa", "Pa"),
+    "_mm": ("mm", "mm"),
+    "_kg": ("kg", "kg"),
+    "_J": ("J", "J"),
+    "_W": ("W", "W"),
+    "_m": ("m", "m"),
+    "_s": ("s", "s"),
+}
+
+#: US customary output units: SI key suffix -> (US suffix, unit as shown, pint unit).
+#: Rotational speed (rpm), frequency, time and angle stay as they are.
+US_UNITS: dict[str, tuple[str, str, str]] = {
+    "_Nm_s_per_rad": ("_lbfft_s_per_rad", "lbf·ft·s/rad", "lbf*ft*s/rad"),
+    "_Nm_per_rad": ("_lbfft_per_rad", "lbf·ft/rad", "lbf*ft/rad"),
+    "_kg_per_m3": ("_lb_per_in3", "lb/in³", "lb/inch**3"),
+    "_kgm2": ("_lbft2", "lb·ft²", "lb*ft**2"),
+    "_m_s": ("_ft_s", "ft/s", "ft/s"),
+    "_MPa": ("_ksi", "ksi", "ksi"),
+    "_GPa": ("_Mpsi", "Mpsi", "megapsi"),
+    "_Nm": ("_lbfft", "lbf·ft", "lbf*ft"),
+    "_kW": ("_khp", "1000 hp", "kilohp"),
+    "_Pa": ("_psi", "psi", "psi"),
+    "_mm": ("_mil", "mil", "thou"),
+    "_kg": ("_lb", "lb", "lb"),
+    "_J": ("_ftlbf", "ft·lbf", "ft*lbf"),
+    "_W": ("_hp", "hp", "hp"),
+    "_m": ("_in", "in", "inch"),
+}
+
+UNIT_SYSTEMS = ("si", "us")
+_US_BACK = {us: si for si, (us, _, _) in US_UNITS.items()}
+
+
+def _suffix(key: str, table: dict) -> str | None:
+    for suf in sorted(table, key=len, reverse=True):
+        if key.endswith(suf) and len(key) > len(suf):
+            return suf
+    return None
+
+
+def key_unit(key: str, system: str = "si") -> str:
+    """The unit an output key carries, as shown in a units row (``""`` when none).
+
+    Parameters
+    ----------
+    key : str
+        An output column name or JSON key (``energy_swing_J``, ``inertia_lbft2``).
+    system : str
+        ``"si"`` or ``"us"`` (which suffixes to read).
+
+    Examples
+    --------
+    >>> key_unit("inertia_kgm2"), key_unit("rim_speed_m_s"), key_unit("cs")
+    ('kg·m²', 'm/s', '')
+    >>> key_unit("energy_swing_ftlbf", "us")
+    'ft·lbf'
+    """
+    if system == "us":
+        suf = _suffix(key, _US_BACK)
+        if suf is not None:
+            return next(v[1] for v in US_UNITS.values() if v[0] == suf)
+        if _suffix(key, US_UNITS) is not None:  # an SI key the US system does not change
+            return ""
+    suf = _suffix(key, KEY_UNITS)
+    return KEY_UNITS[suf][0] if suf else ""
+
+
+@functools.lru_cache(maxsize=64)
+def us_factor(si_suffix: str) -> float:
+    """Factor from the SI unit of ``si_suffix`` to its US customary unit (by pint).
+
+    Examples
+    --------
+    >>> round(1 / us_factor("_J"), 6)  # NIST SP 811 B.9: 1 ft*lbf = 1.355818 J
+    1.355818
+    """
+    return float(registry().Quantity(1.0, KEY_UNITS[si_suffix][1])
+                 .to(US_UNITS[si_suffix][2]).magnitude)
+
+
+def us_key(key: str) -> tuple[str, float]:
+    """The US customary name of an SI output key and the factor to its value.
+
+    Returns ``(key, 1.0)`` for keys whose unit stays (rpm, s, Hz, dimensionless).
+    """
+    suf = _suffix(key, US_UNITS)
+    if suf is None:
+        return key, 1.0
+    return key[: -len(suf)] + US_UNITS[suf][0], us_factor(suf)
+
+
+def si_key(key: str) -> tuple[str, float]:
+    """Inverse of :func:`us_key`: the SI name of a US key and the factor back to SI."""
+    suf = _suffix(key, _US_BACK)
+    if suf is None:
+        return key, 1.0
+    si = _US_BACK[suf]
+    return key[: -len(suf)] + si, 1.0 / us_factor(si)
+
+
+def _scale(value: object, factor: float) -> object:
+    if factor == 1.0 or isinstance(value, bool):
+        return value
+    if isinstance(value, int | float):
+        return value * factor
+    if isinstance(value, list | tuple):
+        return [_scale(v, factor) for v in value]
+    if hasattr(value, "dtype") and getattr(value.dtype, "kind", "") in "fiu":
+        return value * factor
+    return value
+
+
+def convert_keys(data: object, system: str, *, back: bool = False) -> object:
+    """Convert a result dict (keys carry SI units) to another unit system, keys renamed.
+
+    Parameters
+    ----------
+    data : dict, list or value
+        A JSON contract (:meth:`to_dict`); nested dicts and lists are walked.
+    system : str
+        ``"si"`` (returned as is) or ``"us"``: lbf·ft, ft·lbf, lb·ft², in, mil, ksi,
+        psi, lb, hp, ft/s; rpm, s, Hz and angles stay.
+    back : bool
+        Read US keys and return SI (the inverse).
+
+    Returns
+    -------
+    The converted copy; ``inertia_kgm2`` becomes ``inertia_lbft2`` and so on.
+
+    References
+    ----------
+    NIST Special Publication 811 (2008), Appendix B.9 (factors, here computed by pint).
+    """
+    if system not in UNIT_SYSTEMS:
+        raise UsageError(f"unknown unit system {system!r}; valid: {', '.join(UNIT_SYSTEMS)}")
+    if system == "si":
+        return data
+    rename = si_key if back else us_key
+    if isinstance(data, dict):
+        out = {}
+        for k, v in data.items():
+            if isinstance(v, dict | list) and not (isinstance(v, list) and v
+                                                   and isinstance(v[0], int | float)):
+                out[k] = convert_keys(v, system, back=back)
+                continue
+            new, factor = rename(str(k))
+            out[new] = _scale(v, factor)
+        return out
+    if isinstance(data, list):
+        return [convert_keys(v, system, back=back) for v in data]
+    return data
+
+
+def convert_frame(frame: pd.DataFrame, system: str) -> pd.DataFrame:
+    """Convert a result table (SI column names) to ``system``; a copy, columns renamed."""
+    if system == "si" or frame is None:
+        return frame
+    convert_keys({}, system)  # validates the name
+    out = frame.copy()
+    names = {}
+    for col in frame.columns:
+        new, factor = us_key(str(col))
+        if factor != 1.0 and frame[col].dtype.kind in "fiu":
+            out[col] = frame[col] * factor
+        names[col] = new
+    return out.rename(columns=names)

@@ -20,41 +20,110 @@ import numpy as np
 
 from torqlog import __version__
 from torqlog.errors import TorqlogError
+from torqlog.outputs import atomic_path, check_outputs, write_text  # noqa: F401 (for commands)
 from torqlog.units import parse_quantity
 
 if TYPE_CHECKING:
     import pandas as pd
 
-FORMATS = ("table", "csv", "json")
-#: Formats of commands that stream a row per cycle as the cycles complete.
-STREAM_FORMATS = ("table", "csv", "json", "jsonl", "parquet")
+FORMATS = ("table", "csv", "json", "xlsx", "parquet")
+#: Formats that carry the full result table.
+TABULAR = ("csv", "xlsx", "parquet")
 
 
 # --------------------------------------------------------------------------- helpers
 class QuantityType(click.ParamType):
     """A click parameter that takes ``1.2`` (in ``default_unit``) or ``"1200 mm"``.
 
-    The converted value is SI.
+    The converted value is SI. ``minimum`` says which values make sense: ``"positive"``
+    (the default: zero and negatives refused, never a silent fall-back to the profile),
+    ``"nonnegative"`` (zero allowed, e.g. the bore of a solid disc) or None (any finite
+    number). A refused value is a usage error (exit 2).
     """
 
     name = "quantity"
 
-    def __init__(self, kind: str, default_unit: str) -> None:
+    def __init__(self, kind: str, default_unit: str, minimum: str | None = "positive"
+                 ) -> None:
         self.kind = kind
         self.default_unit = default_unit
+        self.minimum = minimum
 
     def get_metavar(self, param: click.Parameter, ctx: click.Context | None = None) -> str:
         return f"[{self.default_unit}]"
 
     def convert(self, value: Any, param: click.Parameter | None,
                 ctx: click.Context | None) -> float:
+        name = f"--{param.name.replace('_', '-')}" if param else "value"
         if isinstance(value, float):
-            return value
+            v = value
+        else:
+            try:
+                v = parse_quantity(value, self.default_unit, self.kind, name=name)
+            except TorqlogError as exc:
+                self.fail(str(exc).removeprefix(f"{name}: "), param, ctx)
+        if not math.isfinite(v):
+            self.fail(f"{value!r} is not a finite number", param, ctx)
+        if self.minimum == "positive" and v <= 0:
+            self.fail(f"{value!r} must be greater than zero", param, ctx)
+        if self.minimum == "nonnegative" and v < 0:
+            self.fail(f"{value!r} must not be negative", param, ctx)
+        return v
+
+
+def positive_float(upper: float | None = None, *, upper_open: bool = True,
+                   zero_ok: bool = False) -> click.FloatRange:
+    """A plain number that must be > 0 (or >= 0 with ``zero_ok``), optionally below
+    ``upper``: ratios, factors, fractions."""
+    return click.FloatRange(min=0.0, max=upper, min_open=not zero_ok,
+                            max_open=upper_open and upper is not None)
+
+
+class DateTimeType(click.ParamType):
+    """An ISO 8601 date and time (``2026-03-02T06:00:00``, zone optional).
+
+    Passed on as the text given (the readers parse it again), after checking it parses,
+    so a wrong date is a usage error (exit 2) naming the option.
+    """
+
+    name = "iso-time"
+
+    def get_metavar(self, param: click.Parameter, ctx: click.Context | None = None) -> str:
+        return "ISO"
+
+    def convert(self, value: Any, param: click.Parameter | None,
+                ctx: click.Context | None) -> str:
+        import datetime as dt
+
+        text = str(value).strip()
         try:
-            return parse_quantity(value, self.default_unit, self.kind,
-                                  name=f"--{param.name.replace('_', '-')}" if param else "value")
-        except TorqlogError as exc:
-            self.fail(str(exc), param, ctx)
+            dt.datetime.fromisoformat(text.replace("Z", "+00:00"))
+        except ValueError:
+            self.fail(f"{value!r} is not an ISO 8601 time; write it like "
+                      "2026-03-02T06:00:00 (a zone such as +01:00 may follow)", param, ctx)
+        return text
+
+
+class OutputFile(click.Path):
+    """An output file path whose suffix says its format (``.png``, ``.html``...)."""
+
+    def __init__(self, suffixes: tuple[str, ...], what: str) -> None:
+        super().__init__(dir_okay=False)
+        self.suffixes = suffixes
+        self.what = what
+
+    def convert(self, value: Any, param: click.Parameter | None,
+                ctx: click.Context | None) -> Any:
+        value = super().convert(value, param, ctx)
+        if not str(value).lower().endswith(self.suffixes):
+            ends = (f"{', '.join(self.suffixes[:-1])} or {self.suffixes[-1]}"
+                    if len(self.suffixes) > 1 else self.suffixes[0])
+            self.fail(f"{str(value)!r}: {self.what} must end in {ends}", param, ctx)
+        return value
+
+
+#: Figure files: the formats matplotlib writes without extra software.
+FIGURE_FILE = OutputFile((".png", ".svg", ".pdf"), "a figure file")
 
 
 def _jsonable(obj: Any) -> Any:
@@ -85,19 +154,60 @@ def to_json(data: dict[str, Any]) -> str:
     return json.dumps(_jsonable(data), indent=2, ensure_ascii=False)
 
 
+def output_settings() -> dict[str, Any]:
+    """Unit system, digits and units row chosen by the output options of this command."""
+    ctx = click.get_current_context(silent=True)
+    settings = {"units": "si", "digits": None, "full_precision": False, "units_row": False}
+    if ctx is not None:
+        settings.update(ctx.meta.get("torqlog.output", {}))
+        prof = ctx.params.get("profile") or ctx.params.get("profile_path")
+        if "units" not in ctx.meta.get("torqlog.output", {}) and isinstance(prof, str):
+            settings["units"] = load_profile_opt(prof).output.get("units", "si")
+    return settings
+
+
 def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | None,
-         text: str | None = None) -> None:
+         text: str | Callable[[dict[str, Any]], str] | None = None,
+         sheets: dict[str, pd.DataFrame] | None = None) -> None:
     """Write a result in the chosen format to ``out`` (a path) or stdout.
 
     ``table`` is printed for ``table`` and ``csv``; ``text`` (if given) is printed
-    before the table in ``table`` format; ``data`` is the JSON contract.
+    before the table in ``table`` format -- a function of the (unit-converted) data, or
+    fixed text (then shown in SI only); ``data`` is the JSON contract. ``--units us``
+    converts data and table (:func:`torqlog.units.convert_keys`); xlsx and Parquet go
+    through :mod:`torqlog.exporting`, with ``sheets`` as extra xlsx sheets.
     """
+    from torqlog.exporting import DEFAULT_DIGITS, to_csv_text, write_binary
+    from torqlog.units import convert_frame, convert_keys
+
+    opts = output_settings()
+    system = opts["units"]
+    if system != "si":
+        data = convert_keys(data, system)
+        table = convert_frame(table, system) if table is not None else None
+        sheets = {k: convert_frame(v, system) for k, v in (sheets or {}).items()}
+    if isinstance(text, str) and system != "si":
+        text = (text.rstrip("\n")
+                + f"\n(the lines above in SI; the table in {system.upper()} units)\n")
+    if callable(text):
+        try:
+            text = text(data)
+        except KeyError:  # a text layout that knows SI keys only: list the values
+            text = "\n".join(f"  {k:<34} {_fmt_float(v) if isinstance(v, float) else v}"
+                             for k, v in _flat(data).items() if k != "options"
+                             and not k.startswith("options.")) + "\n"
+    if fmt in ("xlsx", "parquet"):
+        path = write_binary(fmt, out, _jsonable(data), table, system, sheets)
+        click.echo(f"wrote {path}", err=True)
+        return
     if fmt == "json":
         body = to_json(data) + "\n"
     elif fmt == "csv":
         import pandas as pd
 
-        body = (table if table is not None else pd.DataFrame([_flat(data)])).to_csv(index=False)
+        digits = None if opts["full_precision"] else (opts["digits"] or DEFAULT_DIGITS)
+        body = to_csv_text(table if table is not None else pd.DataFrame([_flat(data)]),
+                           digits=digits, units_row=opts["units_row"], system=system)
     else:
         import pandas as pd
 
@@ -108,7 +218,7 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
                 parts.append(table.to_string(index=False, float_format=_fmt_float))
         body = "\n".join(parts) + "\n"
     if out:
-        Path(out).write_text(body, encoding="utf-8")
+        write_text(out, body)
         click.echo(f"wrote {out}", err=True)
     else:
         click.echo(body, nl=False)
@@ -136,8 +246,34 @@ def _flat(data: dict[str, Any], prefix: str = "") -> dict[str, Any]:
     return flat
 
 
+def _store(key: str) -> Callable[[click.Context, click.Parameter, Any], Any]:
+    def callback(ctx: click.Context, param: click.Parameter, value: Any) -> Any:
+        if value is not None:
+            ctx.meta.setdefault("torqlog.output", {})[key] = value
+        return value
+
+    return callback
+
+
 def output_options(f: Callable) -> Callable:
-    """Add ``--format`` and ``-o/--output`` to a command."""
+    """Add ``--format``, ``-o/--output`` and the unit/precision options to a command.
+
+    ``--units``, ``--digits``, ``--full-precision`` and ``--units-row`` are read by
+    :func:`emit` (through :func:`output_settings`), not passed to the command.
+    """
+    f = click.option("--units-row", is_flag=True, default=None, expose_value=False,
+                     callback=_store("units_row"),
+                     help="CSV: a second line with each column's unit.")(f)
+    f = click.option("--full-precision", is_flag=True, default=None, expose_value=False,
+                     callback=_store("full_precision"),
+                     help="CSV: keep every digit of each number (default: rounded).")(f)
+    f = click.option("--digits", type=click.IntRange(1, 17), default=None,
+                     expose_value=False, callback=_store("digits"),
+                     help="CSV: significant digits of each number  [default: 6].")(f)
+    f = click.option("--units", "units_system", type=click.Choice(["si", "us"]),
+                     default=None, expose_value=False, callback=_store("units"),
+                     help="Units of the output: si, or us (lbf·ft, ft·lbf, lb·ft², in, "
+                          "ksi, lb, hp, rpm)  [default: si, or the profile].")(f)
     f = click.option("-o", "--output", "output", type=click.Path(dir_okay=False),
                      default=None, help="Write the result to this file instead of stdout.")(f)
     f = click.option("--format", "fmt", type=click.Choice(FORMATS), default="table",
@@ -146,21 +282,41 @@ def output_options(f: Callable) -> Callable:
 
 
 # --------------------------------------------------------------------------- group
+def _oserror_sentence(exc: OSError) -> str:
+    where = f"{exc.filename}: " if exc.filename else ""
+    what = exc.strerror or (str(exc).strip().splitlines() or [type(exc).__name__])[0]
+    return f"{where}{what}; check the path and its permissions"
+
+
 class _Group(click.Group):
-    """Click group that turns torqlog errors into one line on stderr and an exit code."""
+    """Click group that is the one exception boundary of the command line.
+
+    A torqlog error prints its sentence and exits with its code (1 data, 2 usage, 3
+    strict); an operating-system error names the file (exit 1); anything else prints
+    one sentence and "run with --debug for details" (exit 1). ``--debug`` re-raises.
+    Click's own usage errors and exits pass through untouched.
+    """
 
     def invoke(self, ctx: click.Context) -> Any:
         try:
             return super().invoke(ctx)
-        except TorqlogError as exc:
+        except (click.exceptions.ClickException, click.exceptions.Exit,
+                click.exceptions.Abort):
+            raise
+        except Exception as exc:  # noqa: BLE001 - the one boundary: no traceback leaks
             if (ctx.obj or {}).get("debug"):
                 raise
-            click.echo(f"Error: {exc}", err=True)
-            ctx.exit(exc.exit_code)
-        except (FileNotFoundError, IsADirectoryError, PermissionError) as exc:
-            if (ctx.obj or {}).get("debug"):
-                raise
-            click.echo(f"Error: {exc.filename}: {exc.strerror}", err=True)
+            if isinstance(exc, TorqlogError):
+                click.echo(f"Error: {exc}", err=True)
+                ctx.exit(exc.exit_code)
+            if isinstance(exc, OSError):
+                click.echo(f"Error: {_oserror_sentence(exc)}", err=True)
+                ctx.exit(1)
+            text = " ".join(str(exc).split())
+            text = text if len(text) <= 160 else text[:157] + "..."
+            click.echo(f"Error: unexpected {type(exc).__name__}"
+                       + (f" ({text})" if text else "")
+                       + "; run with --debug for details", err=True)
             ctx.exit(1)
 
 
@@ -194,7 +350,7 @@ def log_options(f: Callable) -> Callable:
     for role in reversed(_ROLE_OPTS):
         f = click.option(f"--{role}", f"{role}_col", default=None, metavar="COL",
                          help=f"Column holding {role} (overrides detection by name).")(f)
-    f = click.option("--start", default=None, metavar="ISO",
+    f = click.option("--start", type=DateTimeType(), default=None,
                      help="Absolute time of the first sample, e.g. 2026-03-02T06:00:00.")(f)
     f = click.option("--rate", type=QuantityType("frequency", "Hz"), default=None,
                      help="Sample rate [Hz] when the time column is a sample number or absent.")(f)
@@ -231,7 +387,8 @@ def _cycle_stage(leading: list[Callable], speed_help: str) -> Callable[[Callable
             help="Force how cycles are found (default: best the log allows)."),
         click.option("--speed-rpm", type=QuantityType("speed", "rpm"), default=None,
                      help=speed_help),
-        click.option("--pulses-per-rev", type=float, default=360.0, show_default=True,
+        click.option("--pulses-per-rev", type=positive_float(), default=360.0,
+                     show_default=True,
                      help="Encoder counts per revolution."),
         click.option("--inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
                      help="Rotating inertia at the logged shaft [kg·m²]."),

@@ -31,10 +31,12 @@ from typing import IO, Any
 
 import numpy as np
 
-from torqlog.cli.base import STREAM_FORMATS, _fmt_float, to_json
+from torqlog.cli.base import _fmt_float, to_json
 from torqlog.cycles import COLUMNS, CycleResult
 from torqlog.errors import UsageError
 
+#: Formats with a streaming writer here.
+STREAM_FORMATS = ("table", "csv", "json", "jsonl", "parquet")
 __all__ = ["STREAM_FORMATS", "CsvWriter", "JsonWriter", "ParquetWriter", "TableWriter",
            "make_writer"]
 #: Rows gathered before a write (bounds the buffer; fewer, larger writes).
@@ -43,7 +45,7 @@ BATCH_ROWS = 4096
 ROW_GROUP_ROWS = 8192
 #: Columns of the readable table.
 TABLE_COLUMNS = ("cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm", "torque_peak_Nm",
-                 "work_J", "energy_swing_J", "cs", "cs_predicted", "flag")
+                 "work_J", "energy_swing_J", "cs", "cs_constant_drive", "flag")
 
 
 class _Target:

@@ -13,12 +13,15 @@ from click.core import ParameterSource
 from torqlog.cli.base import (
     _ROLE_OPTS,
     _UNIT_OPTS,
+    FIGURE_FILE,
     QuantityType,
     _fmt_float,
+    check_outputs,
     cli,
     cycle_stage_options,
     emit,
     output_options,
+    positive_float,
     run_cycles,
 )
 
@@ -120,7 +123,8 @@ def _given_log_only(ctx: click.Context) -> list[str]:
 @cycle_stage_options(_SHAFT_SPEED_HELP)
 @click.option("--add-mass", type=QuantityType("mass", "kg"), default=None,
               help="Mass added to the shaft, e.g. a new flywheel.")
-@click.option("--at", "add_mass_at", type=QuantityType("length", "m"), default=None,
+@click.option("--at", "add_mass_at", type=QuantityType("length", "m", "nonnegative"),
+              default=None,
               help="Position of the added mass along the shaft (default: where the "
                    "profile's mass named like --add-inertia-at sits).")
 @click.option("--add-inertia", type=QuantityType("inertia", "kg*m**2"), default=None,
@@ -129,17 +133,17 @@ def _given_log_only(ctx: click.Context) -> list[str]:
               help="Chain element that takes the added inertia [default: flywheel].")
 @click.option("--from-flywheel", "flywheel_file", type=click.Path(exists=True, dir_okay=False),
               default=None, help="Flywheel result JSON (mass_kg, inertia_kgm2) to add.")
-@click.option("--required-ratio", type=float, default=None,
+@click.option("--required-ratio", type=positive_float(), default=None,
               help="Required first lateral frequency / highest forcing [default: 3].")
-@click.option("--band", type=float, default=None,
+@click.option("--band", type=positive_float(1.0), default=None,
               help="Torsional band around each order, as a fraction [default: 0.10].")
-@click.option("--min-share", type=float, default=None,
+@click.option("--min-share", type=positive_float(1.0, zero_ok=True), default=None,
               help="Smallest share of the dynamic torque that counts [default: 0.05].")
 @click.option("--self-weight", is_flag=True, default=None,
               help="Include the shaft's own weight in Rayleigh, Dunkerley and deflection.")
 @click.option("--strict", is_flag=True,
               help="Exit with code 3 when a check fails (the result is still written).")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
               help="Write a PNG figure (with --log, also the order spectrum).")
 @output_options
 @click.pass_context
@@ -155,6 +159,8 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
     from torqlog.spectrum import mean_cycle_spectrum
     from torqlog.units import si_factor
 
+    check_outputs({"-o": output, "--plot": plot_path},
+                  {"--profile": profile_path, "--log": log, "--from-flywheel": flywheel_file})
     if flywheel_file is not None:
         if add_mass is not None or add_inertia is not None:
             raise UsageError("give either --from-flywheel or --add-mass/--add-inertia, "
@@ -203,7 +209,7 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
         plot_shaft(result, plot_path, spectrum=spectrum)
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, result.to_pandas(), fmt, output,
-         text=_shaft_text(data, profile.machine.get("name", "")))
+         text=lambda d: _shaft_text(d, profile.machine.get("name", "")))
     if strict and result.failures:
         reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
         raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")
@@ -245,7 +251,7 @@ def _flywheel_text(data: dict[str, Any]) -> str:
               default=None, help="Flywheel shape [default: annular-disc].")
 @click.option("--outer-diameter", type=QuantityType("length", "m"), default=None,
               help="Outer diameter [m]; left out, it is solved from --width.")
-@click.option("--bore", type=QuantityType("length", "m"), default=None,
+@click.option("--bore", type=QuantityType("length", "m", "nonnegative"), default=None,
               help="Bore diameter [m] (0 for a solid disc).")
 @click.option("--width", type=QuantityType("length", "m"), default=None,
               help="Face width [m]; left out, it is solved from --outer-diameter.")
@@ -257,22 +263,31 @@ def _flywheel_text(data: dict[str, Any]) -> str:
               help="Rim shape: inner diameter of the rim ring [m].")
 @click.option("--rim-depth", type=QuantityType("length", "m"), default=None,
               help="Rim shape: radial depth of the rim ring [m].")
-@click.option("--web-width", type=QuantityType("length", "m"), default=None,
+@click.option("--web-width", type=QuantityType("length", "m", "nonnegative"), default=None,
               help="Rim shape: web thickness [m] (left out, the web is neglected).")
-@click.option("--overspeed", type=float, default=None,
+@click.option("--overspeed", type=positive_float(), default=None,
               help="Overspeed factor the flywheel must survive [default: 1.2].")
-@click.option("--slowdown", type=float, default=None,
+@click.option("--slowdown", type=positive_float(1.0), default=None,
               help="Fractional speed drop over the working stroke, e.g. 0.1.")
-@click.option("--interference", type=QuantityType("length", "mm"), default=None,
+@click.option("--interference", type=QuantityType("length", "mm", "nonnegative"),
+              default=None,
               help="Diametral shrink-fit interference on a solid shaft [mm].")
 @click.option("--density", type=QuantityType("density", "kg/m**3"), default=None,
               help="Override the material density [kg/m**3].")
 @click.option("--yield", "strength", type=QuantityType("stress", "MPa"), default=None,
               help="Override the material strength [MPa] (tensile for grey iron).")
-@click.option("--poisson", type=float, default=None, help="Override Poisson's ratio.")
+@click.option("--poisson", type=positive_float(0.5), default=None, help="Override Poisson's ratio.")
 @click.option("--modulus", type=QuantityType("stress", "GPa"), default=None,
               help="Override Young's modulus [GPa].")
-@click.option("--material-factor", type=float, default=None,
+@click.option("--behaviour", type=click.Choice(["ductile", "brittle"]), default=None,
+              help="Ductile (von Mises vs yield) or brittle (max principal vs tensile) "
+                   "for a material given by its properties.")
+@click.option("--material-name", default=None,
+              help="Your name for a material given by its properties [default: custom].")
+@click.option("--materials", "materials_path", type=click.Path(dir_okay=False),
+              default=None, help="The plant's own materials table (TOML), one table "
+                                 "per material.")
+@click.option("--material-factor", type=positive_float(), default=None,
               help="Factor on strength kept at the overspeed [default: 1.5 ductile, "
                    "3.0 grey iron].")
 @click.option("--profile", "profile_path", type=click.Path(dir_okay=False), default=None,
@@ -283,7 +298,7 @@ def _flywheel_text(data: dict[str, Any]) -> str:
                    "added_inertia_at_flywheel_kgm2 (else added_inertia_kgm2 / ratio^2), "
                    "speed speed_mean_rpm x flywheel_speed_ratio (default 1).")
 @click.option("--strict", is_flag=True, help="Exit with code 3 when a check fails.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
               help="Write the stress-profile plot to this PNG file.")
 @output_options
 def flywheel_cmd(inertia: float | None, speed: float | None, material: str | None,
@@ -293,6 +308,8 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
                  rim_depth: float | None, web_width: float | None, overspeed: float | None,
                  slowdown: float | None, interference: float | None, density: float | None,
                  strength: float | None, poisson: float | None, modulus: float | None,
+                 behaviour: str | None, material_name: str | None,
+                 materials_path: str | None,
                  material_factor: float | None, profile_path: str | None,
                  size_path: str | None, strict: bool, plot_path: str | None, fmt: str,
                  output: str | None) -> None:
@@ -305,8 +322,11 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
     """
     from torqlog.errors import CheckFailed, DataError, UsageError
     from torqlog.flywheel import flywheel_from_profile
+    from torqlog.materials import load_materials
     from torqlog.profile import load_profile
 
+    check_outputs({"-o": output, "--plot": plot_path},
+                  {"--profile": profile_path, "--from-size": size_path})
     prof = load_profile(profile_path) if profile_path else None
     size = None
     if size_path:
@@ -324,7 +344,10 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
         width=width, max_width=max_width, max_outer_diameter=max_outer_diameter,
         rim_inner_diameter=rim_inner_diameter, rim_depth=rim_depth, web_width=web_width,
         overspeed=overspeed, slowdown=slowdown, interference=interference, density=density,
-        strength=strength, poisson=poisson, modulus=modulus, material_factor=material_factor)
+        strength=strength, poisson=poisson, modulus=modulus, material_factor=material_factor,
+        brittle=None if behaviour is None else behaviour == "brittle",
+        material_name=material_name, materials=load_materials(materials_path)
+        if materials_path else None)
     data = result.to_dict()
     if profile_path:
         data["options"]["profile"] = profile_path
@@ -333,7 +356,7 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
 
         plot_flywheel_stresses(result, plot_path)
         click.echo(f"wrote {plot_path}", err=True)
-    emit(data, None, fmt, output, text=_flywheel_text(data) if fmt == "table" else None)
+    emit(data, None, fmt, output, text=_flywheel_text if fmt == "table" else None)
     if data["verdict"] != "pass":
         if fmt != "table" or output:
             click.echo(f"flywheel check: FAIL ({', '.join(data['failed'])})", err=True)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import sys
 from pathlib import Path
 from typing import Any
@@ -9,8 +10,11 @@ from typing import Any
 import click
 
 from torqlog.cli.base import (
-    STREAM_FORMATS,
+    FIGURE_FILE,
+    TABULAR,
     QuantityType,
+    atomic_path,
+    check_outputs,
     cli,
     cycle_options,
     emit,
@@ -19,9 +23,14 @@ from torqlog.cli.base import (
     make_cycle_options,
     output_options,
     parse_quantile,
+    positive_float,
     read_kwargs,
     run_cycles,
 )
+
+
+def _finite(x: float | None) -> bool:
+    return x is not None and math.isfinite(x)
 
 
 # --------------------------------------------------------------------------- inspect
@@ -38,6 +47,8 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 
     from torqlog.survey import survey_log
 
+    check_outputs({"-o": output}, {"log": log})
+
     s = survey_log(log, nominal_speed=speed_rpm, **read_kwargs(kw))
     d = s.to_dict()
     cols = pd.DataFrame(d["columns"])  # csv keeps the JSON key names
@@ -47,8 +58,10 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
         + (f", {d['delimiter']}-delimited, decimal '{d['decimal']}'" if d["delimiter"] else ""),
         f"rows        {d['rows']}",
         f"duration    {d['duration_s']:.6g} s",
-        f"sample rate {d['sample_rate_hz']:.6g} Hz (time-step jitter "
-        f"{100 * d['rate_jitter']:.3g} %)",
+        (f"sample rate {d['sample_rate_hz']:.6g} Hz (time-step jitter "
+         f"{100 * d['rate_jitter']:.3g} %)" if _finite(d["sample_rate_hz"]) else
+         f"sample rate not known: {d['rows']} row(s) give no time step; a rate needs at "
+         "least two samples (or give --rate HZ)"),
         f"start       {d['start_time'] or 'not stated'}",
         f"time        {d['time_kind']}",
         f"gaps        {d['gaps']['count']}"
@@ -56,13 +69,15 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
            f"{d['gaps']['list'][0]['after_s']:.6g} s, row {d['gaps']['list'][0]['row']})"
            if d["gaps"]["count"] else ""),
         "NaN rows    " + (", ".join(f"{k} {v}" for k, v in d["nan_rows"].items()) or "none"),
+        *([f"±inf rows   {', '.join(f'{k} {v}' for k, v in d['inf_rows'].items())}"]
+          if d["inf_rows"] else []),
         "clipped     " + (", ".join(f"{k} {v} samples" for k, v in d["clipped_samples"].items())
                           or "none found"),
         f"cycles from {d['cycle_source'] or '-'}: {d['cycle_source_note']}",
     ]
     if d["preamble"]:
         lines.append("preamble    " + "; ".join(f"{k}: {v}" for k, v in d["preamble"].items()))
-    emit(d, cols if fmt == "csv" else cols.rename(columns={"si_factor": "SI factor"}), fmt,
+    emit(d, cols if fmt in TABULAR else cols.rename(columns={"si_factor": "SI factor"}), fmt,
          output, text="\n".join(lines) + "\n")
 
 
@@ -92,6 +107,10 @@ def _cycles_text(res: Any) -> str:
         *(f"note: {n}" for n in res.notes),
         *([f"flagged cycles: {', '.join(f'{k} {v}' for k, v in s['flags'].items())} "
            "(kept in the table, left out of the figures above)"] if s["flags"] else []),
+        *([f"not running: {len(s['not_running'])} stretch(es): " + "; ".join(
+            f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s"
+            for d in s["not_running"][:5]) + ("; ..." if len(s["not_running"]) > 5 else "")]
+          if s.get("not_running") else []),
         "",
     ])
 
@@ -99,7 +118,7 @@ def _cycles_text(res: Any) -> str:
 @cli.command()
 @click.argument("log", type=click.Path(dir_okay=True))
 @cycle_options
-@click.option("--plot", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", type=FIGURE_FILE, default=None,
               help="Write a PNG: torque, E(θ) and speed against crank angle.")
 @click.option("--summary-only", is_flag=True,
               help="Write the summary alone, without a row per cycle.")
@@ -109,84 +128,157 @@ def _cycles_text(res: Any) -> str:
 @click.option("--sketch-error", type=click.FloatRange(0, 1, min_open=True, max_open=True),
               default=None, help="Relative error bound of the quantile sketch.  "
                                  "[default: 1e-4]")
-@click.option("--format", "fmt", type=click.Choice(STREAM_FORMATS), default="table",
-              show_default=True, help="Output format; rows are written as the cycles "
-                                      "complete (parquet needs -o).")
-@click.option("-o", "--output", "output", type=click.Path(dir_okay=False), default=None,
-              help="Write the result to this file instead of stdout.")
+@output_options
 def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_only: bool,
            quantile_budget: int | None, sketch_error: float | None, **kw: Any) -> None:
-    """Split a log into machine cycles: energy swing, Cs and torque per cycle."""
-    from torqlog.cli.base import _flat
-    from torqlog.cli.cycle_output import make_writer
-    from torqlog.errors import UsageError
+    """Split a log into machine cycles: energy swing, Cs and torque per cycle.
 
-    if output and Path(output).exists() and Path(log).exists() \
-            and Path(output).resolve() == Path(log).resolve():
-        raise UsageError(f"-o {output} is the input log: input files are never written to")
-    writer = None
-    if not summary_only:
-        writer = make_writer(fmt, output, _cycles_text)
-    elif fmt in ("jsonl", "parquet"):
-        raise UsageError(f"--summary-only writes table, csv or json, not {fmt}")
+    In SI, ``--format json`` and ``table`` write each cycle's row as it completes, so
+    memory does not grow with the log; csv, xlsx, Parquet and ``--units us`` build the
+    table in memory first.
+    """
+    import pandas as pd
+
+    from torqlog.cli.base import _flat, output_settings
+    from torqlog.cli.cycle_output import make_writer
+
+    check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
     extra = {k: v for k, v in (("quantile_budget", quantile_budget),
                                ("sketch_error", sketch_error)) if v is not None}
-    try:
-        res, _ = run_cycles(log, kw, keep_rows=False, sink=writer, **extra)
-    except BaseException:
-        if writer is not None:
+    stream = not summary_only and fmt in ("json", "table") \
+        and output_settings()["units"] == "si"
+    if stream:
+        writer = make_writer(fmt, output, _cycles_text)
+        try:
+            res, _ = run_cycles(log, kw, keep_rows=False, sink=writer, **extra)
+        except BaseException:
             writer.abort()
-        raise
-    if output and writer is not None:
-        click.echo(f"wrote {output}", err=True)
+            raise
+        if output:
+            click.echo(f"wrote {output}", err=True)
+    else:
+        res, _ = run_cycles(log, kw, keep_rows=not summary_only, **extra)
     if plot:
         res.plot(plot)
         click.echo(f"wrote {plot}", err=True)
+    if stream:
+        return
+    table = None  # the JSON needs no pandas table (and so no pandas)
     if summary_only:
-        import pandas as pd
-
-        d = res.to_dict(rows=False)
-        emit(d, pd.DataFrame([_flat(d["summary"])]) if fmt == "csv" else None, fmt, output,
-             text=_cycles_text(res))
+        table = pd.DataFrame([_flat(res.summary)]) if fmt in TABULAR else None
+    elif fmt in TABULAR:
+        table = res.table
+    elif fmt == "table":
+        table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
+                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs",
+                           "cs_constant_drive", "flag"]]
+    emit(res.to_dict(rows=not summary_only), table, fmt, output, text=_cycles_text(res))
 
 
 # --- size
 def _size_text(d: dict[str, Any], source: str) -> str:
-    """Readable summary of a sizing result."""
+    """Readable summary of a sizing result: the leading answer first, then why."""
     def kg(x: float | None) -> str:
         return "-" if x is None else f"{x:,.4g} kg·m²"
 
+    def pct(x: float | None) -> str:
+        return "-" if x is None else f"{100 * x:.0f} %"
+
     lo, hi = d["ci95_kgm2"]
     q = d["quantile"]
+    bound = d["model"] == "constant drive"
     lines = [
-        f"{source}: flywheel sizing by {d['method']} ({d['cycles_used']} clean cycles, "
-        f"mean speed {d['speed_mean_rpm']:.4g} rpm)",
-        f"design energy swing   {d['design_energy_swing_J'] / 1e3:.4g} kJ "
-        f"({'max' if q == 'max' else f'p{100 * float(q):g}'} of the cycles)",
-        f"target Cs             {d['target_cs']:.4g}",
+        f"{source}: {d['cycles_used']} clean cycles, mean speed {d['speed_mean_rpm']:.4g} rpm, "
+        f"target Cs {d['target_cs']:.4g}",
+        f"answer from           {d['model']}" + ("  (upper bound)" if bound else ""),
+        f"added inertia         {kg(d['added_inertia_kgm2'])}"
+        + (f"  (95 % interval {kg(d['added_ci95_kgm2'][0])} to "
+           f"{kg(d['added_ci95_kgm2'][1])})" if d.get("added_ci95_kgm2") else ""),
         f"required inertia      {kg(d['required_inertia_kgm2'])}  "
         f"(95 % interval {kg(lo)} to {kg(hi)})",
         f"existing inertia      {kg(d['existing_inertia_kgm2'])}",
-        f"added inertia         {kg(d['added_inertia_kgm2'])}",
     ]
     if d["flywheel_speed_ratio"] != 1.0:
         lines.append(f"  at the flywheel shaft (×{d['flywheel_speed_ratio']:g} speed): "
                      f"{kg(d['added_inertia_at_flywheel_kgm2'])}")
-    if d["identified"]:
-        idf = d["identified"]
-        lines.append(f"identified from log   {kg(idf.get('inertia_kgm2'))} (R² "
-                     f"{idf.get('r2', float('nan')):.3f})")
-    drive = d.get("drive") or {}
-    if drive.get("added_inertia_for_target_cs_kgm2") is not None:
-        lines.append(f"with motor slip       {kg(drive['added_inertia_for_target_cs_kgm2'])} "
-                     "added meets the target")
-    lines += [f"note: {m}" for m in d["messages"]]
+    lines.append(f"why                   {d['model_reason']}")
+    if d.get("cs_model_existing") is not None:
+        lines.append(f"check at existing     measured Cs {d['cs_measured']:.4g}, "
+                     f"{d['cs_model_of']} model {d['cs_model_existing']:.4g} "
+                     f"({d['cs_model_error_rel']:+.1%}, tolerance "
+                     f"±{d['cs_model_tolerance_rel']:.0%})")
+    if d.get("drive_slope_Nms_per_rad") is not None:
+        se = d.get("drive_slope_se_Nms_per_rad")
+        lines.append(f"drive slope           {d['drive_slope_Nms_per_rad']:.4g}"
+                     + (f" ± {se:.2g}" if se else "") + " N·m·s/rad at the logged shaft"
+                     + (f" (nameplate {d['drive_slope_nameplate_Nms_per_rad']:.4g})"
+                        if d.get("drive_slope_nameplate_Nms_per_rad") else ""))
+    parts = d.get("ci95_parts_kgm2") or {}
+    if parts:
+        lines.append("interval parts        " + ", ".join(
+            f"{k.removesuffix('_kgm2').replace('_', ' ')} {v[0]:+.3g}/{v[1]:+.3g}"
+            for k, v in parts.items()) + " kg·m²")
+    lines.append(f"constant-drive bound  {kg(d['bound_constant_drive_required_inertia_kgm2'])} "
+                 f"required, {kg(d['bound_constant_drive_added_inertia_kgm2'])} added "
+                 f"(design swing {d['design_energy_swing_J'] / 1e3:.4g} kJ, "
+                 f"{'max' if q == 'max' else f'p{100 * float(q):g}'} of the cycles; "
+                 f"assumes a constant drive torque: an upper bound)")
+    now, after = d.get("machine_now"), d.get("machine_after")
+    if now and after:
+        lines += ["", f"{'':22}{'now':>12}{'after':>12}   ({now['model']} model, median cycle)",
+                  f"{'Cs':22}{now['cs']:>12.4g}{after['cs']:>12.4g}"
+                  + (f"   measured now {now['cs_measured']:.4g}"
+                     if now.get("cs_measured") is not None else ""),
+                  f"{'speed min rpm':22}{now['speed_min_rpm']:>12.5g}"
+                  f"{after['speed_min_rpm']:>12.5g}",
+                  f"{'speed max rpm':22}{now['speed_max_rpm']:>12.5g}"
+                  f"{after['speed_max_rpm']:>12.5g}"]
+        for key, label in (("peak", "drive torque peak"), ("mean", "drive torque mean"),
+                           ("rms", "drive torque RMS")):
+            k = f"drive_torque_{key}_Nm"
+            if k in now:
+                share = f"drive_torque_{key}_share_of_rated"
+                extra = (f"   {pct(now[share])} → {pct(after[share])} of rated"
+                         if share in now else "")
+                lines.append(f"{label + ' N·m':22}{now[k]:>12.4g}{after[k]:>12.4g}{extra}")
+        if "copper_loss_change_kWh_per_year" in after:
+            lines.append(f"copper loss change    {after['copper_loss_change_rel']:+.0%}, "
+                         f"{after['copper_loss_change_kWh_per_year']:+,.0f} kWh/year at "
+                         f"{after['hours_per_year']:g} h/year (loss ∝ torque², see JSON)")
+    choice = d.get("size_on")
+    if choice:
+        lines += ["", f"sized on {choice['sized_on']}: {choice['why']} "
+                      f"(--size-on {choice['size_on']})"]
+        lines += [f"  {r['log']}: design swing {r['design_energy_swing_J'] / 1e3:.4g} kJ at "
+                  f"{r['speed_mean_rpm']:.4g} rpm" for r in choice["logs"]]
+    rf = d.get("retrofit")
+    if rf:
+        lines += ["", f"retrofit check against {rf['after_log']}",
+                  f"  inertia added         {kg(rf['added_identified_kgm2'])} identified "
+                  f"(planned {kg(rf['added_planned_kgm2'])})",
+                  f"  Cs after              measured {rf['cs_after_measured']:.4g}, predicted "
+                  f"{rf['cs_after_predicted']:.4g} ({rf['cs_after_error_rel']:+.1%}); target "
+                  f"{rf['target_cs']:g}: {'met' if rf['meets_target'] else 'NOT met'}"]
+        if rf.get("drive_torque_rms_predicted_Nm") is not None and \
+                rf.get("drive_torque_rms_after_log_Nm") is not None:
+            lines.append(f"  drive torque RMS      predicted "
+                         f"{rf['drive_torque_rms_predicted_Nm']:.4g} N·m, after-log "
+                         f"{rf['drive_torque_rms_after_log_Nm']:.4g} N·m")
+        lines += [f"  {m}" for m in rf["messages"]]
+    lines += [""] + [f"note: {m}" for m in d["messages"]]
     lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
     return "\n".join(lines)
 
 
 @cli.command("size")
-@click.argument("log", type=click.Path(dir_okay=True))
+@click.argument("logs", nargs=-1, required=True, type=click.Path(dir_okay=True))
+@click.option("--size-on", type=click.Choice(["worst", "latest", "first"]), default="worst",
+              show_default=True,
+              help="With several logs of one machine: size on the log that needs the most "
+                   "inertia, the one that starts last, or the first given.")
+@click.option("--after", "after_log", type=click.Path(dir_okay=True), default=None,
+              help="A log taken after adding inertia: set the model's prediction beside what "
+                   "it measures.")
 @click.option("--target-cs", type=float, default=None,
               help="Target coefficient of speed fluctuation (0 < Cs < 1).")
 @click.option("--machine-class", default=None, metavar="NAME",
@@ -201,43 +293,71 @@ def _size_text(d: dict[str, Any], source: str) -> str:
               help="Motor synchronous speed [rpm].")
 @click.option("--rated-rpm", type=QuantityType("speed", "rpm"), default=None,
               help="Motor rated (full-load) speed [rpm].")
-@click.option("--motor-ratio", type=float, default=None,
+@click.option("--motor-ratio", type=positive_float(), default=None,
               help="Motor speed / logged shaft speed (belt or gear ratio).")
-@click.option("--flywheel-speed-ratio", type=float, default=None,
+@click.option("--flywheel-speed-ratio", type=positive_float(), default=None,
               help="Flywheel shaft speed / logged shaft speed.  [default: 1, or profile]")
 @click.option("--seed", type=int, default=0, show_default=True, help="Bootstrap seed.")
+@click.option("--tolerance", type=click.FloatRange(0, 1, min_open=True), default=0.10,
+              show_default=True,
+              help="Relative Cs error within which a drive model explains the log.")
+@click.option("--hours-per-year", type=click.FloatRange(min=0), default=4000.0,
+              show_default=True, help="Running hours per year, for the copper-loss change.")
 @cycle_options
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
               help="Write a PNG: Cs and motor peak torque against added inertia.")
 @output_options
-def size_cmd(log: str, target_cs: float | None, machine_class: str | None, quantile: str,
+def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
+             target_cs: float | None, machine_class: str | None, quantile: str,
              motor_power: float | None, sync_rpm: float | None, rated_rpm: float | None,
              motor_ratio: float | None, flywheel_speed_ratio: float | None, seed: int,
+             tolerance: float, hours_per_year: float,
              plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
-    """Flywheel inertia to reach a target Cs, with its interval and the motor's view."""
+    """Flywheel inertia to reach a target Cs, from a drive model checked against the log.
+
+    With several LOGS of one machine, --size-on picks the one to size on; --after checks
+    the model's prediction against a log taken after the retrofit.
+    """
     from torqlog.errors import UsageError
     from torqlog.inertia import size_log, size_log_dict
+    from torqlog.logchoice import choose_log
 
-    res, profile = run_cycles(log, kw)
+    check_outputs({"-o": output, "--plot": plot_path},
+                  {"log": list(logs), "--after": after_log, "--profile": kw.get("profile")})
+    fresh = dict(kw)
+    results = []
+    for path in logs:
+        res, profile = run_cycles(path, kw if not results else dict(fresh))
+        results.append(res)
     q = parse_quantile(quantile)
+    idx, choice = choose_log(results, size_on, quantile=q)
+    res = results[idx]
     motor = {"power": motor_power, "sync": sync_rpm, "rated": rated_rpm,
              "speed_ratio": motor_ratio}
     result = size_log(res, profile, target_cs=target_cs, machine_class=machine_class,
                       quantile=q, motor=motor, flywheel_speed_ratio=flywheel_speed_ratio,
-                      seed=seed)
+                      seed=seed, tolerance=tolerance, hours_per_year=hours_per_year)
     data = size_log_dict(result, res)
+    data["size_on"] = choice if len(results) > 1 else None
+    data["retrofit"] = None
+    if after_log:
+        from torqlog.retrofit import retrofit_from_size
+
+        after, _ = run_cycles(after_log, dict(fresh))
+        data["retrofit"] = retrofit_from_size(result, after, tolerance=tolerance).to_dict()
     target_cs = result.target_cs
     if plot_path:
         from torqlog.plots import plot_drive_curve
 
         if result.curve is None:
-            raise UsageError("--plot needs a motor (--motor-power, --sync-rpm, --rated-rpm, "
-                             "--motor-ratio, or [motor] in the profile) to simulate the drive")
+            raise UsageError("--plot needs a drive model: a log with torque and speed, or a "
+                             "motor (--motor-power, --sync-rpm, --rated-rpm, --motor-ratio, "
+                             "or [motor] in the profile)")
         plot_drive_curve(result.to_pandas(), plot_path, target_cs=target_cs,
                          recommended=data["added_inertia_kgm2"])
         click.echo(f"wrote {plot_path}", err=True)
-    emit(data, result.to_pandas() if fmt == "csv" and result.curve is not None else None,
-         fmt, output, text=_size_text(data, res.source))
+    emit(data, result.to_pandas() if fmt in TABULAR and result.curve is not None else None,
+         fmt, output, text=lambda d: _size_text(d, res.source))
 
 
 
@@ -280,7 +400,6 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
                 machine: str | None, folder_profiles: bool
                 ) -> tuple[list[Any], list[dict[str, str]], Any]:
     """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
-    import pandas as pd
 
     from torqlog.batch import FileJob, discover
     from torqlog.errors import UsageError
@@ -289,12 +408,6 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
     if kw.get("start") and len(files) > 1:
         raise UsageError("--start places a single file; for several files give --name-time "
                          "PATTERN or logs that carry their own timestamps")
-    if kw.get("start"):
-        try:
-            pd.Timestamp(kw["start"])
-        except ValueError:
-            raise UsageError(f"--start {kw['start']!r} is not an ISO time, e.g. "
-                             "2026-03-02T06:00:00") from None
     if name_time:
         from torqlog.batch import name_time_regex
 
@@ -374,6 +487,12 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
 @click.option("--out-dir", type=click.Path(file_okay=False), default=None,
               help="Write cycles.parquet (every cycle), shifts.csv (the rows) and the PNG "
                    "plots into this folder.")
+@click.option("--fleet", "fleet_flag", is_flag=True,
+              help="Add the fleet table: one row per machine (Cs median and worst decile "
+                   "against target, added inertia, motor RMS load, drift, last log); it "
+                   "becomes the printed table.")
+@click.option("--fleet-sort", default="cs_p90_over_target", show_default=True,
+              metavar="COLUMN", help="Rank the fleet table by this column (worst first).")
 @output_options
 def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: str | None,
               machine: str | None, folder_profiles: bool, shifts: str | None,
@@ -381,15 +500,24 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
               baseline_path: str | None, figures: str, limits_method: str,
               ewma_lambda: float, ewma_l: float, run_rule: str, n_jobs: int | None,
               use_dask: bool, scheduler: str | None, out_dir: str | None,
-              **kw: Any) -> None:
+              fleet_flag: bool, fleet_sort: str, **kw: Any) -> None:
     """Trend many logs across shifts (and machines): per-shift figures, control limits
     and the first shift where drift began. PATHS are files, folders or glob patterns."""
     from contextlib import ExitStack, nullcontext
 
     from torqlog.batch import dask_client
+    from torqlog.outputs import OUTPUT_NAMES, parquet_metadata, write_text
     from torqlog.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
 
+    profile_path = kw.get("profile")
     jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
+    figure_names = [f"trend_{f.strip()}.png" for f in figures.split(",") if f.strip()]
+    out_files = ([Path(out_dir) / n for n in (*OUTPUT_NAMES, *figure_names,
+                                               "energy_swing_box.png")]
+                 if out_dir else None)
+    check_outputs({"-o": output, "--out-dir": out_files},
+                  {"log": [j.path for j in jobs], "--profile": profile_path,
+                   "--baseline": baseline_path})
     calendar = ShiftCalendar.build(shifts, shift_names, timezone, profile)
     drift = DriftOptions(figures=tuple(f.strip() for f in figures.split(",") if f.strip()),
                          baseline_groups=baseline_shifts, lam=ewma_lambda, L=ewma_l,
@@ -409,8 +537,15 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     if out_dir:
         out = Path(out_dir)
         out.mkdir(parents=True, exist_ok=True)
-        res.cycles_table().to_parquet(out / "cycles.parquet", index=False)
-        res.to_pandas().to_csv(out / "shifts.csv", index=False)
+        import pyarrow as pa
+        import pyarrow.parquet as pq
+
+        table = pa.Table.from_pandas(res.cycles_table(), preserve_index=False)
+        table = table.replace_schema_metadata({**(table.schema.metadata or {}),
+                                               **parquet_metadata("trend-cycles")})
+        with atomic_path(out / "cycles.parquet") as tmp:
+            pq.write_table(table, tmp)
+        write_text(out / "shifts.csv", res.to_pandas().to_csv(index=False))
         written = [out / "cycles.parquet", out / "shifts.csv", *res.plot(out)]
         click.echo("wrote " + ", ".join(str(p) for p in written), err=True)
     table = res.to_pandas()
@@ -419,7 +554,22 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
                                          table["start_time"]],
                              flags=[_short_flags(f) for f in res.groups["flags"]])
         table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95"])
-    emit(d, table, fmt, output, text=_trend_text(d, n_all))
+    sheets = None
+    if fleet_flag:
+        from torqlog.cli.fleet import fleet_for
+        from torqlog.fleet import rank_rows
+
+        rank_rows([], fleet_sort)  # an unknown column is refused before the sizing runs
+        fleet = fleet_for(res, jobs, profile, folder_profiles, fleet_sort)
+        d["fleet"] = fleet.to_dict()
+        sheets = {"shifts": table}
+        table = fleet.to_pandas()
+        if out_dir:
+            fleet.to_pandas().to_csv(Path(out_dir) / "fleet.csv", index=False)
+            fleet.write_html(Path(out_dir) / "fleet.html")
+            click.echo(f"wrote {Path(out_dir) / 'fleet.csv'}, {Path(out_dir) / 'fleet.html'}",
+                       err=True)
+    emit(d, table, fmt, output, text=lambda dd: _trend_text(dd, n_all), sheets=sheets)
     if res.failed:
         click.echo(f"Error: {len(res.failed)} of {n_all} file(s) failed: "
                    + "; ".join(f"{f['file']}: {f['reason']}" for f in res.failed), err=True)

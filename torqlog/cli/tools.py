@@ -2,20 +2,24 @@
 
 from __future__ import annotations
 
-from pathlib import Path
 from typing import Any
 
 import click
 
 from torqlog.cli.base import (
+    DateTimeType,
+    OutputFile,
     QuantityType,
+    check_outputs,
     cli,
     cycle_options,
     load_profile_opt,
     make_cycle_options,
     parse_quantile,
+    positive_float,
     read_kwargs,
     to_json,
+    write_text,
 )
 
 
@@ -40,9 +44,10 @@ from torqlog.cli.base import (
               help="Number of one-sample torque spikes.")
 @click.option("--clip", type=QuantityType("torque", "N*m"), default=None,
               help="Saturate the torque at ± this value [N*m].")
-@click.option("--start", default="2026-03-02T06:00:00", show_default=True,
+@click.option("--start", type=DateTimeType(), default="2026-03-02T06:00:00",
+              show_default=True,
               help="Wall-clock time of the first sample (ISO 8601).")
-@click.option("--load-scale", type=float, default=1.0, show_default=True,
+@click.option("--load-scale", type=positive_float(), default=1.0, show_default=True,
               help="Factor on the working load (to simulate drift).")
 @click.option("--profile-out", type=click.Path(dir_okay=False), default=None,
               help="Also write the machine profile (TOML) to this file.")
@@ -54,6 +59,7 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
     invented Brindlemoor Works plant."""
     from torqlog.simulate import demo_profile, get_machine, simulate, write_log
 
+    check_outputs({"-o": output, "--profile-out": profile_out}, {})
     log = simulate(get_machine(machine), duration=duration, rate=rate, channels=channels,
                    seed=seed, noise=not no_noise, gaps=gaps, spikes=spikes, clip=clip,
                    start=start, load_scale=load_scale)
@@ -63,7 +69,7 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
             f"{info['duration_s']:g} s at {info['rate_Hz']:g} Hz, "
             f"channels {','.join(info['channels'])}")
     if profile_out:
-        Path(profile_out).write_text(demo_profile(log.machine), encoding="utf-8")
+        write_text(profile_out, demo_profile(log.machine))
         line += f"; profile {profile_out}"
     click.echo(line)
 
@@ -76,9 +82,10 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
               help="Target coefficient of speed fluctuation [default: the profile's].")
 @click.option("--quantile", default="0.95", show_default=True,
               help="Design quantile of the per-cycle energy swing, or 'max'.")
-@click.option("-o", "--output", "output", type=click.Path(dir_okay=False),
+@click.option("-o", "--output", "output", type=OutputFile((".html", ".htm"), "the report"),
               default="report.html", show_default=True, help="HTML report to write.")
-@click.option("--pdf", "pdf_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--pdf", "pdf_path", type=OutputFile((".pdf",), "the PDF report"),
+              default=None,
               help="Also write the report as PDF (matplotlib; no browser needed).")
 @click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
               help="Also keep the PNG figures in this folder.")
@@ -96,17 +103,23 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
     profile_path = kw.pop("profile", None)
     if not profile_path:
         raise UsageError("give --profile FILE: the report needs the machine profile")
+    check_outputs({"-o": output, "--pdf": pdf_path}, {"log": logs, "--profile": profile_path})
     profile = load_profile_opt(profile_path)
     read = read_kwargs(kw)
     opts = make_cycle_options(kw, profile)
     data = build_report(list(logs), profile_path, cycle_options=opts, read=read,
                         target_cs=target_cs, quantile=parse_quantile(quantile),
                         figure_dir=figure_dir)
-    for why in data.skipped.values():
-        click.echo(f"note: {why}", err=True)
+    for stage, why in data.skipped.items():
+        if not stage.startswith("log "):
+            click.echo(f"note: {why}", err=True)
     for path in write_report(data, output, pdf_path):
         click.echo(f"wrote {path}", err=True)
     click.echo(output)
+    if data.failed_logs:
+        click.echo(f"Error: {len(data.failed_logs)} of {len(logs)} log(s) left out of the "
+                   "report: " + "; ".join(f["reason"] for f in data.failed_logs), err=True)
+        raise click.exceptions.Exit(1)
 
 
 # --- demo
@@ -124,15 +137,15 @@ def demo_cmd(out_dir: str) -> None:
     from torqlog.report import build_report, write_report
 
     reports = []
-    for run in write_demo_inputs(out_dir):
+    runs = write_demo_inputs(out_dir)
+    for run in runs:
         data = build_report(list(run.logs), run.profile, figure_dir=run.folder)
         stages = data.stage_json()
         for name in ("inspect", "cycles"):
             for log, d in zip(run.logs, stages.pop(name), strict=True):
-                (run.folder / f"{name}_{log.stem}.json").write_text(to_json(d) + "\n",
-                                                                   encoding="utf-8")
+                write_text(run.folder / f"{name}_{log.stem}.json", to_json(d) + "\n")
         for name, d in stages.items():
-            (run.folder / f"{name}.json").write_text(to_json(d) + "\n", encoding="utf-8")
+            write_text(run.folder / f"{name}.json", to_json(d) + "\n")
         html = run.folder / "report.html"
         write_report(data, html, run.folder / "report.pdf" if run.key == "press" else None)
         verdicts = ", ".join(f"{v['check']} {v['verdict']}" for v in data.verdicts())
@@ -141,6 +154,10 @@ def demo_cmd(out_dir: str) -> None:
         for why in data.skipped.values():
             click.echo(f"  note: {why}", err=True)
         reports.append(html)
+    from torqlog.cli.fleet import write_demo_fleet
+
+    click.echo("fleet table: " + ", ".join(str(p) for p in write_demo_fleet(runs, out_dir)),
+               err=True)
     first = reports.pop(0)
     for html in reports:
         click.echo(f"report: {html}")

@@ -1,0 +1,102 @@
+"""US customary output: factors against NIST SP 811 (2008) Appendix B.9, and round trips."""
+
+import json
+import math
+
+import pytest
+from click.testing import CliRunner
+
+from torqlog.cli import cli
+from torqlog.flywheel import flywheel_from_profile
+from torqlog.units import convert_keys, key_unit, us_key
+
+# NIST SP 811 (2008), Appendix B.9 (factors to SI, 7 significant digits as printed there)
+NIST = {
+    "energy_swing_J": ("energy_swing_ftlbf", 1.355818),        # ft*lbf -> J
+    "torque_mean_Nm": ("torque_mean_lbfft", 1.355818),         # lbf*ft -> N*m
+    "inertia_kgm2": ("inertia_lbft2", 4.214011e-2),            # lb*ft^2 -> kg*m^2
+    "bore_m": ("bore_in", 2.54e-2),                            # in -> m (exact)
+    "strength_MPa": ("strength_ksi", 6.894757),                # ksi -> MPa
+    "mass_kg": ("mass_lb", 4.535924e-1),                       # lb -> kg
+    "power_W": ("power_hp", 7.456999e2),                       # hp (550 ft*lbf/s) -> W
+    "rim_speed_m_s": ("rim_speed_ft_s", 3.048e-1),             # ft/s -> m/s (exact)
+    "density_kg_per_m3": ("density_lb_per_in3", 2.767990e4),   # lb/in^3 -> kg/m^3
+}
+
+
+@pytest.mark.parametrize("key", sorted(NIST))
+def test_factors_against_nist_sp811(key):
+    us, to_si = NIST[key]
+    new, factor = us_key(key)
+    assert new == us
+    assert 1.0 / factor == pytest.approx(to_si, rel=5e-7)
+
+
+def test_speed_and_dimensionless_stay():
+    assert us_key("speed_mean_rpm") == ("speed_mean_rpm", 1.0)
+    assert us_key("cs") == ("cs", 1.0)
+    assert key_unit("inertia_lbft2", "us") == "lb·ft²"
+
+
+def test_hand_conversion_of_energy_swing_and_inertia():
+    # by hand: 8130 J / 1.355818 J per ft*lbf = 5996.3 ft*lbf;
+    # 310 kg*m^2 / 0.04214011 kg*m^2 per lb*ft^2 = 7356.4 lb*ft^2
+    d = convert_keys({"energy_swing_J": 8130.0, "inertia_kgm2": 310.0}, "us")
+    assert d["energy_swing_ftlbf"] == pytest.approx(8130.0 / 1.355818, rel=1e-6)
+    assert d["inertia_lbft2"] == pytest.approx(310.0 / 4.214011e-2, rel=1e-6)
+
+
+def _walk(a, b, path=""):
+    if isinstance(a, dict):
+        assert set(a) == set(b), path
+        for k in a:
+            _walk(a[k], b[k], f"{path}.{k}")
+    elif isinstance(a, list):
+        assert len(a) == len(b), path
+        for i, (x, y) in enumerate(zip(a, b, strict=True)):
+            _walk(x, y, f"{path}[{i}]")
+    elif isinstance(a, float) and not isinstance(a, bool):
+        assert b == pytest.approx(a, rel=1e-12, abs=0), path
+    else:
+        assert a == b, path
+
+
+def test_round_trip_si_us_si_of_a_whole_result():
+    d = flywheel_from_profile(None, inertia=310.0, speed=450 * math.pi / 30,
+                              material="ductile-iron", outer_diameter=1.4, bore=0.16,
+                              interference=0.12e-3).to_dict()
+    us = convert_keys(d, "us")
+    assert "inertia_lbft2" in us and "inertia_kgm2" not in us
+    assert "outer_diameter_in" in us
+    assert us["options"]["interference_in"] == pytest.approx(0.12 / 25.4)
+    _walk(d, convert_keys(us, "us", back=True))
+
+
+def test_cli_units_us_json_and_profile_setting(tmp_path):
+    args = ["flywheel", "--inertia", "310", "--speed-rpm", "450", "--material",
+            "ductile-iron", "--outer-diameter", "1.4", "--bore", "0.16", "--format", "json"]
+    si = json.loads(CliRunner().invoke(cli, args).stdout)
+    us = json.loads(CliRunner().invoke(cli, [*args, "--units", "us"]).stdout)
+    assert us["mass_lb"] == pytest.approx(si["mass_kg"] / 0.45359237, rel=1e-12)
+    assert us["outer_diameter_in"] == pytest.approx(1.4 / 0.0254, rel=1e-12)
+    prof = tmp_path / "p.toml"
+    prof.write_text('[output]\nunits = "us"\n', encoding="utf-8")
+    by_profile = json.loads(CliRunner().invoke(cli, [*args, "--profile", str(prof)]).stdout)
+    assert by_profile["mass_lb"] == pytest.approx(us["mass_lb"], rel=1e-12)
+    table = CliRunner().invoke(cli, [*args[:-2], "--units", "us"]).stdout
+    assert "inertia_lbft2" in table and "stress_von_mises_max_ksi" in table
+
+
+def test_profile_keys_take_numbers_with_units():
+    from torqlog.errors import DataError
+    from torqlog.profile import parse_profile
+
+    p = parse_profile({"machine": {"speed_rpm": "4.772 rad/s", "inertia_kgm2": "7356.4 lb*ft**2"},
+                       "flywheel": {"outer_diameter_m": "55 in"}}, "p.toml")
+    assert p.machine["speed"] == pytest.approx(4.772, rel=1e-12)
+    # NIST SP 811 B.9: 1 lb*ft^2 = 4.214011E-02 kg*m^2; 1 in = 0.0254 m (exact)
+    assert p.machine["inertia"] == pytest.approx(7356.4 * 4.214011e-2, rel=1e-6)
+    assert p.flywheel["outer_diameter"] == pytest.approx(55 * 0.0254, rel=1e-12)
+    with pytest.raises(DataError) as err:
+        parse_profile({"flywheel": {"bore_m": "3 kg"}}, "p.toml")
+    assert str(err.value).startswith("p.toml: [flywheel] bore_m = '3 kg': give a number in m")
