@@ -137,8 +137,6 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     memory does not grow with the log; csv, xlsx, Parquet and ``--units us`` build the
     table in memory first.
     """
-    import pandas as pd
-
     from torqlog.cli.base import _flat, output_settings
     from torqlog.cli.cycle_output import make_writer
 
@@ -164,8 +162,10 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     if stream:
         return
     table = None  # the JSON needs no pandas table (and so no pandas)
-    if summary_only:
-        table = pd.DataFrame([_flat(res.summary)]) if fmt in TABULAR else None
+    if summary_only and fmt in TABULAR:
+        import pandas as pd  # only here: the streamed outputs need no pandas
+
+        table = pd.DataFrame([_flat(res.summary)])
     elif fmt in TABULAR:
         table = res.table
     elif fmt == "table":
