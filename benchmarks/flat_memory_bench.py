@@ -8,7 +8,8 @@ Then runs as whole processes, interleaved, ``--runs`` times each:
 * ``bare``     — ``bare_read.py FILE``: a threaded pyarrow ``read_csv``, nothing else;
 * ``table``    — ``torqlog cycles FILE`` (readable table on stdout);
 * ``json``     — ``torqlog cycles FILE --format json -o OUT``;
-* ``parquet``  — ``torqlog cycles FILE --format parquet -o OUT``;
+* ``parquet``  — ``torqlog cycles FILE --format parquet -o OUT`` (the shared in-memory
+  output path: it grows with the cycles, shown for comparison);
 * ``report``   — ``torqlog report FILE --profile P -o OUT`` (only the 10 M and 60 M logs,
   or ``--report-shift`` on the shift log);
 
