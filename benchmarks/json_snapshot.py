@@ -37,6 +37,10 @@ RUNS = {
     "flywheel_press": ["flywheel", "--profile", f"{S}/press.toml", "--inertia", "40"],
     "shaft_press": ["shaft", "--profile", f"{S}/press.toml"],
     "shaft_engine": ["shaft", "--profile", f"{S}/engine.toml"],
+    "shaft_engine_log": ["shaft", "--profile", f"{S}/engine.toml", "--log",
+                         f"{S}/engine_preamble.txt"],
+    "life_press": ["life", f"{S}/press_comma.csv", "--profile", f"{S}/press.toml",
+                   "--add-inertia", "150"],
 }
 IGNORED = {"version", "torqlog_version", "software_version"}
 

@@ -59,7 +59,8 @@ def test_json_contract_and_values(tmp_path):
     assert res.exit_code == 0, res.output
     d = json.loads(res.stdout)
     assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed",
-                      "cautions", "options"}
+                      "cautions", "options", "forced_response", "strength",
+                      "fatigue_safety_factor", "governing_section"}
     assert d["options"]["speed_rpm"] == pytest.approx(45.0)
     assert d["options"]["add_mass_at_m"] == 1.40
     assert d["after"]["lateral"]["fe_hz"][0] < d["before"]["lateral"]["fe_hz"][0]
@@ -82,8 +83,9 @@ def test_simple_rig_against_formulas(tmp_path):
     f_l = math.sqrt(48 * e * i / 50.0) / (2 * math.pi)
     assert d["lateral"]["rayleigh_hz"] == pytest.approx(f_l, rel=1e-3)
     assert d["lateral"]["dunkerley_hz"] == pytest.approx(f_l, rel=1e-3)
-    # 300 rpm = 5 Hz; ten assumed orders: 50 Hz highest forcing
-    assert d["lateral"]["forcing_hz"] == pytest.approx(50.0)
+    # 300 rpm = 5 Hz: lateral forcing 1x and 2x the shaft speed, not the torque orders
+    assert d["lateral"]["forcing_hz"] == pytest.approx(5.0)
+    assert d["lateral"]["forcing_2x_hz"] == pytest.approx(10.0)
 
 
 def test_speed_option_overrides_profile_and_flags_order(tmp_path):
@@ -170,7 +172,7 @@ def test_unknown_key_reported_by_profile_loader(tmp_path):
     res = _run("--profile", p)
     assert res.exit_code == 1
     assert res.stderr == (f"Error: {p}: unknown key 'diameter' in [shaft] segments[0]; "
-                          f"valid keys: bore_m, diameter_m, length_m, material\n")
+                          f"valid keys: bore_m, diameter_m, fillet_m, length_m, material\n")
 
 
 def test_no_speed(tmp_path):
@@ -232,8 +234,8 @@ def test_log_orders_flag_the_torsional_mode_on_order_3(tmp_path):
                        "share": pytest.approx(200 / rss, rel=1e-3),
                        "detune": pytest.approx(0.03, abs=1e-6)}
     assert (d["verdict"], d["failed"]) == ("fail", ["torsional"])
-    # lateral forcing: the highest significant order, 3 x 10 Hz
-    assert d["lateral"]["forcing_hz"] == pytest.approx(30.0, rel=1e-6)
+    # lateral forcing: 1x the shaft speed (10 Hz); order 3 stays torsional
+    assert d["lateral"]["forcing_hz"] == pytest.approx(10.0, rel=1e-6)
     assert d["log"]["running_speed_from"] == "log mean"
     assert d["log"]["orders"]["order"] == [1.0, 3.0]
     np.testing.assert_allclose(d["log"]["orders"]["amplitude_Nm"], [300.0, 200.0], rtol=1e-3)
@@ -302,11 +304,12 @@ def test_strict_fails_with_exit_3_naming_the_check(tmp_path):
 
 
 def test_strict_names_both_failed_checks(tmp_path):
-    # the thin SIMPLE shaft fails both: first lateral mode near 40 Hz against 10 x 5 Hz
+    # at 1000 rpm (16.7 Hz) the thin SIMPLE shaft fails both: first lateral mode near
+    # 40 Hz is under 3x the shaft speed, the torsional mode (50.3 Hz) is 1 % off order 3
     p = _write(tmp_path, SIMPLE)
-    d = json.loads(_run("--profile", p, "--format", "json").stdout)
+    d = json.loads(_run("--profile", p, "--speed-rpm", 1000, "--format", "json").stdout)
     assert d["failed"] == ["lateral", "torsional"]
-    res = _run("--profile", p, "--strict", "--format", "json")
+    res = _run("--profile", p, "--speed-rpm", 1000, "--strict", "--format", "json")
     assert res.exit_code == 3
     lat = d["lateral"]["margin_text"].removesuffix(": fail")
     tor = d["torsional"]["margin_text"].removesuffix(": fail")

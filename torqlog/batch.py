@@ -170,7 +170,8 @@ class FileOutcome:
 
 
 def _file_start(job: FileJob) -> tuple[pd.Timestamp, str]:
-    from torqlog.sniff import preamble_start, sniff_layout
+    from torqlog.layout import preamble_start
+    from torqlog.sniff import sniff_layout
 
     if job.start:
         return pd.Timestamp(job.start), "option"

@@ -58,7 +58,8 @@ _MAX_EVENTS = 200
 COLUMNS = ("cycle", "t_start_s", "start_time", "duration_s", "speed_mean_rpm",
            "speed_min_rpm", "speed_max_rpm", "torque_mean_Nm", "torque_peak_Nm",
            "torque_min_Nm", "work_J", "energy_swing_J", "angle_speed_min_deg",
-           "angle_speed_max_deg", "cs", "cs_constant_drive", "flag")
+           "angle_speed_max_deg", "cs", "cs_constant_drive", "flag", "anomaly",
+           "anomaly_score")
 
 
 @dataclass(frozen=True)
@@ -220,6 +221,8 @@ class CycleResult:
     options: dict[str, Any]
     layout: Layout
     notes: list[str] = field(default_factory=list)
+    anomaly: Any = None  #: AnomalyResult of the cycle-shape check, or None when off
+    shape_model: Any = None  #: the ShapeModel the cycles were scored against
     rows_kept: bool = True
     stats: SummaryStream | None = field(default=None, repr=False, compare=False)
 
@@ -256,12 +259,13 @@ class CycleResult:
         ``rows=False`` (or rows not kept) leaves out ``cycles``, the one part that grows
         with the log.
         """
+        shape = self.anomaly.to_dict() if self.anomaly is not None else None
         if not (rows and self.rows_kept):
             return {"source": self.source, "options": self.options,
-                    "summary": self.summary, "notes": self.notes}
+                    "summary": self.summary, "notes": self.notes, "anomaly": shape}
         return {"source": self.source, "options": self.options,
                 "cycles": row_dicts(self.columns), "summary": self.summary,
-                "notes": self.notes}
+                "notes": self.notes, "anomaly": shape}
 
     def distribution(self, name: str, bins: int = 40) -> tuple[np.ndarray, np.ndarray] | None:
         """Histogram of a clean-cycle figure from the running summary (no table needed).
@@ -338,6 +342,9 @@ class _Stream:
         self.theta_max = -np.inf
         self.tails: dict[str, tuple[np.ndarray, np.ndarray]] = {}
         self.activity = np.empty(0)
+        #: consumer of each chunk's clean cycles (cycle numbers, start, duration, curves)
+        self.shape_sink: Callable[..., Any] | None = None
+        self.shape_scores: list[tuple[np.ndarray, np.ndarray]] = []
 
     def feed(self, chunk: Chunk, final: bool) -> None:
         t = chunk.time
@@ -675,6 +682,9 @@ class _Stream:
                 room = MAX_CURVES - self.n_curves
                 if room > 0:
                     self.curves[k].append(a[:room])
+            if self.shape_sink is not None:
+                self.shape_sink(row["cycle"][clean], row["t_start_s"][clean],
+                                duration[clean], {k: a[clean] for k, a in parts.items()})
             self.mean_n += int(clean.sum())
             self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
 
@@ -786,6 +796,7 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                    roles: dict[str, str] | None = None, units: dict[str, str] | None = None,
                    rate: float | None = None, start: str | None = None,
                    progress: Callable[[float], None] | None = None,
+                   anomaly: Any = True, shape_model: Any = None,
                    keep_rows: bool = True, sink: CycleSink | None = None,
                    quantile_budget: int = DEFAULT_QUANTILE_BUDGET,
                    sketch_error: float = DEFAULT_SKETCH_ERROR) -> CycleResult:
@@ -817,6 +828,11 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         Clean cycles held for exact quantiles [count] (recorded in the options).
     sketch_error : float
         Relative error bound of the quantile sketch used past the budget [–].
+    anomaly : AnomalyOptions or bool
+        The cycle-shape check (:mod:`torqlog.anomaly`): options, True for the defaults,
+        False to leave it out (``anomaly`` columns then empty).
+    shape_model : ShapeModel, optional
+        Score against this reference model instead of learning one from the log.
 
     Returns
     -------
@@ -884,6 +900,7 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
             sink.write(block)
 
     st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed, on_block)
+    monitor = _shape_monitor(st, o, anomaly, shape_model)
     _recycle_temporaries()
     pending = first
     try:
@@ -898,6 +915,8 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
                         f"are needed — record a longer log (cycle source {source!r}, "
                         f"{o.revs_per_cycle} rev per cycle)")
+    if monitor is not None:
+        st.shape_scores += monitor.finish()
     for col in lay.columns:
         if col.role in ("time", "torque", "speed", "angle") and col.unit_source == "assumed":
             notes.append(f"column {col.name!r} states no unit: {col.role} taken as "
@@ -926,11 +945,41 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
     table = _stored_columns(store, lay) if store is not None else {}
+    scored, abnormal = _fill_scores(table, st.shape_scores)
+    summary["anomaly"] = {"scored": scored, "abnormal": abnormal,
+                          "rate": abnormal / scored if scored else None}
+    shape = None
+    if monitor is not None:
+        shape = monitor.result()
+        notes += [f"cycle shape not checked: {n}" for n in shape.notes]
+        dur = stats.keepers["duration_s"].median() or float("nan")
+        per_bin = dur / st.dt / monitor.bins if st.dt else 9.0
+        if shape.scored and per_bin < 2.0:
+            notes.append(f"cycle shape: {per_bin:.2g} samples per "
+                         f"{360 // monitor.o.bins_per_rev}° model bin (at least 2 are "
+                         "needed); where the cycle's sampling moves expect false alarms: "
+                         "log faster")
     res = CycleResult(lay.path, table, summary, mean_cycle, curves, record(), lay, notes,
+                      anomaly=shape, shape_model=monitor.model if monitor is not None else None,
                       rows_kept=keep_rows, stats=stats)
     if sink is not None:
         sink.finish(res)
     return res
+
+
+def _fill_scores(table: dict[str, np.ndarray], shape_scores: list[Any]) -> tuple[int, int]:
+    """Put the cycle-shape scores (known only once the model has its reference cycles)
+    into the kept rows; the count of scored and abnormal cycles."""
+    scored = abnormal = 0
+    for c, sc in shape_scores:  # cycle numbers run 1..n
+        sc = np.asarray(sc, dtype=np.float64)
+        scored += int(np.isfinite(sc).sum())
+        abnormal += int((sc > 1.0).sum())
+        if table:
+            i = np.asarray(c) - 1
+            table["anomaly_score"][i] = sc
+            table["anomaly"][i] = sc > 1.0
+    return scored, abnormal
 
 
 def row_dicts(columns: dict[str, np.ndarray]) -> list[dict[str, Any]]:
@@ -945,6 +994,24 @@ def row_dicts(columns: dict[str, np.ndarray]) -> list[dict[str, Any]]:
         else:
             cols.append(v.tolist())
     return [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
+
+
+def _shape_monitor(st: _Stream, o: CycleOptions, anomaly: Any, model: Any) -> Any:
+    """Attach the cycle-shape check (torqlog.anomaly) to the stream, or None when off."""
+    if anomaly is False and model is None:
+        return None
+    from torqlog import anomaly as an
+
+    chans = set(st.has) | ({"speed"} if st.speed_from_angle else set())
+    opts = anomaly if isinstance(anomaly, an.AnomalyOptions) else an.AnomalyOptions()
+    monitor = an.ShapeMonitor(opts, o.revs_per_cycle, chans, model)
+
+    def sink(cycles: np.ndarray, t_start: np.ndarray, duration: np.ndarray,
+             curves: dict[str, np.ndarray]) -> None:
+        st.shape_scores += monitor.push(cycles, t_start, duration, curves)
+
+    st.shape_sink = sink
+    return monitor
 
 
 def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
@@ -1018,6 +1085,8 @@ def _block_columns(cols: dict[str, np.ndarray], lay: Layout, o: CycleOptions,
         "cs": cs,
         "cs_constant_drive": cs_pred,
         "flag": cols["flag"],
+        "anomaly": np.zeros(n, dtype=bool),  # scored later: filled into kept rows at the end
+        "anomaly_score": np.full(n, np.nan),
     }
 
 
@@ -1060,7 +1129,14 @@ def summarise(table: Any, *, quantile_budget: int = DEFAULT_QUANTILE_BUDGET,
     acc.add({k: np.asarray(table[k]) for k in ("flag", "energy_swing_J", "cs", "torque_peak_Nm",
                                                "duration_s", "speed_mean_rpm", "work_J",
                                                "torque_mean_Nm")})
-    return acc.result(**extra)
+    out = acc.result(**extra)
+    if "anomaly_score" in table:
+        sc = np.asarray(table["anomaly_score"], dtype=np.float64)
+        scored = int(np.isfinite(sc).sum())
+        bad = int((sc > 1.0).sum())
+        out["anomaly"] = {"scored": scored, "abnormal": bad,
+                          "rate": bad / scored if scored else None}
+    return out
 
 
 def _mean_cycle(st: _Stream) -> dict[str, np.ndarray]:

@@ -95,5 +95,43 @@ def write_demo_inputs(out_dir: str | Path) -> list[DemoRun]:
     return runs
 
 
+def find_demo_fault(out_dir: str | Path) -> dict[str, object]:
+    """The compressor with a leaking valve: a healthy reference log, a faulty log, the
+    cycle-shape check on it against the reference, its figure and JSON.
+
+    Invented scenario: compressor 2 of the Brindlemoor Works, a suction valve starting to
+    leak (a torque deficit over part of the stroke in 5 % of the cycles).
+
+    Returns
+    -------
+    dict
+        ``folder``, ``reference``, ``log``, ``truth``, ``json``, ``plot`` (paths) and
+        ``result`` (the :class:`torqlog.anomaly.AnomalyResult`).
+    """
+    import json
+
+    from torqlog.anomaly import model_from_log
+    from torqlog.cycles import analyse_cycles
+    from torqlog.plots import plot_anomaly
+    from torqlog.simulate import Fault, simulate, write_log, write_truth
+
+    folder = Path(out_dir) / "compressor-fault"
+    folder.mkdir(parents=True, exist_ok=True)
+    start = DEMO_START + pd.Timedelta(hours=SHIFT_HOURS)
+    ref = write_log(simulate("compressor", duration=40.0, rate=1000.0, seed=21,
+                             start=DEMO_START), folder / "compressor_known_good.csv")
+    log = simulate("compressor", duration=30.0, rate=1000.0, seed=22, start=start,
+                   fault=Fault("valve-leak", seed=5))
+    path = write_log(log, folder / "compressor_valve_leak.csv")
+    truth = write_truth(log, folder / "compressor_valve_leak.truth.json")
+    res = analyse_cycles(path, shape_model=model_from_log(ref))
+    plot = plot_anomaly(res.anomaly, folder / "shape_anomalies.png")
+    out = folder / "shape_anomalies.json"
+    out.write_text(json.dumps(res.anomaly.to_dict(), indent=1, default=float) + "\n",
+                   encoding="utf-8")
+    return {"folder": folder, "reference": ref, "log": path, "truth": truth, "json": out,
+            "plot": plot, "result": res.anomaly}
+
+
 __all__ = ["DEMO_START", "DemoRun", "PRESS_DRIFT", "PRESS_SHIFTS", "SHIFT_HOURS",
-           "write_demo_inputs"]
+           "find_demo_fault", "write_demo_inputs"]

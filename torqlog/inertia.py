@@ -842,4 +842,14 @@ def size_log_dict(result: SizeResult, cycles: Any) -> dict[str, Any]:
     data = result.to_dict()
     data["source"] = cycles.source
     data["cycle_options"] = cycles.options
+    if "anomaly_score" in cycles.columns:  # cycle-shape check (torqlog.anomaly)
+        from torqlog.anomaly import abnormal_effect
+
+        eff = abnormal_effect(cycles.columns, data.get("quantile", 0.95))
+        data["abnormal_cycles"] = eff
+        if eff and eff["abnormal"] and eff["change"] is not None:
+            data["messages"].append(
+                f"{eff['abnormal']} cycle(s) of abnormal shape are in the sizing (they are real "
+                f"running); without them the design energy swing changes by "
+                f"{100 * eff['change']:+.2g} %")
     return data

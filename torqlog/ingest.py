@@ -32,7 +32,8 @@ import pyarrow as pa
 import pyarrow.csv as pacsv
 
 from torqlog.errors import DataError, UsageError
-from torqlog.sniff import ROLES, Column, Layout, sniff_layout, split_fields
+from torqlog.layout import ROLES, Column, Layout
+from torqlog.sniff import sniff_layout, split_fields
 
 if TYPE_CHECKING:
     import pandas as pd

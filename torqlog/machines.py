@@ -760,8 +760,13 @@ PROFILE_PARTS: Mapping[str, Mapping[str, Any]] = MappingProxyType({
                   "segments = [ { length_m = 0.14, diameter_m = 0.065 },\n"
                   "             { length_m = 0.38, diameter_m = 0.075 },\n"
                   "             { length_m = 0.26, diameter_m = 0.065 } ]\n"
-                  'masses = [ { name = "flywheel", mass_kg = 9.5, at_m = 0.70 },\n'
-                  '           { name = "belt pulley", mass_kg = 14.0, at_m = 0.06 } ]\n'),
+                  'masses = [ { name = "flywheel", mass_kg = 9.5, at_m = 0.70, seat = "shrink",'
+                  " hub_length_m = 0.12 },\n"
+                  '           { name = "belt pulley", mass_kg = 14.0, at_m = 0.06, seat = "key",'
+                  " key_width_m = 0.018, key_height_m = 0.011, key_length_m = 0.08,"
+                  " hub_length_m = 0.10 } ]\n"
+                  "ultimate_strength_MPa = 630.0   # AISI 1045 cold drawn\n"
+                  "yield_strength_MPa = 530.0\nbearing_ratings_N = [52000.0, 52000.0]\n"),
         "torsional_names": ("motor", "flywheel", "crank"),
         "torsional_inertias": (123.0, 155.0, 32.0),
         "stiffness": (4.0e6, 1.2e7),
@@ -771,12 +776,17 @@ PROFILE_PARTS: Mapping[str, Mapping[str, Any]] = MappingProxyType({
         "flywheel_speed_ratio": 1.0,
         "flywheel": ('shape = "annular-disc"\nmaterial = "ductile-iron"\n'
                      "outer_diameter_m = 0.75\nbore_m = 0.06\nmax_width_m = 0.14\n"),
+        # a lighter shaft than the others: its keyed flywheel seat is the marginal section
         "shaft": ('material = "steel"\nbearings_m = [0.0, 0.42]\n'
-                  "segments = [ { length_m = 0.12, diameter_m = 0.055 },\n"
-                  "             { length_m = 0.30, diameter_m = 0.065 },\n"
-                  "             { length_m = 0.16, diameter_m = 0.055 } ]\n"
-                  'masses = [ { name = "flywheel", mass_kg = 55.0, at_m = 0.54 },\n'
-                  '           { name = "crank webs", mass_kg = 18.0, at_m = 0.21 } ]\n'),
+                  "segments = [ { length_m = 0.12, diameter_m = 0.040, fillet_m = 0.001 },\n"
+                  "             { length_m = 0.30, diameter_m = 0.045 },\n"
+                  "             { length_m = 0.16, diameter_m = 0.040, fillet_m = 0.001 } ]\n"
+                  'masses = [ { name = "flywheel", mass_kg = 55.0, at_m = 0.54, seat = "key",'
+                  " key_width_m = 0.012, key_height_m = 0.008, key_length_m = 0.10,"
+                  " hub_length_m = 0.12 },\n"
+                  '           { name = "crank webs", mass_kg = 18.0, at_m = 0.21 } ]\n'
+                  "ultimate_strength_MPa = 630.0   # AISI 1045 cold drawn\n"
+                  "yield_strength_MPa = 530.0\nbearing_ratings_N = [30700.0, 30700.0]\n"),
         "torsional_names": ("motor", "flywheel", "crank"),
         "torsional_inertias": (0.42, 3.6, 0.48),
         "stiffness": (3.5e4, 6.0e5),
@@ -790,8 +800,12 @@ PROFILE_PARTS: Mapping[str, Mapping[str, Any]] = MappingProxyType({
                   "segments = [ { length_m = 0.10, diameter_m = 0.06 },\n"
                   "             { length_m = 0.26, diameter_m = 0.07 },\n"
                   "             { length_m = 0.14, diameter_m = 0.06 } ]\n"
-                  'masses = [ { name = "flywheel", mass_kg = 50.0, at_m = 0.48 },\n'
-                  '           { name = "crank webs", mass_kg = 14.0, at_m = 0.18 } ]\n'),
+                  'masses = [ { name = "flywheel", mass_kg = 50.0, at_m = 0.48, seat = "key",'
+                  " key_width_m = 0.018, key_height_m = 0.011, key_length_m = 0.10,"
+                  " hub_length_m = 0.12 },\n"
+                  '           { name = "crank webs", mass_kg = 14.0, at_m = 0.18 } ]\n'
+                  "ultimate_strength_MPa = 630.0   # AISI 1045 cold drawn\n"
+                  "yield_strength_MPa = 530.0\nbearing_ratings_N = [47500.0, 47500.0]\n"),
         "torsional_names": ("crank", "flywheel", "generator"),
         "torsional_inertias": (0.25, 1.9, 0.85),
         "stiffness": (1.2e6, 2.5e5),

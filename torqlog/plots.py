@@ -6,6 +6,7 @@ matplotlib runs with the non-interactive Agg backend, so no screen is needed.
 
 from __future__ import annotations
 
+import textwrap
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -151,7 +152,7 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
     Parameters
     ----------
     result : ShaftResult
-        From :func:`torqlog.shaft.check_shaft`.
+        From :func:`torqlog.shaft_check.check_shaft`.
     path : str or Path
         PNG file to write.
     spectrum : OrderSpectrum, optional
@@ -198,7 +199,7 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
     ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
             color=PALETTE["reference"], ms=10, label="bearing")
     state = "after" if result.after is not None else "current"
-    ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× highest forcing "
+    ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× shaft speed "
                  f"{cur.forcing_hz:.2f} Hz: {cur.verdict}")
     ax.set_xlabel("position along shaft x [m]")
     ax.set_ylabel("relative deflection [-]")
@@ -238,8 +239,8 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
                         xytext=(3, 0), fontsize=8, rotation=90, va="bottom",
                         color=PALETTE["limit"])
         ax.axvline(cur.fe_hz[0] if cur.fe_hz else np.nan, color=PALETTE["mean"], ls="--",
-                   lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz"
-                   if cur.fe_hz else None)
+                   lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz (driven by 1×, "
+                   f"2×, not by orders)" if cur.fe_hz else None)
         ax.set_xscale("log")
         lo = freq.min() if len(freq) else 0.1
         ax.set_xlim(lo * 0.8, hi * 1.3)
@@ -684,3 +685,28 @@ def plot_trend_box(result: object, path: str | Path) -> Path:
                   title="box: quartiles\nwhiskers: 1.5 IQR\n(outliers not drawn)",
                   title_fontsize=8, alignment="left")
     return save(fig, path)
+
+
+def plot_anomaly(result: object, path: str | Path, worst: int = 3) -> Path:
+    """The worst abnormal cycles over the normal band (mean ± 3 SD), per channel."""
+    cur = result.curves  # type: ignore[attr-defined]
+    chans = [c for c in ("torque", "speed") if c + "_mean" in cur]
+    fig = Figure(figsize=(8.0, 3.0 * max(1, len(chans))))
+    a = cur.get("angle_deg")
+    for j, c in enumerate(chans):
+        ax = fig.add_subplot(len(chans), 1, j + 1)
+        m, sd = cur[c + "_mean"], cur[c + "_sd"]
+        unit = "N·m" if c == "torque" else "rad/s"
+        ax.fill_between(a, m - 3 * sd, m + 3 * sd, color=PALETTE["band"], alpha=0.6,
+                        label="normal band (mean ± 3 SD)")
+        ax.plot(a, m, color=PALETTE["reference"], lw=1.0, label="normal mean")
+        for k, row in enumerate(cur[c][:worst]):
+            ax.plot(a, row, lw=1.2, label=f"cycle {cur['cycle'][k]}")
+        ax.set_ylabel(f"{c} [{unit}]")
+        ax.legend(fontsize=7, loc="best")
+    if chans:
+        fig.axes[-1].set_xlabel("angle in the cycle [deg]")
+        fig.axes[0].set_title(textwrap.fill(result.sentence, 110), fontsize=8)  # type: ignore[attr-defined]
+    fig.tight_layout()
+    fig.savefig(path, dpi=110)
+    return Path(path)

@@ -50,7 +50,17 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "segments": (list, None),
         "masses": (list, None),
         "required_ratio": ((int, float), 1.0),
+        "separation_margin": ((int, float), 1.0),
         "self_weight": (bool, None),
+        "surface": (str, None),
+        "ultimate_strength_MPa": ((int, float), 1e6),
+        "yield_strength_MPa": ((int, float), 1e6),
+        "reliability": ((int, float), 1.0),
+        "temperature_C": ((int, float), 1.0),
+        "service_factor": ((int, float), 1.0),
+        "bearing_ratings_N": (list, None),
+        "bearing_type": (str, None),
+        "fatigue_method": (str, None),
     },
     "torsional": {
         "names": (list, None),
@@ -58,6 +68,8 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "stiffness_Nm_per_rad": (list, None),
         "band": ((int, float), 1.0),
         "min_share": ((int, float), 1.0),
+        "damping_ratio": ((int, float), 1.0),
+        "excitation_at": (str, None),
     },
     "output": {
         "units": (str, None),
@@ -72,9 +84,12 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
 #: Numeric keys for which zero makes sense (a solid disc has no bore); every other
 #: numeric key must be positive.
 _ZERO_OK = frozenset({"bore_m", "interference_m"})
+#: Numeric keys of any sign (a temperature in degrees Celsius).
+_ANY_SIGN = frozenset({"temperature_C"})
 
-_SEGMENT_KEYS = {"length_m", "diameter_m", "bore_m", "material"}
-_MASS_KEYS = {"name", "mass_kg", "at_m", "inertia_kgm2"}
+_SEGMENT_KEYS = {"length_m", "diameter_m", "bore_m", "material", "fillet_m"}
+_MASS_KEYS = {"name", "mass_kg", "at_m", "inertia_kgm2", "seat", "hub_length_m",
+              "key_width_m", "key_height_m", "key_length_m"}
 
 
 @dataclass(frozen=True)
@@ -171,8 +186,8 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
                                 f"{'number' if factor is not None else typ.__name__}")
             if factor is not None:
                 least = "zero or more" if key in _ZERO_OK else "greater than zero"
-                if not math.isfinite(value) or value < 0 or (value == 0 and
-                                                             key not in _ZERO_OK):
+                if not math.isfinite(value) or (key not in _ANY_SIGN and (
+                        value < 0 or (value == 0 and key not in _ZERO_OK))):
                     raise DataError(f"{source}: [{sec}] {key} must be {least}, got {value!r}; "
                                     "fix the profile")
                 out[_plain(key)] = float(value) * factor

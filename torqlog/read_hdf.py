@@ -31,7 +31,7 @@ if TYPE_CHECKING:
     import pandas as pd
     import pyarrow as pa
 
-    from torqlog.sniff import Layout
+    from torqlog.layout import Layout
 
 SUFFIXES = (".h5", ".hdf5", ".hdf", ".he5")
 BLOCK_ROWS = 1 << 16
@@ -97,11 +97,11 @@ def _scan(f: Any) -> list[dict[str, Any]]:
 
 def sniff_hdf(p: Path, roles: dict[str, str], units: dict[str, str], rate: float | None,
               start: str | pd.Timestamp | None) -> Layout:
-    """The :class:`~torqlog.sniff.Layout` of an HDF5 log (one group or table of it).
+    """The :class:`~torqlog.layout.Layout` of an HDF5 log (one group or table of it).
 
     The preamble records the groups and tables found and the one used.
     """
-    from torqlog.sniff import _build_layout
+    from torqlog.layout import _build_layout
 
     h5py = _h5py()
     if not p.is_file():

@@ -25,7 +25,7 @@ if TYPE_CHECKING:
     import pandas as pd
     import pyarrow as pa
 
-    from torqlog.sniff import Layout
+    from torqlog.layout import Layout
 
 SUFFIXES = (".mf4", ".mdf", ".mf3")
 #: Bytes per read fragment: ~64k samples of a few float channels per step.
@@ -97,7 +97,7 @@ def choose_group(groups: list[dict[str, Any]], roles: dict[str, str], path: Path
         No group has a torque or speed channel (naming every channel found), or the
         channels named are in different groups.
     """
-    from torqlog.sniff import _detect_role, _name_and_unit
+    from torqlog.layout import _detect_role, _name_and_unit
 
     wanted = set(roles.values())
     if wanted:
@@ -123,12 +123,12 @@ def choose_group(groups: list[dict[str, Any]], roles: dict[str, str], path: Path
 
 def sniff_mdf(p: Path, roles: dict[str, str], units: dict[str, str], rate: float | None,
               start: str | pd.Timestamp | None) -> Layout:
-    """The :class:`~torqlog.sniff.Layout` of an MDF file: one channel group, its units.
+    """The :class:`~torqlog.layout.Layout` of an MDF file: one channel group, its units.
 
     The layout's preamble records the groups found and the one used (``inspect`` shows
     them).
     """
-    from torqlog.sniff import _build_layout
+    from torqlog.layout import _build_layout
 
     mdf, handle = _open(p)
     try:

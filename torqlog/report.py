@@ -179,6 +179,10 @@ class ReportData:
                     rows.append({"check": f"shaft torsional, {state}",
                                  "verdict": st["torsional"]["verdict"],
                                  "text": st["torsional"]["margin_text"]})
+                if st.get("strength"):  # fatigue, yield, key, fit: governing check named
+                    rows.append({"check": f"shaft strength, {state}",
+                                 "verdict": st["strength"]["verdict"],
+                                 "text": st["strength"]["margin_text"]})
         return rows
 
 
@@ -282,7 +286,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
     from torqlog.flywheel import flywheel_from_profile
     from torqlog.inertia import size_log, size_log_dict
     from torqlog.profile import load_profile
-    from torqlog.shaft import check_shaft
+    from torqlog.shaft_check import check_shaft
     from torqlog.spectrum import mean_cycle_spectrum
     from torqlog.survey import survey_log
 
@@ -410,7 +414,9 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path, cycle_options: 
         mean_rpm = design.summary["speed_mean_rpm"]
         try:
             sh = check_shaft(prof, speed=mean_rpm / _RPM if mean_rpm else None, orders=spectrum,
-                             add_mass=add_mass, add_inertia=add_inertia)
+                             add_mass=add_mass, add_inertia=add_inertia,
+                             cycle_torque=(design.mean_cycle["torque_mean"].to_numpy(float)
+                                           if spectrum is not None else None))
             shaft = _plain(sh.to_dict())
             shaft["options"]["speed_source"] = ("mean speed of the design log" if mean_rpm
                                                 else "profile [machine] speed_rpm")

@@ -14,7 +14,8 @@ gyroscopic stiffening, shear deformation and bearing flexibility are neglected.
 
 The beam finite elements (element matrices, assembly, supports, static and eigenvalue
 solution) live in :mod:`torqlog.beam`. The torsional chain, its modes and their check
-against the orders live in :mod:`torqlog.torsion`; :func:`check_shaft` combines both for
+against the orders live in :mod:`torqlog.torsion`; :func:`torqlog.shaft_check.check_shaft`
+combines both (with strength and the forced response) for
 one machine profile.
 
 Every result here is a preliminary engineering estimate; see :data:`CAUTIONS`.
@@ -40,7 +41,6 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-import pandas as pd
 import scipy.linalg
 
 from torqlog.beam import (
@@ -56,14 +56,7 @@ from torqlog.beam import (
 from torqlog.errors import DataError, UsageError
 from torqlog.notebook import result_html
 from torqlog.profile import MachineProfile
-from torqlog.torsion import (
-    ASSUMED_MAX_ORDER,
-    TorsionalChain,
-    TorsionalResult,
-    significant_orders,
-    torsional_chain_from_profile,
-    torsional_check,
-)
+from torqlog.shaft_geometry import PointMass, ShaftSegment
 
 #: Standard acceleration of gravity [m/s^2] (CGPM 1901; NIST SP 811).
 GRAVITY = 9.80665
@@ -85,64 +78,6 @@ CAUTIONS: tuple[str, ...] = (
 LATERAL_METHODS = ("fe", "rayleigh", "dunkerley")
 
 
-# --------------------------------------------------------------------------- inputs
-@dataclass(frozen=True)
-class ShaftSegment:
-    """A cylindrical length of shaft.
-
-    Attributes
-    ----------
-    length : float [m]
-    diameter : float [m]
-        Outer diameter.
-    bore : float [m]
-        Inner diameter of a hollow segment, 0 for solid.
-    modulus, density : float or None [Pa], [kg/m^3]
-        Per-segment material overriding the model's, None to use the model's.
-    """
-
-    length: float
-    diameter: float
-    bore: float = 0.0
-    modulus: float | None = None
-    density: float | None = None
-
-    @property
-    def area(self) -> float:
-        """Cross-section area [m^2]."""
-        return math.pi / 4.0 * (self.diameter**2 - self.bore**2)
-
-    @property
-    def second_moment(self) -> float:
-        """Second moment of area about a diameter, I = pi (d^4 - d_i^4) / 64 [m^4]."""
-        return math.pi / 64.0 * (self.diameter**4 - self.bore**4)
-
-    @property
-    def polar_moment(self) -> float:
-        """Polar second moment of area, J = pi (d^4 - d_i^4) / 32 [m^4]."""
-        return math.pi / 32.0 * (self.diameter**4 - self.bore**4)
-
-
-@dataclass(frozen=True)
-class PointMass:
-    """A part carried by the shaft (flywheel, gear, pulley, coupling half).
-
-    Attributes
-    ----------
-    name : str
-    mass : float [kg]
-    at : float [m]
-        Position along the shaft, from x = 0 at the start of the first segment.
-    inertia : float [kg*m^2]
-        Polar moment of inertia about the shaft axis (0 when unknown). Lateral modes
-        use the thin-disc diametral inertia inertia / 2 only when asked
-        (``rotary_inertia=True``).
-    """
-
-    name: str
-    mass: float
-    at: float
-    inertia: float = 0.0
 
 
 def _model_problem(segments: Sequence[ShaftSegment], bearings: Sequence[float],
@@ -347,6 +282,40 @@ def _require_masses(model: ShaftModel, include_self_weight: bool, method: str) -
         raise UsageError(f"{method} needs masses on the shaft or its self weight")
 
 
+def support_reactions(model: ShaftModel) -> np.ndarray:
+    """Upward reaction [N] at each bearing under the weights of the point masses.
+
+    From the finite-element solution (R = K u - f at the supported deflections), so it
+    holds for two bearings and for statically indeterminate shafts on more.
+
+    References
+    ----------
+    Przemieniecki (1968), reactions from the assembled stiffness matrix.
+    """
+    beam, mass_nodes = _mesh(model)
+    weights = GRAVITY * np.array([m.mass for m in model.masses])
+    load = load_vector(len(beam.nodes), mass_nodes, weights, beam.element_length, None)
+    u = solve_static(beam.stiffness, load, beam.free)
+    r = beam.stiffness @ u - load
+    nodes = nearest_nodes(beam.nodes, np.asarray(model.bearings))
+    # deflection is positive down in the load vector: the reaction pushes up
+    return -r[2 * nodes]
+
+
+def bending_moment(model: ShaftModel, x: np.ndarray) -> np.ndarray:
+    """Bending moment [N*m] along the shaft under the weights of the point masses.
+
+    Statics of the free body left of x with the reactions of :func:`support_reactions`
+    (shaft self weight neglected).
+    """
+    x = np.atleast_1d(np.asarray(x, float))
+    pos = np.concatenate([np.asarray(model.bearings), [m.at for m in model.masses]])
+    force = np.concatenate([support_reactions(model),
+                            [-GRAVITY * m.mass for m in model.masses]])
+    arm = x[:, None] - pos[None, :]
+    return np.where(arm > 0, arm * force[None, :], 0.0).sum(axis=1)
+
+
 def shaft_mesh(model: ShaftModel, max_element: float | None = None) -> np.ndarray:
     """Node positions [m] of the finite-element mesh (rows of the mode shapes)."""
     return _mesh(model, max_element)[0].nodes
@@ -504,7 +473,12 @@ def fe_modes(model: ShaftModel, n: int = 3, *, rotary_inertia: bool = False,
 
 @dataclass(frozen=True, eq=False)
 class LateralResult:
-    """Lateral check of one shaft layout. ``to_dict()`` is the JSON contract."""
+    """Lateral check of one shaft layout. ``to_dict()`` is the JSON contract.
+
+    ``forcing_hz`` is the running speed of the shaft itself (1×, unbalance) and
+    ``forcing_2x_hz`` twice that (misalignment); ``ratio`` is the first lateral natural
+    frequency over 1×. Torque orders do not drive lateral modes and are not used here.
+    """
 
     rayleigh_hz: float
     dunkerley_hz: float
@@ -520,6 +494,14 @@ class LateralResult:
     x: np.ndarray = field(repr=False)           # node positions [m]
     deflection: np.ndarray = field(repr=False)  # static deflection [m]
     mode_shapes: np.ndarray = field(repr=False)  # (n_modes, n_nodes)
+    margin: float = 0.15
+    regime: str = "stiff"
+    separation: tuple[dict[str, Any], ...] = ()
+
+    @property
+    def forcing_2x_hz(self) -> float:
+        """Twice the shaft speed (misalignment) [Hz]."""
+        return 2.0 * self.forcing_hz
 
     _repr_html_ = result_html  # the notebook view
 
@@ -531,28 +513,48 @@ class LateralResult:
             "fe_hz": list(self.fe_hz),
             "static_deflection_max_mm": self.static_deflection_max * 1e3,
             "forcing_hz": self.forcing_hz,
+            "forcing_2x_hz": self.forcing_2x_hz,
             "ratio": self.ratio,
             "required_ratio": self.required_ratio,
+            "separation_margin": self.margin,
+            "regime": self.regime,
+            "separation": [dict(d) for d in self.separation],
             "verdict": self.verdict,
             "margin_text": self.margin_text,
             "method": self.method,
         }
 
 
-def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
-                  required_ratio: float = 3.0, *, include_self_weight: bool = False,
+def lateral_check(model: ShaftModel, shaft_speed_hz: float, required_ratio: float = 3.0,
+                  *, margin: float = 0.15, include_self_weight: bool = False,
                   method: str = "fe", n_modes: int = 3, rotary_inertia: bool = False
                   ) -> LateralResult:
-    """Hold the first lateral natural frequency against the highest forcing frequency.
+    """Hold the lateral natural frequencies against 1× and 2× the shaft's own speed.
+
+    Lateral modes are driven by unbalance (once per revolution of the shaft that carries
+    the masses) and misalignment (twice per revolution); the orders of the torque drive
+    torsional modes and are held against those in :mod:`torqlog.torsion`.
+
+    Two rules, both common practice (no published source):
+
+    * a *stiff* shaft runs below its first critical speed, and the first critical must be
+      at least ``required_ratio`` × the running speed (3 to 4 is usual; default 3);
+    * a shaft whose first critical lies below 1× (a *flexible* shaft, run through its
+      first critical) needs every lateral mode at least ``margin`` (default ±15 %) away
+      from 1× and 2×.
+
+    A shaft whose first critical lies between 1× and ``required_ratio`` × fails the stiff
+    rule.
 
     Parameters
     ----------
     model : ShaftModel
-    forcing_hz : float or sequence of float [Hz]
-        Forcing frequencies; the highest one counts.
+    shaft_speed_hz : float [Hz]
+        Running speed of this shaft (the flywheel shaft speed ratio already applied).
     required_ratio : float
-        Required ratio of first natural frequency to highest forcing frequency. The
-        default 3 is common practice (3 to 4 is usual).
+        Required first critical / running speed for a stiff shaft (default 3).
+    margin : float
+        Separation margin of every mode from 1× and 2× for a flexible shaft (default 0.15).
     include_self_weight : bool
         Include the shaft's own mass in Rayleigh and Dunkerley and its weight in the
         static deflection (the finite-element modes always include the shaft's mass).
@@ -562,15 +564,23 @@ def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
     Returns
     -------
     LateralResult
+
+    References
+    ----------
+    Thomson and Dahleh, *Theory of Vibration with Applications*, whirling of rotating
+    shafts (critical speed at the lateral natural frequency, excited by unbalance at 1×).
     """
     if method not in LATERAL_METHODS:
         raise UsageError(f"unknown lateral method {method!r}; valid: "
                          f"{', '.join(LATERAL_METHODS)}")
-    forcing = float(np.max(np.atleast_1d(np.asarray(forcing_hz, float))))
-    if not forcing > 0:
-        raise UsageError(f"forcing frequency must be positive, got {forcing:g} Hz")
-    if not required_ratio > 0:
-        raise UsageError(f"required ratio must be positive, got {required_ratio:g}")
+    speed_hz = float(shaft_speed_hz)
+    if not speed_hz > 0:
+        raise UsageError(f"shaft speed must be positive, got {speed_hz:g} Hz")
+    if not required_ratio > 1:
+        raise UsageError(f"required ratio must be greater than 1, got {required_ratio:g}")
+    if not 0 < margin < 1:
+        raise UsageError(f"separation margin must be a fraction between 0 and 1, "
+                         f"got {margin:g}")
     has_mass = bool(model.masses) or include_self_weight
     f_r = rayleigh(model, include_self_weight) if has_mass else math.nan
     f_d = dunkerley(model, include_self_weight) if has_mass else math.nan
@@ -578,221 +588,42 @@ def lateral_check(model: ShaftModel, forcing_hz: float | Sequence[float],
     x, y = static_deflection(model, include_self_weight)
     first = {"fe": float(freqs[0]) if len(freqs) else math.nan,
              "rayleigh": f_r, "dunkerley": f_d}[method]
-    ratio = first / forcing
-    verdict = "pass" if ratio >= required_ratio else "fail"
+    ratio = first / speed_hz
     label = {"fe": "first lateral mode", "rayleigh": "Rayleigh estimate",
              "dunkerley": "Dunkerley estimate"}[method]
-    text = (f"{label} {first:.1f} Hz is {ratio:.1f}× the highest forcing {forcing:.2f} Hz "
-            f"(required {required_ratio:g}×): {verdict}")
+    modes = np.array([first, *[float(f) for f in freqs[1:]]]) if method == "fe" else \
+        np.array([first])
+    sep = []
+    for f in modes:
+        for mult in (1, 2):
+            sep.append({"mode_hz": float(f), "multiple": mult,
+                        "forcing_hz": mult * speed_hz,
+                        "separation": float(f / (mult * speed_hz) - 1.0)})
+    if ratio >= required_ratio:
+        regime, verdict = "stiff", "pass"
+        text = (f"{label} {first:.1f} Hz is {ratio:.1f}× the shaft speed {speed_hz:.2f} Hz "
+                f"(stiff shaft, required {required_ratio:g}×): pass")
+    elif ratio > 1.0:
+        regime, verdict = "stiff", "fail"
+        text = (f"{label} {first:.1f} Hz is only {ratio:.1f}× the shaft speed "
+                f"{speed_hz:.2f} Hz (stiff shaft, required {required_ratio:g}×): fail")
+    else:
+        regime = "flexible"
+        worst = min(sep, key=lambda d: abs(d["separation"]))
+        verdict = "pass" if abs(worst["separation"]) >= margin else "fail"
+        text = (f"{label} {first:.1f} Hz lies below the shaft speed {speed_hz:.2f} Hz "
+                f"(flexible shaft); nearest: mode {worst['mode_hz']:.1f} Hz is "
+                f"{worst['separation'] * 100:+.0f} % from {worst['multiple']}× "
+                f"(required ±{margin * 100:g} %): {verdict}")
     return LateralResult(f_r, f_d, tuple(float(f) for f in freqs),
-                         float(np.max(np.abs(y))), forcing, float(ratio),
-                         float(required_ratio), verdict, text, method, model, x, y, shapes)
-
-
-# --------------------------------------------------------------------------- the check
-@dataclass(frozen=True, eq=False)
-class ShaftState:
-    """Lateral and torsional results of one configuration (torsional may be None)."""
-
-    lateral: LateralResult
-    torsional: TorsionalResult | None
-
-    def to_dict(self) -> dict[str, Any]:
-        return {"lateral": self.lateral.to_dict(),
-                "torsional": self.torsional.to_dict() if self.torsional else None}
-
-
-@dataclass(frozen=True, eq=False)
-class ShaftResult:
-    """Shaft check before (and after, when parts are added). ``to_dict()`` is the JSON
-    contract; ``current`` is the after state when there is one, else the before, and the
-    ``verdict`` is that of the current state."""
-
-    before: ShaftState
-    after: ShaftState | None
-    cautions: tuple[str, ...]
-    options: dict[str, Any]
-    speed: float  # [rad/s]
-
-    @property
-    def current(self) -> ShaftState:
-        return self.after if self.after is not None else self.before
-
-    @property
-    def failures(self) -> dict[str, str]:
-        """Failed checks of the current state: {"lateral" | "torsional": margin text}."""
-        checks = {"lateral": self.current.lateral, "torsional": self.current.torsional}
-        return {name: res.margin_text for name, res in checks.items()
-                if res is not None and res.verdict == "fail"}
-
-    @property
-    def verdict(self) -> str:
-        """"fail" when a check of the current state fails, else "pass" (a torsional
-        check that could not be made does not fail)."""
-        return "fail" if self.failures else "pass"
-
-    def to_pandas(self) -> pd.DataFrame:
-        """One row per frequency: ``state``, ``check``, ``estimate``, ``frequency_Hz``."""
-        rows: list[tuple[str, str, str, float]] = []
-        states = [("before", self.before)] + ([("after", self.after)] if self.after else [])
-        for label, st in states:
-            lat = st.lateral
-            rows += [(label, "lateral", "Rayleigh", lat.rayleigh_hz),
-                     (label, "lateral", "Dunkerley", lat.dunkerley_hz)]
-            rows += [(label, "lateral", f"FE mode {i + 1}", f) for i, f in enumerate(lat.fe_hz)]
-            if st.torsional is not None:
-                tor = st.torsional
-                rows += [(label, "torsional", "rigid body" if r else f"mode {i}", f)
-                         for i, (f, r) in enumerate(zip(tor.modes_hz, tor.rigid_body,
-                                                        strict=True))]
-        return pd.DataFrame(rows, columns=["state", "check", "estimate", "frequency_Hz"])
-
-    _repr_html_ = result_html  # the notebook view
-
-    def to_dict(self) -> dict[str, Any]:
-        cur = self.current.to_dict()
-        return {"before": self.before.to_dict(),
-                "after": self.after.to_dict() if self.after else None,
-                "lateral": cur["lateral"], "torsional": cur["torsional"],
-                "verdict": self.verdict, "failed": list(self.failures),
-                "cautions": list(self.cautions), "options": dict(self.options)}
-
-
-def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: Any = None,
-                add_mass: float | None = None, add_mass_at: float | None = None,
-                add_inertia: float | None = None, add_inertia_at: str | None = None,
-                required_ratio: float | None = None, band: float | None = None,
-                min_share: float | None = None, self_weight: bool | None = None,
-                material: str | None = None, revs_per_cycle: int | None = None
-                ) -> ShaftResult:
-    """Check a machine's shaft, lateral and torsional, before and after adding parts.
-
-    Parameters
-    ----------
-    profile : MachineProfile
-        Needs ``[shaft]``; ``[torsional]`` is optional.
-    speed : float, optional [rad/s]
-        Shaft speed; default the profile's ``[machine] speed_rpm``.
-    orders : OrderSpectrum, mapping, sequence or None
-        Orders of the shaft speed present in the torque (see
-        :func:`torqlog.torsion.torsional_check`).
-        The lateral forcing is the highest significant order times the speed, at least
-        the running speed of the ``[shaft]`` itself (1×, unbalance), which turns at
-        ``[machine] flywheel_speed_ratio`` × ``speed`` (the shaft described is the one that
-        carries the flywheel).
-    add_mass : float, optional [kg]
-        A part added to the shaft (e.g. a flywheel).
-    add_mass_at : float, optional [m]
-        Its position; default the position of the shaft mass named ``add_inertia_at``
-        (``"flywheel"``).
-    add_inertia : float, optional [kg*m^2]
-        Inertia added to the chain element named ``add_inertia_at`` (default
-        ``"flywheel"``); also the polar inertia of the added mass.
-    required_ratio, band, min_share, self_weight
-        Default: the profile's ``[shaft]`` / ``[torsional]`` values, else 3.0 (common
-        practice), 0.10 (common practice), 0.05 and False.
-    material : str, optional
-        Overrides ``[shaft] material``.
-    revs_per_cycle : int, optional
-        Shaft revolutions per machine cycle (steps of the assumed orders when no
-        spectrum is given); default the profile's ``[machine] revs_per_cycle``, else 1.
-
-    Returns
-    -------
-    ShaftResult
-    """
-    model = shaft_model_from_profile(profile, material)
-    chain = torsional_chain_from_profile(profile)
-    if speed is None:
-        speed = profile.machine.get("speed")
-    if speed is None:
-        raise UsageError("no running speed: give --speed-rpm or set speed_rpm in the "
-                         "profile's [machine] section")
-    if not speed > 0:
-        raise UsageError(f"running speed must be positive, got {speed * 60 / (2 * math.pi):g} rpm")
-    required_ratio = _pick(required_ratio, profile.shaft.get("required_ratio"), 3.0)
-    band = _pick(band, profile.torsional.get("band"), 0.10)
-    min_share = _pick(min_share, profile.torsional.get("min_share"), 0.05)
-    self_weight = bool(_pick(self_weight, profile.shaft.get("self_weight"), False))
-    revs = int(_pick(revs_per_cycle, profile.machine.get("revs_per_cycle"), 1))
-    if revs < 1:
-        raise UsageError(f"revs per cycle must be a whole number of 1 or more, got {revs}")
-    at_name = add_inertia_at or "flywheel"
-
-    o, _, orders_source = significant_orders(orders, min_share, revs)
-    forcing_order = float(max(1.0, o.max() if len(o) else 1.0))
-    speed_hz = speed / (2 * math.pi)
-    # [shaft] describes the shaft that carries the flywheel, turning at
-    # flywheel_speed_ratio × the logged speed: its own 1× (unbalance) is a forcing too
-    shaft_ratio = float(profile.machine.get("flywheel_speed_ratio", 1.0))
-    lateral_forcing_hz = max(forcing_order, shaft_ratio) * speed_hz
-
-    def state(m: ShaftModel, c: TorsionalChain | None) -> ShaftState:
-        lat = lateral_check(m, lateral_forcing_hz, required_ratio,
-                            include_self_weight=self_weight)
-        tor = (torsional_check(c, orders, speed, band, min_share, revs_per_cycle=revs)
-               if c is not None else None)
-        return ShaftState(lat, tor)
-
-    before = state(model, chain)
-    after = None
-    if add_mass_at is not None and add_mass is None:
-        raise UsageError("a position for an added mass (--at) was given without the mass "
-                         "(--add-mass)")
-    if add_mass is not None or add_inertia is not None:
-        new_model, new_chain = model, chain
-        if add_mass is not None:
-            if not add_mass > 0:
-                raise UsageError(f"added mass must be positive, got {add_mass:g} kg")
-            if add_mass_at is None:
-                named = [m.at for m in model.masses if m.name == at_name]
-                if not named:
-                    raise UsageError(f"an added mass needs its position (--at); the shaft "
-                                     f"has no mass named {at_name!r} to place it at")
-                add_mass_at = named[0]
-            if not 0 <= add_mass_at <= model.length:
-                raise UsageError(f"added mass at {add_mass_at:g} m is outside the shaft "
-                                 f"(0 to {model.length:g} m); give --at within the shaft")
-            new_model = model.with_mass(PointMass("added", add_mass, add_mass_at,
-                                                  add_inertia or 0.0))
-        if add_inertia is not None:
-            if not add_inertia > 0:
-                raise UsageError(f"added inertia must be positive, got {add_inertia:g} kg*m^2")
-            if chain is None:
-                raise UsageError("an added inertia needs a [torsional] section in the profile")
-            new_chain = chain.add_inertia(add_inertia, at_name)
-        after = state(new_model, new_chain)
-
-    cautions = list(CAUTIONS)
-    if orders is None:
-        cautions.append(f"No measured order spectrum was given: every order up to "
-                        f"{ASSUMED_MAX_ORDER:g} of the shaft speed was assumed significant.")
-    if chain is None:
-        cautions.append("No [torsional] section in the profile: torsional modes not checked.")
-    options = {
-        "speed_rpm": speed * 60 / (2 * math.pi), "speed_hz": speed_hz,
-        "revs_per_cycle": revs, "required_ratio": required_ratio, "band": band,
-        "min_share": min_share, "self_weight": self_weight,
-        "orders_source": orders_source, "forcing_order": forcing_order,
-        "shaft_speed_ratio": shaft_ratio,
-        "material": material or profile.shaft.get("material", "steel"),
-        "modulus_GPa": model.modulus / 1e9, "density_kg_per_m3": model.density,
-        "supports": "simple (rigid)", "lateral_mass": "consistent shaft mass + point masses",
-        "add_mass_kg": add_mass, "add_mass_at_m": add_mass_at,
-        "add_inertia_kgm2": add_inertia, "add_inertia_at": at_name,
-    }
-    return ShaftResult(before, after, tuple(cautions), options, float(speed))
-
-
-def _pick(given: Any, from_profile: Any, default: Any) -> Any:
-    if given is not None:
-        return given
-    return from_profile if from_profile is not None else default
+                         float(np.max(np.abs(y))), speed_hz, float(ratio),
+                         float(required_ratio), verdict, text, method, model, x, y, shapes,
+                         float(margin), regime, tuple(sep))
 
 
 __all__ = [
     "CAUTIONS", "GRAVITY", "LATERAL_METHODS", "LateralResult", "PointMass", "ShaftModel",
-    "ShaftResult", "ShaftSegment", "ShaftState", "check_shaft", "dunkerley", "fe_modes",
+    "ShaftSegment", "dunkerley", "fe_modes",
     "lateral_check", "material_properties", "rayleigh", "shaft_mesh",
-    "shaft_model_from_profile", "static_deflection",
+    "shaft_model_from_profile", "static_deflection", "support_reactions", "bending_moment",
 ]

@@ -233,7 +233,7 @@ def simulate(machine: DemoMachine | str, duration: float = 60.0, rate: float = 1
              channels: Sequence[str] | str = ("torque", "speed"), seed: int = 0,
              noise: bool = True, gaps: int = 0, spikes: int = 0, clip: float | None = None,
              start: str | pd.Timestamp = "2026-03-02T06:00:00", inertia: float | None = None,
-             load_scale: float = 1.0) -> SimulatedLog:
+             load_scale: float = 1.0, fault: Fault | None = None) -> SimulatedLog:
     """Simulate a steady-state log of a demo machine.
 
     Parameters
@@ -264,6 +264,9 @@ def simulate(machine: DemoMachine | str, duration: float = 60.0, rate: float = 1
         Override the machine inertia at the logged shaft.
     load_scale : float
         Factor on the working load (die work, gas load, generator load).
+    fault : Fault, optional
+        A defect injected into the logged channels (:class:`Fault`); the cycles it hits
+        are in ``options["fault"]`` (see :func:`write_truth`).
 
     Returns
     -------
@@ -312,6 +315,9 @@ def simulate(machine: DemoMachine | str, duration: float = 60.0, rate: float = 1
     rng = np.random.default_rng(seed)
     torque = m.logged_torque(theta, omega)
     t_range = float(np.ptp(torque))
+    truth = None
+    if fault is not None:
+        torque, omega, truth = apply_fault(fault, m, time, theta, torque, omega)
     t_noise = rng.normal(0.0, 0.01 * t_range, n)
     w_noise = rng.normal(0.0, 5e-4 * float(np.mean(omega)), n)
     i_noise = rng.normal(0.0, 0.02, n)
@@ -369,8 +375,204 @@ def simulate(machine: DemoMachine | str, duration: float = 60.0, rate: float = 1
         "gaps": int(gaps), "spikes": int(spikes), "clip": clip,
         "inertia": float(m.inertia), "load_scale": float(load_scale),
         "settle": float(m.settle), "gap_times": gap_times, "spike_times": spike_times,
+        "fault": truth,
     }
     return SimulatedLog(data=data, machine=m, start=t_start, options=options)
+
+
+# ============================================================================ faults
+#: Fault types: default severity, what it is relative to, the cycle angle window [deg]
+#: (None: moves with a gear) and which cycles it hits by default.
+FAULTS: dict[str, dict[str, Any]] = {
+    "valve-leak": {"severity": 0.10, "channel": "torque", "window": (60.0, 130.0),
+                   "pick": "random", "rate": 0.05,
+                   "about": "a leaking compressor valve: a local torque deficit over part of "
+                            "the stroke (severity × the normal peak torque)"},
+    "misfire": {"severity": 1.0, "channel": "torque", "window": (360.0, 500.0),
+                "pick": "every", "every": 7,
+                "about": "one cylinder misfiring every Nth cycle: the firing stroke's torque "
+                         "pulse lost (severity × 40 % of the torque range)"},
+    "clutch-slip": {"severity": 0.01, "channel": "speed", "window": (90.0, 250.0),
+                    "pick": "from", "from": 0.5,
+                    "about": "a slipping clutch or belt: the logged speed sags over part of "
+                             "the stroke (severity × mean speed), sustained from a time on"},
+    "gear-tooth": {"severity": 0.08, "channel": "torque", "window": None, "order": 0.73,
+                   "tooth_deg": 8.0, "pick": "all",
+                   "about": "a damaged gear tooth: a short torque dip once per gear revolution "
+                            "(gear at 0.73× shaft speed; severity × the torque range)"},
+}
+
+
+@dataclass(frozen=True)
+class Fault:
+    """A defect to inject into a simulated log (invented scenarios for tests and the demo).
+
+    Attributes
+    ----------
+    name : str
+        One of :data:`FAULTS`: ``valve-leak``, ``misfire``, ``clutch-slip``, ``gear-tooth``.
+    severity : float, optional
+        Size of the defect (meaning per fault, see :data:`FAULTS`); None takes the default.
+    every : int, optional
+        Hit every Nth cycle.
+    rate : float, optional
+        Hit each cycle with this probability (seeded).
+    start : float [s], optional
+        Hit every cycle from this time on.
+    seed : int
+        Seed of the random choice of cycles.
+    """
+
+    name: str
+    severity: float | None = None
+    every: int | None = None
+    rate: float | None = None
+    start: float | None = None
+    seed: int = 0
+
+    def __post_init__(self) -> None:
+        if self.name not in FAULTS:
+            raise UsageError(f"unknown fault {self.name!r}; valid faults: {', '.join(FAULTS)}")
+        if self.severity is not None and not (self.severity > 0 and math.isfinite(
+                self.severity)):
+            raise UsageError(f"fault severity must be a positive number, got {self.severity!r}")
+        if self.every is not None and self.every < 1:
+            raise UsageError(f"fault every N cycles needs N ≥ 1, got {self.every}")
+        if self.rate is not None and not (0 < self.rate <= 1):
+            raise UsageError(f"fault rate must be in (0, 1], got {self.rate}")
+
+    @property
+    def level(self) -> float:
+        """The severity used."""
+        return float(self.severity if self.severity is not None
+                     else FAULTS[self.name]["severity"])
+
+
+def _half_sine(x: np.ndarray, lo: float, hi: float) -> np.ndarray:
+    inside = (x >= lo) & (x < hi)
+    return np.where(inside, np.sin(np.pi * (x - lo) / (hi - lo)), 0.0)
+
+
+def apply_fault(fault: Fault, machine: DemoMachine, time: np.ndarray, theta: np.ndarray,
+                torque: np.ndarray, speed: np.ndarray
+                ) -> tuple[np.ndarray, np.ndarray, dict[str, Any]]:
+    """Inject a fault into the logged torque or speed (not into the motion).
+
+    The defect is added to the logged channel only: the machine's motion is integrated
+    without it, which is close for a heavy flywheel and keeps the healthy cycles of a
+    faulty log identical to a healthy log's.
+
+    Parameters
+    ----------
+    fault : Fault
+    machine : DemoMachine
+    time : ndarray [s]
+    theta : ndarray [rad]
+        Crank angle (unwrapped, the cycle starts at multiples of the cycle angle).
+    torque : ndarray [N*m]
+    speed : ndarray [rad/s]
+
+    Returns
+    -------
+    torque, speed : ndarray
+        The logged channels with the defect.
+    truth : dict
+        ``name``, ``severity``, ``channel``, ``about`` and ``events``: the time [s] of the
+        middle of each defect (``t_s``), its extent (``from_s``, ``to_s``) and its cycle
+        index (crank angle // cycle angle).
+    """
+    spec = FAULTS[fault.name]
+    span = machine.cycle_angle
+    span_deg = math.degrees(span)
+    m = np.floor(theta / span).astype(np.int64)
+    m0, m1 = int(m[0]), int(m[-1])
+    n_cyc = m1 - m0 + 1
+    phase = np.degrees(theta - m * span)
+    pick = "every" if fault.every else "rate" if fault.rate else "from" if fault.start \
+        is not None else spec["pick"]
+    hit = np.zeros(n_cyc, dtype=bool)
+    if pick == "every":
+        n = int(fault.every or spec["every"])
+        hit[(np.arange(m0, m1 + 1) % n) == 0] = True
+    elif pick in ("random", "rate"):
+        rng = np.random.default_rng(fault.seed + 7919)
+        hit = rng.random(n_cyc) < (fault.rate or spec["rate"])
+    elif pick == "from":
+        t_from = fault.start if fault.start is not None else spec["from"] * float(time[-1])
+        cyc_from = int(m[np.searchsorted(time, t_from)]) if t_from <= time[-1] else m1 + 1
+        hit[cyc_from - m0:] = True
+    else:
+        hit[:] = True
+    sev = fault.level
+    mask = hit[m - m0]
+    if spec["window"] is None:  # gear tooth: once per gear revolution, any crank angle
+        order = spec["order"]
+        gear = np.degrees(theta * order) % 360.0
+        tooth = spec["tooth_deg"]
+        shape = _half_sine(gear, 180.0, 180.0 + tooth)
+        rev = np.floor(theta * order / _TWO_PI)
+        centres = (rev * _TWO_PI + math.radians(180.0 + tooth / 2)) / order
+        ev_theta = np.unique(centres)
+        ev_theta = ev_theta[(ev_theta >= theta[0]) & (ev_theta <= theta[-1])]
+        half = math.radians(tooth / 2) / order
+    else:
+        lo, hi = spec["window"]
+        lo, hi = lo % span_deg, min(hi, span_deg)
+        shape = _half_sine(phase, lo, hi)
+        ev_theta = (np.arange(m0, m1 + 1) * span + math.radians(0.5 * (lo + hi)))
+        ev_theta = ev_theta[(ev_theta >= theta[0]) & (ev_theta <= theta[-1])]
+        half = math.radians(0.5 * (hi - lo))
+    shape = np.where(mask, shape, 0.0)
+    ev_cycle = np.floor(ev_theta / span).astype(np.int64)
+    keep = hit[ev_cycle - m0]
+    ev_theta, ev_cycle = ev_theta[keep], ev_cycle[keep]
+    ev_time = np.interp(ev_theta, theta, time)
+    ev_from = np.interp(ev_theta - half, theta, time)
+    ev_to = np.interp(ev_theta + half, theta, time)
+    if spec["channel"] == "torque":
+        size = {"valve-leak": float(np.max(np.abs(torque))),
+                "misfire": 0.4 * float(np.ptp(torque))}.get(fault.name, float(np.ptp(torque)))
+        torque = torque - sev * size * shape
+        amount = sev * size
+    else:
+        amount = sev * float(np.mean(speed))
+        speed = speed * (1.0 - sev * shape)
+    truth = {"name": fault.name, "severity": sev, "channel": spec["channel"],
+             "amplitude": amount, "about": spec["about"], "pick": pick,
+             "events": [{"t_s": float(t), "from_s": float(a), "to_s": float(b),
+                         "cycle_index": int(c)}
+                        for t, a, b, c in zip(ev_time, ev_from, ev_to, ev_cycle, strict=True)]}
+    return torque, speed, truth
+
+
+def write_truth(log: SimulatedLog, path: str | Path) -> Path:
+    """Write the sidecar truth file of a faulty log (JSON: the fault and its events)."""
+    p = Path(path)
+    data = {"machine": log.machine.key, "start": log.start.isoformat(),
+            "fault": log.options.get("fault")}
+    p.write_text(json.dumps(data, indent=1), encoding="utf-8")
+    return p
+
+
+def truth_cycles(events: list[dict[str, Any]], t_start: np.ndarray,
+                 duration: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Mask of the cycles (start [s], duration [s]) that overlap a fault event.
+
+    ``hit``: the cycles holding an event's middle; ``touched`` (second value): every
+    cycle that overlaps an event's extent (a cycle split at another phase than the
+    crank's may hold part of a defect).
+    """
+    ev = sorted(events, key=lambda e: e["t_s"])
+    t = np.array([e["t_s"] for e in ev], dtype=np.float64)
+    a = np.searchsorted(t, t_start, side="left")
+    b = np.searchsorted(t, t_start + duration, side="left")
+    lo = np.array([e.get("from_s", e["t_s"]) for e in ev], dtype=np.float64)
+    hi = np.array([e.get("to_s", e["t_s"]) for e in ev], dtype=np.float64)
+    # cycle [s, e) overlaps event [lo, hi] when lo < e and hi > s
+    first = np.searchsorted(np.maximum.accumulate(hi) if hi.size else hi, t_start,
+                            side="right")
+    last = np.searchsorted(lo, t_start + duration, side="left")
+    return b > a, last > first
 
 
 # ============================================================================ writing

@@ -38,7 +38,7 @@ from torqlog.notebook import result_html
 from torqlog.profile import MachineProfile
 
 if TYPE_CHECKING:
-    from torqlog.shaft import ShaftSegment
+    from torqlog.shaft_geometry import ShaftSegment
 
 #: Orders assumed significant when no spectrum is given: k / revs_per_cycle up to this
 #: order of the shaft speed. A stated default of this program, not a standard.
@@ -121,6 +121,20 @@ def torsional_chain_from_profile(profile: MachineProfile) -> TorsionalChain | No
         raise DataError(f"{src}: [torsional] {exc}") from None
 
 
+def chain_matrices(chain: TorsionalChain) -> tuple[np.ndarray, np.ndarray]:
+    """Inertia matrix J [kg*m^2] (diagonal) and stiffness matrix K [N*m/rad] of a chain
+    (K tridiagonal: k_i on and -k_i beside the diagonal; Den Hartog)."""
+    n = len(chain.inertias)
+    k = np.asarray(chain.stiffnesses, float)
+    K = np.zeros((n, n))
+    i = np.arange(n - 1)
+    np.add.at(K, (i, i), k)
+    np.add.at(K, (i + 1, i + 1), k)
+    np.add.at(K, (i, i + 1), -k)
+    np.add.at(K, (i + 1, i), -k)
+    return np.diag(np.asarray(chain.inertias, float)), K
+
+
 class TorsionalModes(NamedTuple):
     """Torsional modes: ``freqs`` [Hz] ascending, ``shapes`` (n_modes, n_inertias)."""
 
@@ -158,14 +172,8 @@ def torsional_modes(chain: TorsionalChain) -> TorsionalModes:
     Den Hartog, *Mechanical Vibrations*; Thomson and Dahleh, torsional systems.
     """
     n = len(chain.inertias)
-    k = np.asarray(chain.stiffnesses, float)
-    K = np.zeros((n, n))
-    i = np.arange(n - 1)
-    np.add.at(K, (i, i), k)
-    np.add.at(K, (i + 1, i + 1), k)
-    np.add.at(K, (i, i + 1), -k)
-    np.add.at(K, (i + 1, i), -k)
-    w2, vecs = scipy.linalg.eigh(K, np.diag(chain.inertias))
+    J, K = chain_matrices(chain)
+    w2, vecs = scipy.linalg.eigh(K, J)
     w2 = np.where(w2 <= 1e-9 * max(w2.max(), 0.0), 0.0, w2)
     shapes = vecs.T
     peak = shapes[np.arange(n), np.abs(shapes).argmax(axis=1)]
@@ -322,7 +330,7 @@ def torsional_check(chain: TorsionalChain, orders: Any = None, speed: float | No
 
 
 __all__ = [
-    "ASSUMED_MAX_ORDER", "TorsionalChain", "TorsionalModes", "TorsionalResult",
+    "ASSUMED_MAX_ORDER", "TorsionalChain", "chain_matrices", "TorsionalModes", "TorsionalResult",
     "significant_orders", "torsional_chain_from_profile", "torsional_check",
     "torsional_modes", "torsional_stiffness",
 ]

@@ -45,7 +45,7 @@ GROUP_BY: tuple[str, ...] = ("shift", "day", "file", "hour")
 #: Figures a group row carries (all may be charted).
 GROUP_FIGURES: tuple[str, ...] = (
     "cycles_per_min", "energy_swing_J_median", "energy_swing_J_p95", "cs_median", "cs_p95",
-    "torque_peak_Nm_p99", "work_J_mean", "flagged_share")
+    "torque_peak_Nm_p99", "work_J_mean", "flagged_share", "anomaly_rate")
 #: Figures charted unless told otherwise: energy swing, speed fluctuation, peak torque.
 DEFAULT_FIGURES: tuple[str, ...] = ("energy_swing_J_median", "cs_median", "torque_peak_Nm_p99")
 
@@ -105,7 +105,8 @@ def group_cycles(cycles: pd.DataFrame, calendar: ShiftCalendar, by: str = "shift
         ``date``, ``shift``, ``start_time`` [UTC], ``cycles`` (clean), ``cycles_total``,
         ``cycles_per_min`` (60 / median clean cycle duration), ``energy_swing_J_median``,
         ``energy_swing_J_p95``, ``cs_median``, ``cs_p95``, ``torque_peak_Nm_p99``,
-        ``work_J_mean`` (all over clean cycles) and ``flagged_share`` (flagged / all).
+        ``work_J_mean`` (all over clean cycles), ``flagged_share`` (flagged / all) and
+        ``anomaly_rate`` (abnormal cycle shape / cycles scored, :mod:`torqlog.anomaly`).
     """
     if by not in GROUP_BY:
         raise UsageError(f"unknown grouping {by!r}; valid: {', '.join(GROUP_BY)}")
@@ -131,10 +132,15 @@ def group_cycles(cycles: pd.DataFrame, calendar: ShiftCalendar, by: str = "shift
     c["_g"] = gid
     c["_start"] = start.to_numpy()
     c["_bad"] = (c["flag"] != "").astype(np.int64)
+    # cycle-shape check: abnormal share of the scored cycles (torqlog.anomaly)
+    score = c["anomaly_score"] if "anomaly_score" in c else pd.Series(np.nan, index=c.index)
+    c["_scored"] = np.isfinite(score.to_numpy(dtype=np.float64)).astype(np.int64)
+    c["_abn"] = (score.to_numpy(dtype=np.float64) > 1.0).astype(np.int64)
     g_all = c.groupby("_g", sort=True)
     out = g_all.agg(machine=("machine", "first"), date=("date", "first"),
                     shift=("shift", "first"), start_time=("_start", "min"),
-                    cycles_total=("cycle", "size"), flagged=("_bad", "sum"))
+                    cycles_total=("cycle", "size"), flagged=("_bad", "sum"),
+                    scored=("_scored", "sum"), abnormal=("_abn", "sum"))
     if by == "file":
         out.insert(1, "file", g_all["file"].first())
     g = c[c["_bad"] == 0].groupby("_g", sort=True)
@@ -151,6 +157,8 @@ def group_cycles(cycles: pd.DataFrame, calendar: ShiftCalendar, by: str = "shift
     out = out.join(stats, how="left")
     out["cycles"] = out["cycles"].fillna(0).astype(np.int64)
     out["flagged_share"] = out.pop("flagged") / out["cycles_total"]
+    scored = out.pop("scored")
+    out["anomaly_rate"] = (out.pop("abnormal") / scored).where(scored > 0)
     if by == "day":
         out["shift"] = ""
     out["start_time"] = pd.DatetimeIndex(out["start_time"]).tz_convert("UTC")
@@ -160,10 +168,11 @@ def group_cycles(cycles: pd.DataFrame, calendar: ShiftCalendar, by: str = "shift
     c["group"] = rank[gid]
     cols = ["machine", "date", "shift", "start_time", "cycles", "cycles_total",
             "cycles_per_min", "energy_swing_J_median", "energy_swing_J_p95", "cs_median",
-            "cs_p95", "torque_peak_Nm_p99", "work_J_mean", "flagged_share"]
+            "cs_p95", "torque_peak_Nm_p99", "work_J_mean", "flagged_share", "anomaly_rate"]
     if by == "file":
         cols.insert(1, "file")
-    return c.drop(columns=["_g", "_start", "_bad"]), out[cols].reset_index(drop=True)
+    return (c.drop(columns=["_g", "_start", "_bad", "_scored", "_abn"]),
+            out[cols].reset_index(drop=True))
 
 
 # ----------------------------------------------------------------------------- drift

@@ -5,7 +5,7 @@ in ``logs`` (inspect, cycles, size, trend), ``design`` (flywheel, shaft) and ``t
 (simulate, report, demo). Importing this package registers every command on ``cli``.
 """
 
-from torqlog.cli import design, logs, tools  # noqa: F401  (registers the commands)
+from torqlog.cli import design, life, logs, tools, watch  # noqa: F401  (registers the commands)
 from torqlog.cli.base import cli, main
 
 __all__ = ["cli", "main"]

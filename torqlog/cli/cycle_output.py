@@ -131,6 +131,8 @@ def _literals(block: dict[str, Any]) -> list[list[str]]:
             out.append([cache.get(f) or cache.setdefault(f, json.dumps(str(f),
                                                                        ensure_ascii=False))
                         for f in v])
+        elif np.asarray(v).dtype.kind == "b":
+            out.append(["true" if x else "false" for x in np.asarray(v).tolist()])
         elif np.asarray(v).dtype.kind == "f":
             out.append(["null" if x != x or x in (math.inf, -math.inf) else repr(x)
                         for x in np.asarray(v, dtype=np.float64).tolist()])
@@ -177,7 +179,8 @@ class JsonWriter:
 
     def finish(self, result: CycleResult) -> None:
         self._flush(self.batch.take())
-        tail = {"summary": result.summary, "notes": result.notes}
+        tail = {"summary": result.summary, "notes": result.notes,
+                "anomaly": result.anomaly.to_dict() if result.anomaly is not None else None}
         fh = self.target.open()
         if self.lines:
             fh.write(json.dumps(json.loads(to_json(tail)), ensure_ascii=False) + "\n")

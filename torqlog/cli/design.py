@@ -89,12 +89,58 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
                 lines.append(f"    ! mode {hit['mode_hz']:.1f} Hz near order {hit['order']:g} "
                              f"({hit['order_hz']:.2f} Hz, share {share}, detune "
                              f"{hit['detune'] * 100:+.1f} %)")
+        lines += _response_lines(st.get("forced_response"))
+        lines += _strength_lines(st.get("strength"))
     state = "after" if d["after"] is not None else "current"
     lines.append(f"\nVerdict ({state}): {d['verdict']}"
                  + (f" (failed: {', '.join(d['failed'])})" if d["failed"] else ""))
     lines.append("\nCautions:")
     lines += [f"  - {c}" for c in d["cautions"]]
     return "\n".join(lines) + "\n"
+
+
+def _response_lines(fr: dict[str, Any] | None) -> list[str]:
+    if not fr:
+        return []
+    o = fr["options"]
+    lines = [f"  forced response (log torque at {o['excitation_at']}, damping ratio "
+             f"{o['damping_ratio']:g}):"]
+    for i, name in enumerate(fr["sections"]):
+        lines.append(f"    {name}: mean {fr['torque_mean_Nm'][i]:.0f} N·m, dynamic peak "
+                     f"{fr['torque_dynamic_peak_Nm'][i]:.0f} N·m, peak "
+                     f"{fr['torque_peak_Nm'][i]:.0f} N·m")
+    if fr["governing_section"]:
+        amp = fr["governing_amplification"]
+        lines.append(f"    largest single order: order {fr['governing_order']:g} in "
+                     f"{fr['governing_section']}, {fr['governing_torque_dynamic_Nm']:.0f} N·m"
+                     + (f" ({amp:.2f}× quasi-static)" if amp is not None else ""))
+    return lines
+
+
+def _strength_lines(sd: dict[str, Any] | None) -> list[str]:
+    if not sd:
+        return []
+    t, o = sd["torque"], sd["options"]
+    lines = [f"  strength ({o['material']}, {o['method']}; shaft torque mean "
+             f"{t['torque_mean_Nm']:.0f}, alternating {t['torque_alt_Nm']:.0f}, peak "
+             f"{t['torque_peak_Nm']:.0f} N·m):"]
+    for r in sd["sections"]:
+        lines.append(f"    {r['section']:<34} d {r['diameter_mm']:5.0f} mm  Kf {r['kf']:.2f} "
+                     f"Kfs {r['kfs']:.2f}  M {r['moment_alt_Nm']:7.0f} N·m  n_fatigue "
+                     f"{r['fatigue_safety_factor']:5.2f}  n_yield "
+                     f"{r['yield_safety_factor']:5.2f}")
+    for k in sd["keys"]:
+        lines.append(f"    key of {k['part']}: n shear {k['shear_safety_factor']:.2f}, n bearing "
+                     f"{k['bearing_safety_factor']:.2f} at {k['torque_design_Nm']:.0f} N·m")
+    for f in sd["fits"]:
+        lines.append(f"    shrink fit of {f['part']}: p {f['pressure_MPa']:.1f} MPa carries "
+                     f"{f['torque_capacity_Nm']:.0f} N·m vs {f['torque_design_Nm']:.0f} N·m")
+    for b in sd["bearings"]:
+        life = (f", L10 {b['l10_hours']:.3g} h" if b.get("l10_hours") is not None else "")
+        lines.append(f"    bearing {b['bearing']} at {b['x_m']:g} m: reaction "
+                     f"{b['reaction_N']:.0f} N{life}")
+    lines.append(f"    {sd['margin_text']}")
+    return lines
 
 
 _SHAFT_SPEED_HELP = ("Running shaft speed [rpm] (default: the log's mean speed with --log, "
@@ -141,6 +187,17 @@ def _given_log_only(ctx: click.Context) -> list[str]:
               help="Smallest share of the dynamic torque that counts [default: 0.05].")
 @click.option("--self-weight", is_flag=True, default=None,
               help="Include the shaft's own weight in Rayleigh, Dunkerley and deflection.")
+@click.option("--margin", "separation_margin", type=float, default=None,
+              help="Lateral separation margin from 1× and 2× for a shaft running above its "
+                   "first critical, as a fraction [default: 0.15].")
+@click.option("--damping-ratio", type=float, default=None,
+              help="Modal damping ratio of the torsional forced response (with --log) "
+                   "[default: 0.02].")
+@click.option("--fatigue-method", type=click.Choice(["goodman", "gerber", "asme-elliptic"]),
+              default=None, help="Fatigue criterion of the strength check [default: goodman].")
+@click.option("--speed-range", nargs=2, type=QuantityType("speed", "rpm"), default=None,
+              help="Speed range MIN MAX [rpm] of a Campbell diagram (with --plot, written "
+                   "next to it as NAME_campbell.png).")
 @click.option("--strict", is_flag=True,
               help="Exit with code 3 when a check fails (the result is still written).")
 @click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
@@ -150,12 +207,15 @@ def _given_log_only(ctx: click.Context) -> list[str]:
 def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: float | None,
               add_mass_at: float | None, add_inertia: float | None, add_inertia_at: str | None,
               flywheel_file: str | None, required_ratio: float | None, band: float | None,
-              min_share: float | None, self_weight: bool | None, strict: bool,
-              plot_path: str | None, fmt: str, output: str | None, **kw: Any) -> None:
+              min_share: float | None, self_weight: bool | None,
+              separation_margin: float | None, damping_ratio: float | None,
+              fatigue_method: str | None, speed_range: tuple[float, float] | None,
+              strict: bool, plot_path: str | None, fmt: str, output: str | None,
+              **kw: Any) -> None:
     """Shaft natural frequencies, lateral and torsional, against the running speed."""
     from torqlog.errors import CheckFailed, UsageError
     from torqlog.profile import load_profile
-    from torqlog.shaft import check_shaft
+    from torqlog.shaft_check import check_shaft
     from torqlog.spectrum import mean_cycle_spectrum
     from torqlog.units import si_factor
 
@@ -168,6 +228,7 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
         add_mass, add_inertia = _flywheel_json(flywheel_file)
     speed, revs = kw["speed_rpm"], kw["revs_per_cycle"]
     spectrum, log_info = None, None
+    cycle_torque, torque_peak = None, None
     if log is None:
         given = _given_log_only(ctx)
         if given:
@@ -180,6 +241,11 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
         cycles, profile = run_cycles(log, {**kw, "profile": profile_path})
         spectrum = mean_cycle_spectrum(cycles)
         revs = cycles.options["revs_per_cycle"]
+        cycle_torque = cycles.mean_cycle["torque_mean"].to_numpy(dtype=float)
+        table = cycles.table
+        clean = table[table["flag"] == ""]
+        torque_peak = float(max(clean["torque_peak_Nm"].abs().max(),
+                                clean["torque_min_Nm"].abs().max()))
         mean_rpm = cycles.summary["speed_mean_rpm"]
         speed_from = "--speed-rpm" if speed is not None else "log mean"
         if speed is None and mean_rpm is not None:
@@ -198,7 +264,9 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
                          add_mass_at=add_mass_at, add_inertia=add_inertia,
                          add_inertia_at=add_inertia_at, required_ratio=required_ratio,
                          band=band, min_share=min_share, self_weight=self_weight or None,
-                         revs_per_cycle=revs)
+                         revs_per_cycle=revs, margin=separation_margin,
+                         cycle_torque=cycle_torque, torque_peak_logged=torque_peak,
+                         damping_ratio=damping_ratio, fatigue_method=fatigue_method)
     data = result.to_dict()
     if log_info is not None:
         log_info["orders"] = spectrum.significant(data["options"]["min_share"]).to_dict()
@@ -208,6 +276,14 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
 
         plot_shaft(result, plot_path, spectrum=spectrum)
         click.echo(f"wrote {plot_path}", err=True)
+        if speed_range is not None:
+            from torqlog.campbell import plot_campbell
+
+            camp = str(Path(plot_path).with_name(Path(plot_path).stem + "_campbell.png"))
+            plot_campbell(result, camp, speed_range, spectrum=spectrum)
+            click.echo(f"wrote {camp}", err=True)
+    elif speed_range is not None:
+        raise UsageError("--speed-range draws a Campbell diagram: give --plot FILE.png too")
     emit(data, result.to_pandas(), fmt, output,
          text=lambda d: _shaft_text(d, profile.machine.get("name", "")))
     if strict and result.failures:

@@ -27,6 +27,7 @@ from torqlog.cli.base import (
     read_kwargs,
     run_cycles,
 )
+from torqlog.cli.watch import shape_options
 
 
 def _finite(x: float | None) -> bool:
@@ -111,6 +112,8 @@ def _cycles_text(res: Any) -> str:
             f"{d['what']} {d['start_s']:.2f}–{d['end_s']:.2f} s"
             for d in s["not_running"][:5]) + ("; ..." if len(s["not_running"]) > 5 else "")]
           if s.get("not_running") else []),
+        *([f"cycle shape   {res.anomaly.sentence} (abnormal cycles stay in the figures "
+           "above: they are real running)"] if res.anomaly is not None else []),
         "",
     ])
 
@@ -120,6 +123,7 @@ def _cycles_text(res: Any) -> str:
 @cycle_options
 @click.option("--plot", type=FIGURE_FILE, default=None,
               help="Write a PNG: torque, E(θ) and speed against crank angle.")
+@shape_options
 @click.option("--summary-only", is_flag=True,
               help="Write the summary alone, without a row per cycle.")
 @click.option("--quantile-budget", type=click.IntRange(min=1), default=None,
@@ -131,20 +135,27 @@ def _cycles_text(res: Any) -> str:
 @output_options
 def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_only: bool,
            quantile_budget: int | None, sketch_error: float | None, **kw: Any) -> None:
-    """Split a log into machine cycles: energy swing, Cs and torque per cycle.
+    """Split a log into machine cycles: energy swing, Cs and torque per cycle, and cycles
+    whose shape is abnormal (with where in the cycle).
 
-    In SI, ``--format json`` and ``table`` write each cycle's row as it completes, so
-    memory does not grow with the log; csv, xlsx, Parquet and ``--units us`` build the
-    table in memory first.
+    With the shape check off, in SI, ``--format json`` and ``table`` write each cycle's row
+    as it completes, so memory does not grow with the log; the shape check (its scores come
+    once the model has its reference cycles), csv, xlsx, Parquet and ``--units us`` build
+    the table in memory first.
     """
     from torqlog.cli.base import _flat, output_settings
     from torqlog.cli.cycle_output import make_writer
+    from torqlog.cli.watch import shape_kwargs
 
     check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
+    save = kw.pop("save_shape_model")
+    shape_plot = kw.pop("shape_plot")
     extra = {k: v for k, v in (("quantile_budget", quantile_budget),
                                ("sketch_error", sketch_error)) if v is not None}
+    extra.update(shape_kwargs(log, kw))
     stream = not summary_only and fmt in ("json", "table") \
-        and output_settings()["units"] == "si"
+        and output_settings()["units"] == "si" \
+        and extra.get("anomaly") is False and extra.get("shape_model") is None
     if stream:
         writer = make_writer(fmt, output, _cycles_text)
         try:
@@ -156,6 +167,14 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
             click.echo(f"wrote {output}", err=True)
     else:
         res, _ = run_cycles(log, kw, keep_rows=not summary_only, **extra)
+    if save and res.shape_model is not None:
+        res.shape_model.save(save)
+        click.echo(f"wrote {save}", err=True)
+    if shape_plot and res.anomaly is not None:
+        from torqlog.plots import plot_anomaly
+
+        plot_anomaly(res.anomaly, shape_plot)
+        click.echo(f"wrote {shape_plot}", err=True)
     if plot:
         res.plot(plot)
         click.echo(f"wrote {plot}", err=True)
@@ -171,7 +190,7 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     elif fmt == "table":
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
                            "torque_peak_Nm", "work_J", "energy_swing_J", "cs",
-                           "cs_constant_drive", "flag"]]
+                           "cs_constant_drive", "flag", "anomaly", "anomaly_score"]]
     emit(res.to_dict(rows=not summary_only), table, fmt, output, text=_cycles_text(res))
 
 

@@ -51,19 +51,43 @@ from torqlog.cli.base import (
               help="Factor on the working load (to simulate drift).")
 @click.option("--profile-out", type=click.Path(dir_okay=False), default=None,
               help="Also write the machine profile (TOML) to this file.")
+@click.option("--fault", default=None, metavar="NAME",
+              help="Inject a defect: valve-leak, misfire, clutch-slip, gear-tooth; the cycles "
+                   "it hits go to a truth file (OUTPUT.truth.json).")
+@click.option("--severity", type=float, default=None,
+              help="Size of the defect (default per fault, see the docs).")
+@click.option("--fault-every", type=click.IntRange(min=1), default=None,
+              help="Hit every Nth cycle.")
+@click.option("--fault-rate", type=float, default=None,
+              help="Hit each cycle with this probability.")
+@click.option("--fault-from", type=QuantityType("time", "s"), default=None,
+              help="Hit every cycle from this time on [s].")
 def simulate_cmd(machine: str, output: str, duration: float, rate: float, channels: str,
                  dialect: str, seed: int, no_noise: bool, gaps: int, spikes: int,
                  clip: float | None, start: str, load_scale: float,
-                 profile_out: str | None) -> None:
+                 profile_out: str | None, fault: str | None, severity: float | None,
+                 fault_every: int | None, fault_rate: float | None,
+                 fault_from: float | None) -> None:
     """Write a synthetic log of a demo MACHINE (press, compressor, engine) of the
     invented Brindlemoor Works plant."""
-    from torqlog.simulate import demo_profile, get_machine, simulate, write_log
+    from torqlog.simulate import Fault, demo_profile, get_machine, simulate, write_log
 
     check_outputs({"-o": output, "--profile-out": profile_out}, {})
+    defect = None
+    if fault:
+        defect = Fault(fault, severity=severity, every=fault_every, rate=fault_rate,
+                       start=fault_from, seed=seed)
     log = simulate(get_machine(machine), duration=duration, rate=rate, channels=channels,
                    seed=seed, noise=not no_noise, gaps=gaps, spikes=spikes, clip=clip,
-                   start=start, load_scale=load_scale)
+                   start=start, load_scale=load_scale, fault=defect)
     write_log(log, output, dialect=dialect)
+    if defect is not None:
+        from torqlog.simulate import write_truth
+
+        truth = write_truth(log, f"{output}.truth.json")
+        f = log.options["fault"]
+        click.echo(f"{f['name']} (severity {f['severity']:g}) in {len(f['events'])} event(s); "
+                   f"truth in {truth}", err=True)
     info = log.to_dict()
     line = (f"wrote {output}: {info['name']} ({info['machine']}), {info['rows']} rows, "
             f"{info['duration_s']:g} s at {info['rate_Hz']:g} Hz, "
@@ -158,6 +182,12 @@ def demo_cmd(out_dir: str) -> None:
 
     click.echo("fleet table: " + ", ".join(str(p) for p in write_demo_fleet(runs, out_dir)),
                err=True)
+
+    from torqlog.demo import find_demo_fault
+
+    fault = find_demo_fault(out_dir)  # a machine with an injected fault, found
+    click.echo(f"compressor with a leaking valve: {fault['result'].sentence} "
+               f"(figure {fault['plot']})", err=True)
     first = reports.pop(0)
     for html in reports:
         click.echo(f"report: {html}")
