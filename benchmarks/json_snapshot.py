@@ -34,7 +34,7 @@ RUNS = {
     "size_compressor": ["size", f"{S}/compressor_semicolon.csv",
                         "--profile", f"{S}/compressor.toml"],
     "size_engine": ["size", f"{S}/engine_preamble.txt", "--profile", f"{S}/engine.toml"],
-    "flywheel_press": ["flywheel", "--profile", f"{S}/press.toml", "--inertia", "40"],
+    "flywheel_press": ["flywheel", "--profile", f"{S}/press.toml", "--inertia", "20"],
     "shaft_press": ["shaft", "--profile", f"{S}/press.toml"],
     "shaft_engine": ["shaft", "--profile", f"{S}/engine.toml"],
     "shaft_engine_log": ["shaft", "--profile", f"{S}/engine.toml", "--log",
