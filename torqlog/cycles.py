@@ -303,7 +303,7 @@ class _Stream:
 
     def __init__(self, opts: CycleOptions, tracker: ang.AngleTracker, has: set[str],
                  speed_from_angle: bool, nb_mean: int, nb_speed: int,
-                 on_block: Callable[[dict[str, np.ndarray]], None]) -> None:
+                 on_block: Callable[[dict[str, np.ndarray]], None] | None = None) -> None:
         self.o = opts
         self.tracker = tracker
         self.has = has
@@ -314,7 +314,10 @@ class _Stream:
         self.carry: dict[str, np.ndarray] | None = None
         self.next_m: int | None = None
         self.dt: float | None = None
-        self.on_block = on_block  # takes each block of finished cycles, then drops it
+        # takes each block of finished cycles, then drops it; without one (the live
+        # watcher) the blocks are listed in ``rows`` for the caller to take
+        self.rows: list[dict[str, np.ndarray]] = []
+        self.on_block = on_block if on_block is not None else self.rows.append
         self.speed_ctx: np.ndarray | None = None  # raw speed bins of recent cycles
         self.moments: dict[str, RunningMoments] = {}
         self.mean_n = 0
@@ -1151,3 +1154,10 @@ def _mean_cycle(st: _Stream) -> dict[str, np.ndarray]:
         else:
             df[k + "_mean"] = df[k + "_sd"] = np.full(nb, np.nan)
     return df
+
+
+def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]:
+    """The listed blocks of a stream without a block handler (the live watcher), as one
+    set of output columns."""
+    rows = {k: np.concatenate([r[k] for r in st.rows]) for k in st.rows[0]}
+    return _block_columns(rows, lay, o, st.dead)
