@@ -1160,4 +1160,11 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
     """The listed blocks of a stream without a block handler (the live watcher), as one
     set of output columns."""
     rows = {k: np.concatenate([r[k] for r in st.rows]) for k in st.rows[0]}
-    return _block_columns(rows, lay, o, st.dead)
+    out = _block_columns(rows, lay, o, st.dead)
+    first = int(out["cycle"][0])
+    for c, sc in st.shape_scores:  # cycle numbers run 1..n
+        i = np.asarray(c) - first
+        ok = (i >= 0) & (i < out["cycle"].size)
+        out["anomaly_score"][i[ok]] = np.asarray(sc, dtype=np.float64)[ok]
+    out["anomaly"] = out["anomaly_score"] > 1.0
+    return out
