@@ -1,8 +1,8 @@
 """Write a long synthetic log (time, torque, speed at 10 kHz) for the benchmarks.
 
-Usage: python benchmarks/make_big_log.py ROWS PATH
+Usage: python benchmarks/make_big_log.py ROWS PATH [RPM]
 
-The machine is an invented press-like load at about 120 rpm: torque with a few
+The machine is an invented press-like load at about 120 rpm (or RPM): torque with a few
 harmonics plus noise, speed from the small-fluctuation relation. Vectorised, written in
 blocks with pyarrow so writing 30 M rows takes seconds, not minutes.
 """
@@ -20,7 +20,8 @@ def main() -> None:
     rows = int(float(sys.argv[1]))
     path = sys.argv[2]
     fs = 10_000.0
-    w0 = 2 * np.pi * 2.0
+    rpm = float(sys.argv[3]) if len(sys.argv) > 3 else 120.0
+    w0 = 2 * np.pi * rpm / 60.0
     inertia = 400.0
     rng = np.random.default_rng(1)
     block = 1_000_000

@@ -20,12 +20,11 @@ from __future__ import annotations
 
 import functools
 import math
-from collections import Counter
 from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 from itertools import chain
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, Protocol
 
 import numpy as np
 
@@ -33,9 +32,11 @@ from torqlog import angle as ang
 from torqlog import condition as cond
 from torqlog import energy as en
 from torqlog import health
+from torqlog.cycle_table import ColumnStore, SummaryStream
 from torqlog.errors import DataError, UsageError, naming_file
 from torqlog.ingest import Chunk, Layout, LogReader
 from torqlog.notebook import result_html
+from torqlog.streamstats import DEFAULT_QUANTILE_BUDGET, DEFAULT_SKETCH_ERROR, RunningMoments
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -167,6 +168,19 @@ def options_from_profile(profile: Any = None, *, revs_per_cycle: int | None = No
     )
 
 
+class CycleSink(Protocol):
+    """Where finished cycles go as they complete (see :mod:`torqlog.cycle_writers`)."""
+
+    def start(self, source: str, options: dict[str, Any]) -> None:
+        """Called once, before the first block."""
+
+    def write(self, block: dict[str, np.ndarray]) -> None:
+        """A block of finished cycles, columns :data:`COLUMNS`."""
+
+    def finish(self, result: CycleResult) -> None:
+        """Called once at the end with the result (summary, notes)."""
+
+
 @dataclass(frozen=True)
 class CycleResult:
     """Everything the cycle stage found in one log.
@@ -193,6 +207,10 @@ class CycleResult:
         How the file was read.
     notes : list of str
         Things the reader should know (missing channels, estimated period ...).
+    rows_kept : bool
+        False when the rows were streamed out and not kept: ``columns`` is empty.
+    stats : SummaryStream or None
+        The running summary (histograms of the clean-cycle figures for plots).
     """
 
     source: str
@@ -205,6 +223,8 @@ class CycleResult:
     notes: list[str] = field(default_factory=list)
     anomaly: Any = None  #: AnomalyResult of the cycle-shape check, or None when off
     shape_model: Any = None  #: the ShapeModel the cycles were scored against
+    rows_kept: bool = True
+    stats: SummaryStream | None = field(default=None, repr=False, compare=False)
 
     # The figures are kept as numpy columns; the pandas tables are built on first use, so
     # `torqlog cycles` never has to import pandas (~0.3 s of start-up).
@@ -233,21 +253,34 @@ class CycleResult:
 
     _repr_html_ = result_html  # the notebook view
 
-    def to_dict(self) -> dict[str, Any]:
-        """The JSON contract of ``torqlog cycles`` (NaN and NaT become None)."""
-        cols = []
-        for name in COLUMNS:
-            v = self.columns[name]
-            if name == "start_time":
-                cols.append([None if _isnat(x) else _iso(x) for x in v])
-            elif v.dtype.kind == "f":
-                cols.append([None if x != x else x for x in v.tolist()])
-            else:
-                cols.append(v.tolist())
-        rows = [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
-        return {"source": self.source, "options": self.options, "cycles": rows,
-                "summary": self.summary, "notes": self.notes,
-                "anomaly": self.anomaly.to_dict() if self.anomaly is not None else None}
+    def to_dict(self, rows: bool = True) -> dict[str, Any]:
+        """The JSON contract of ``torqlog cycles`` (NaN and NaT become None).
+
+        ``rows=False`` (or rows not kept) leaves out ``cycles``, the one part that grows
+        with the log.
+        """
+        shape = self.anomaly.to_dict() if self.anomaly is not None else None
+        if not (rows and self.rows_kept):
+            return {"source": self.source, "options": self.options,
+                    "summary": self.summary, "notes": self.notes, "anomaly": shape}
+        return {"source": self.source, "options": self.options,
+                "cycles": row_dicts(self.columns), "summary": self.summary,
+                "notes": self.notes, "anomaly": shape}
+
+    def distribution(self, name: str, bins: int = 40) -> tuple[np.ndarray, np.ndarray] | None:
+        """Histogram of a clean-cycle figure from the running summary (no table needed).
+
+        Parameters
+        ----------
+        name : {"energy_swing_J", "cs", "torque_peak_Nm", "duration_s"}
+        bins : int
+            Equal-width bins over the values' range.
+
+        Returns
+        -------
+        (counts, edges) or None when no clean cycle has the figure.
+        """
+        return None if self.stats is None else self.stats.histogram(name, bins)
 
     def energy_curve(self) -> np.ndarray:
         """E(θ) [J] of the mean cycle on the ``mean_cycle`` grid (bin edges from 0)."""
@@ -269,7 +302,8 @@ class _Stream:
     """Carries samples and state from chunk to chunk."""
 
     def __init__(self, opts: CycleOptions, tracker: ang.AngleTracker, has: set[str],
-                 speed_from_angle: bool, nb_mean: int, nb_speed: int) -> None:
+                 speed_from_angle: bool, nb_mean: int, nb_speed: int,
+                 on_block: Callable[[dict[str, np.ndarray]], None] | None = None) -> None:
         self.o = opts
         self.tracker = tracker
         self.has = has
@@ -280,9 +314,12 @@ class _Stream:
         self.carry: dict[str, np.ndarray] | None = None
         self.next_m: int | None = None
         self.dt: float | None = None
+        # takes each block of finished cycles, then drops it; without one (the live
+        # watcher) the blocks are listed in ``rows`` for the caller to take
         self.rows: list[dict[str, np.ndarray]] = []
+        self.on_block = on_block if on_block is not None else self.rows.append
         self.speed_ctx: np.ndarray | None = None  # raw speed bins of recent cycles
-        self.mean_acc: dict[str, np.ndarray] = {}
+        self.moments: dict[str, RunningMoments] = {}
         self.mean_n = 0
         self.curves: dict[str, list[np.ndarray]] = {"torque": [], "speed": []}
         self.n_curves = 0
@@ -629,7 +666,7 @@ class _Stream:
         row["flag"] = flags
         row["cycle"] = self.cycle_no + 1 + np.arange(n_emit)
         self.cycle_no += n_emit
-        self.rows.append(row)
+        self.on_block(row)
         # mean cycle (clean cycles only) and curves for plots
         clean = flags == ""
         if clean.any():
@@ -644,9 +681,7 @@ class _Stream:
                 parts["speed"] = en.fill_rows(en.speed_bins_from_angle(t, th, bm, self.nb_mean))
             for k, a in parts.items():
                 a = a[clean]
-                s1, s2 = self.mean_acc.get(k + "1", 0.0), self.mean_acc.get(k + "2", 0.0)
-                self.mean_acc[k + "1"] = s1 + a.sum(axis=0)
-                self.mean_acc[k + "2"] = s2 + (a * a).sum(axis=0)
+                self.moments.setdefault(k, RunningMoments()).add(a)
                 room = MAX_CURVES - self.n_curves
                 if room > 0:
                     self.curves[k].append(a[:room])
@@ -764,8 +799,17 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                    roles: dict[str, str] | None = None, units: dict[str, str] | None = None,
                    rate: float | None = None, start: str | None = None,
                    progress: Callable[[float], None] | None = None,
-                   anomaly: Any = True, shape_model: Any = None) -> CycleResult:
+                   anomaly: Any = True, shape_model: Any = None,
+                   keep_rows: bool = True, sink: CycleSink | None = None,
+                   quantile_budget: int = DEFAULT_QUANTILE_BUDGET,
+                   sketch_error: float = DEFAULT_SKETCH_ERROR) -> CycleResult:
     """Split a log into cycles and compute the per-cycle figures, streaming.
+
+    The state kept per cycle is the summary's (running sums; values for exact quantiles
+    up to ``quantile_budget`` clean cycles, a relative-error sketch beyond) and, with
+    ``keep_rows``, the per-cycle table in compact typed columns. With ``keep_rows=False``
+    and a ``sink`` memory does not grow with the number of cycles: each block of finished
+    cycles goes to the sink (a file written as the cycles complete) and is dropped.
 
     Parameters
     ----------
@@ -777,6 +821,16 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
         Reading options, as for :func:`torqlog.ingest.sniff_layout`.
     progress : callable, optional
         Called after each chunk with the share of the file read (0 to 1).
+    keep_rows : bool
+        Keep every cycle's row (``columns``, ``table``); False keeps the summary, mean
+        cycle and plot curves only.
+    sink : CycleSink, optional
+        Receives ``start(source, options)`` before the first block, ``write(block)`` for
+        each block of finished cycles (columns :data:`COLUMNS`) and ``finish(result)``.
+    quantile_budget : int
+        Clean cycles held for exact quantiles [count] (recorded in the options).
+    sketch_error : float
+        Relative error bound of the quantile sketch used past the budget [–].
     anomaly : AnomalyOptions or bool
         The cycle-shape check (:mod:`torqlog.anomaly`): options, True for the defaults,
         False to leave it out (``anomaly`` columns then empty).
@@ -815,7 +869,40 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     nb_speed = int(min(2048, max(32, 8 * o.speed_cutoff_orders))) if o.speed_cutoff_orders \
         else 720 * o.revs_per_cycle
     nb_mean = 360 * o.revs_per_cycle
-    st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed)
+    stats = SummaryStream(quantile_budget, sketch_error)
+    store = ColumnStore() if keep_rows else None
+    # the running-segment and refusal checks read three columns of every cycle (17 bytes
+    # a cycle); without kept rows only those are stored
+    running = ColumnStore()
+    opts: dict[str, Any] = {}
+    started: list[bool] = []
+
+    def record() -> dict[str, Any]:  # every option that made the result
+        if not opts:
+            opts.update(asdict(o))
+            opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,
+                         "angle_grid_bins": nb_mean,
+                         "sample_rate_hz": 1.0 / st.dt if st.dt else None, **extra,
+                         "quantile_budget_cycles": int(quantile_budget),
+                         "sketch_relative_error": float(sketch_error)})
+            opts.pop("block_rows")
+            opts.pop("read_ahead")
+        return opts
+
+    def on_block(row: dict[str, np.ndarray]) -> None:
+        block = _block_columns(row, lay, o, st.dead)
+        stats.add(block)
+        if store is not None:
+            store.add({k: v for k, v in block.items() if k != "start_time"})
+        else:
+            running.add({k: block[k] for k in ("t_start_s", "duration_s", "flag")})
+        if sink is not None:
+            if not started:
+                started.append(True)
+                sink.start(lay.path, record())
+            sink.write(block)
+
+    st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed, on_block)
     monitor = _shape_monitor(st, o, anomaly, shape_model)
     _recycle_temporaries()
     pending = first
@@ -833,7 +920,6 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                         f"{o.revs_per_cycle} rev per cycle)")
     if monitor is not None:
         st.shape_scores += monitor.finish()
-    table = _columns(st, lay, o)
     for col in lay.columns:
         if col.role in ("time", "torque", "speed", "angle") and col.unit_source == "assumed":
             notes.append(f"column {col.name!r} states no unit: {col.role} taken as "
@@ -857,27 +943,60 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                          "and the energy swing off by up to about Cs (the angle ignores the "
                          "speed's swing)" if role == "speed"
                          else ""))
-    opts = asdict(o)
-    opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,
-                 "angle_grid_bins": nb_mean, "sample_rate_hz": 1.0 / st.dt if st.dt else None,
-                 **extra})
-    opts.pop("block_rows")
-    opts.pop("read_ahead")
-    health_summary = _health(st, table, lay.path, source)
-    summary = summarise(table, spikes=st.spikes, samples=st.samples, **health_summary)
+    health_summary = _health(st, (store or running).columns(), lay.path, source)
+    summary = stats.result(spikes=st.spikes, samples=st.samples, **health_summary)
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
+    table = _stored_columns(store, lay) if store is not None else {}
+    scored, abnormal = _fill_scores(table, st.shape_scores)
+    summary["anomaly"] = {"scored": scored, "abnormal": abnormal,
+                          "rate": abnormal / scored if scored else None}
     shape = None
     if monitor is not None:
         shape = monitor.result()
         notes += [f"cycle shape not checked: {n}" for n in shape.notes]
-        per_bin = float(np.median(table["duration_s"])) / st.dt / monitor.bins if st.dt else 9.0
+        dur = stats.keepers["duration_s"].median() or float("nan")
+        per_bin = dur / st.dt / monitor.bins if st.dt else 9.0
         if shape.scored and per_bin < 2.0:
-            notes.append(f"cycle shape: {per_bin:.2g} samples per {360 // monitor.o.bins_per_rev}° "
-                         "model bin (at least 2 are needed); where the cycle's sampling moves "
-                         "expect false alarms: log faster")
-    return CycleResult(lay.path, table, summary, mean_cycle, curves, opts, lay, notes,
-                       shape, monitor.model if monitor is not None else None)
+            notes.append(f"cycle shape: {per_bin:.2g} samples per "
+                         f"{360 // monitor.o.bins_per_rev}° model bin (at least 2 are "
+                         "needed); where the cycle's sampling moves expect false alarms: "
+                         "log faster")
+    res = CycleResult(lay.path, table, summary, mean_cycle, curves, record(), lay, notes,
+                      anomaly=shape, shape_model=monitor.model if monitor is not None else None,
+                      rows_kept=keep_rows, stats=stats)
+    if sink is not None:
+        sink.finish(res)
+    return res
+
+
+def _fill_scores(table: dict[str, np.ndarray], shape_scores: list[Any]) -> tuple[int, int]:
+    """Put the cycle-shape scores (known only once the model has its reference cycles)
+    into the kept rows; the count of scored and abnormal cycles."""
+    scored = abnormal = 0
+    for c, sc in shape_scores:  # cycle numbers run 1..n
+        sc = np.asarray(sc, dtype=np.float64)
+        scored += int(np.isfinite(sc).sum())
+        abnormal += int((sc > 1.0).sum())
+        if table:
+            i = np.asarray(c) - 1
+            table["anomaly_score"][i] = sc
+            table["anomaly"][i] = sc > 1.0
+    return scored, abnormal
+
+
+def row_dicts(columns: dict[str, np.ndarray]) -> list[dict[str, Any]]:
+    """Rows of per-cycle columns as JSON-ready dicts (NaN and NaT become None)."""
+    cols = []
+    for name in COLUMNS:
+        v = columns[name]
+        if name == "start_time":
+            cols.append([None if _isnat(x) else _iso(x) for x in v])
+        elif v.dtype.kind == "f":
+            cols.append([None if x != x else x for x in v.tolist()])
+        else:
+            cols.append(v.tolist())
+    return [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
 
 
 def _shape_monitor(st: _Stream, o: CycleOptions, anomaly: Any, model: Any) -> Any:
@@ -908,9 +1027,12 @@ def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
     health.refuse_without_clean_cycles(path, table["flag"], not_running)
     share = float("nan")
     for k in ("torque", "speed"):
-        if k + "1" in st.mean_acc and k not in st.dead:
-            share = health.cyclic_share(st.mean_acc[k + "1"], st.mean_acc[k + "2"],
-                                        st.mean_n)
+        rm = st.moments.get(k)
+        if rm is not None and rm.mean is not None and k not in st.dead:
+            # the sums the share is defined on, from the running moments
+            s1 = rm.mean * rm.n
+            s2 = rm.m2 + rm.n * rm.mean * rm.mean
+            share = health.cyclic_share(s1, s2, st.mean_n)
             health.refuse_if_not_cyclic(path, share, st.mean_n, k, source)
             break
     return {"cyclic_share": None if share != share else round(share, 4),
@@ -930,15 +1052,14 @@ def _iso(x: Any) -> str:
     return pd.Timestamp(x).isoformat()
 
 
-def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]:
-    cols: dict[str, np.ndarray] = {}
-    for k in st.rows[0]:
-        cols[k] = np.concatenate([r[k] for r in st.rows])
+def _block_columns(cols: dict[str, np.ndarray], lay: Layout, o: CycleOptions,
+                   dead: set[str]) -> dict[str, np.ndarray]:
+    """The output columns (:data:`COLUMNS`, SI converted at this edge) of a block of cycles."""
     n = cols["cycle"].size
     nan = np.full(n, np.nan)
     wmean = cols["speed_mean"]
     wmax, wmin = cols.get("speed_max", nan), cols.get("speed_min", nan)
-    if "speed" in st.dead:  # a constant channel cannot tell the fluctuation
+    if "speed" in dead:  # a constant channel cannot tell the fluctuation
         wmax = wmin = nan
     cs = en.coefficient_of_fluctuation(wmax, wmin, wmean, mean=o.cs_mean)
     de = cols.get("energy_swing")
@@ -947,15 +1068,8 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
         cs_pred = nan
     else:
         cs_pred = de / (o.inertia * wmean**2) if o.inertia else nan
-    start: Any = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
-    if lay.start is not None:  # the file or the options gave a time: pandas is loaded
-        import pandas as pd
-
-        start = lay.start + pd.to_timedelta(cols["t_start_s"], unit="s")  # keeps the zone
+    start = _start_times(cols["t_start_s"], lay)
     deg = 180.0 / math.pi
-    score = np.full(n, np.nan)
-    for c, sc in st.shape_scores:  # cycle numbers run 1..n
-        score[np.asarray(c) - int(cols["cycle"][0])] = sc
     return {
         "cycle": cols["cycle"].astype(np.int64),
         "t_start_s": cols["t_start_s"],
@@ -973,26 +1087,30 @@ def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]
         "angle_speed_max_deg": cols.get("angle_speed_max", nan) * deg,
         "cs": cs,
         "cs_constant_drive": cs_pred,
-        "flag": cols["flag"].astype(str),
-        "anomaly": score > 1.0,
-        "anomaly_score": score,
+        "flag": cols["flag"],
+        "anomaly": np.zeros(n, dtype=bool),  # scored later: filled into kept rows at the end
+        "anomaly_score": np.full(n, np.nan),
     }
 
 
-def _stats(x: np.ndarray) -> dict[str, float | None]:
-    x = x[~np.isnan(x)]
-    if x.size == 0:
-        return {"median": None, "p95": None, "max": None}
-    return {"median": float(np.median(x)), "p95": float(np.quantile(x, 0.95)),
-            "max": float(x.max())}
+def _start_times(t_start: np.ndarray, lay: Layout) -> Any:
+    """Absolute start of each cycle (NaT without a start time in the file or options)."""
+    if lay.start is None:
+        return np.full(t_start.size, np.datetime64("NaT"), dtype="datetime64[ns]")
+    import pandas as pd  # the file or the options gave a time: pandas is loaded
+
+    return lay.start + pd.to_timedelta(t_start, unit="s")  # keeps the zone
 
 
-def _mean_or_none(x: np.ndarray) -> float | None:
-    x = x[~np.isnan(x)]
-    return float(x.mean()) if x.size else None
+def _stored_columns(store: ColumnStore, lay: Layout) -> dict[str, np.ndarray]:
+    """Every kept row, in :data:`COLUMNS` order."""
+    cols = store.columns()
+    cols["start_time"] = _start_times(cols["t_start_s"], lay)
+    return {k: cols[k] for k in COLUMNS}
 
 
-def summarise(table: Any, **extra: Any) -> dict[str, Any]:
+def summarise(table: Any, *, quantile_budget: int = DEFAULT_QUANTILE_BUDGET,
+              sketch_error: float = DEFAULT_SKETCH_ERROR, **extra: Any) -> dict[str, Any]:
     """Summary over the clean cycles of a per-cycle table.
 
     Parameters
@@ -1006,54 +1124,47 @@ def summarise(table: Any, **extra: Any) -> dict[str, Any]:
         ``cycles`` (clean count), ``cycles_total``, ``flagged``, ``cycle_rate_per_min``,
         ``energy_swing_J`` and ``cs`` ({median, p95 (linear interpolation), max}),
         ``torque_peak_Nm_p99``, ``speed_mean_rpm``, ``work_J_mean``, ``torque_mean_Nm``,
-        ``flags`` (count of each reason); NaN values are left out of each figure.
+        ``flags`` (count of each reason), ``quantiles`` (exact, or the sketch and its
+        relative error bound past ``quantile_budget`` clean cycles); NaN values are left
+        out of each figure. :func:`analyse_cycles` forms the same summary block by block.
     """
-    def col(name: str) -> np.ndarray:
-        return np.asarray(table[name])
-
-    flag = col("flag").astype(str)
-    ok = flag == ""
-
-    def clean(name: str) -> np.ndarray:
-        return col(name).astype(np.float64)[ok]
-
-    peak = clean("torque_peak_Nm")
-    peak = peak[~np.isnan(peak)]
-    out: dict[str, Any] = {
-        "cycles": int(ok.sum()),
-        "cycles_total": int(flag.size),
-        "flagged": int((~ok).sum()),
-        "cycle_rate_per_min": float(60.0 / np.median(clean("duration_s"))) if ok.any()
-        else None,
-        "energy_swing_J": _stats(clean("energy_swing_J")),
-        "cs": _stats(clean("cs")),
-        "torque_peak_Nm_p99": float(np.quantile(peak, 0.99)) if peak.size else None,
-        "speed_mean_rpm": _mean_or_none(clean("speed_mean_rpm")),
-        "work_J_mean": _mean_or_none(clean("work_J")),
-        "torque_mean_Nm": _mean_or_none(clean("torque_mean_Nm")),
-    }
+    acc = SummaryStream(quantile_budget, sketch_error)
+    acc.add({k: np.asarray(table[k]) for k in ("flag", "energy_swing_J", "cs", "torque_peak_Nm",
+                                               "duration_s", "speed_mean_rpm", "work_J",
+                                               "torque_mean_Nm")})
+    out = acc.result(**extra)
     if "anomaly_score" in table:
-        sc = col("anomaly_score").astype(np.float64)
+        sc = np.asarray(table["anomaly_score"], dtype=np.float64)
         scored = int(np.isfinite(sc).sum())
         bad = int((sc > 1.0).sum())
         out["anomaly"] = {"scored": scored, "abnormal": bad,
                           "rate": bad / scored if scored else None}
-    counts = Counter(reason for f in flag[~ok] for reason in f.split("+"))
-    out["flags"] = dict(counts.most_common())
-    out.update(extra)
     return out
 
 
 def _mean_cycle(st: _Stream) -> dict[str, np.ndarray]:
+    """The running (Welford) mean cycle and its spread on the angle grid."""
     nb = st.nb_mean
     a = (np.arange(nb) + 0.5) * st.span / nb
     df = {"angle": a}
-    n = max(st.mean_n, 1)
     for k in ("torque", "speed"):
-        if k + "1" in st.mean_acc and k not in st.dead:
-            m = st.mean_acc[k + "1"] / n
-            var = np.maximum(st.mean_acc[k + "2"] / n - m * m, 0.0)
-            df[k + "_mean"], df[k + "_sd"] = m, np.sqrt(var)
+        rm = st.moments.get(k)
+        if rm is not None and rm.mean is not None and k not in st.dead:
+            df[k + "_mean"], df[k + "_sd"] = rm.mean, rm.std()
         else:
             df[k + "_mean"] = df[k + "_sd"] = np.full(nb, np.nan)
     return df
+
+
+def _columns(st: _Stream, lay: Layout, o: CycleOptions) -> dict[str, np.ndarray]:
+    """The listed blocks of a stream without a block handler (the live watcher), as one
+    set of output columns."""
+    rows = {k: np.concatenate([r[k] for r in st.rows]) for k in st.rows[0]}
+    out = _block_columns(rows, lay, o, st.dead)
+    first = int(out["cycle"][0])
+    for c, sc in st.shape_scores:  # cycle numbers run 1..n
+        i = np.asarray(c) - first
+        ok = (i >= 0) & (i < out["cycle"].size)
+        out["anomaly_score"][i[ok]] = np.asarray(sc, dtype=np.float64)[ok]
+    out["anomaly"] = out["anomaly_score"] > 1.0
+    return out

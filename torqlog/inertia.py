@@ -266,8 +266,9 @@ def bootstrap_ci(energy_swing: np.ndarray, speed: np.ndarray | float, *, target_
     rng = np.random.default_rng(seed)
     w = np.asarray(speed, dtype=float)
     i_req = np.empty(int(n_boot))
-    # index matrices of at most ~4 M entries, so a long shift log stays in bounded memory
-    block = max(1, 4_000_000 // n)
+    # index matrices of at most ~1 M entries (≈ 30 MB of temporaries), so a long shift
+    # log stays in bounded memory; the draws are the same for any block size
+    block = max(1, 1_000_000 // n)
     for start in range(0, int(n_boot), block):
         rows = min(block, int(n_boot) - start)
         idx = rng.integers(0, n, size=(rows, n))

@@ -421,7 +421,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
         for log in logs:
             sha = pool.submit(file_sha256, log)
             try:  # one bad log among several: keep the others, name the bad one
-                res = analyse_cycles(log, opts, **read)
+                res = analyse_cycles(log, opts, keep_rows=not results, **read)
                 facts = (survey_log(log, nominal_speed=opts.nominal_speed, **read).to_dict()
                          if with_survey else log_facts(res))
             except DataError as exc:
@@ -433,7 +433,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
             results.append(res)
             entries.append({"path": str(log), "name": Path(log).name,
                             "sha256": sha.result(), "bytes": Path(log).stat().st_size,
-                            "inspect": _plain(facts), "cycles": _plain(res.to_dict())})
+                            "inspect": _plain(facts), "cycles": _plain(res.to_dict(rows=False))})
         loading.result()
     if not results:
         raise DataError("no log could be used: "

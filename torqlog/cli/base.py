@@ -454,24 +454,26 @@ def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
     )
 
 
-def run_cycles(log: str, kw: dict[str, Any], **extra: Any) -> Any:
+def run_cycles(log: str, kw: dict[str, Any], **how: Any) -> Any:
     """Run the cycle stage for a CLI command; pops the options it uses from ``kw``.
 
-    On a terminal a progress bar (on stderr) follows the bytes read; elsewhere it is quiet.
+    ``how`` goes to :func:`torqlog.cycles.analyse_cycles` (``keep_rows``, ``sink``, the
+    quantile budget). On a terminal a progress bar (on stderr) follows the bytes read;
+    elsewhere it is quiet.
     """
     from torqlog.cycles import analyse_cycles
 
     profile = load_profile_opt(kw.pop("profile", None))
-    read = read_kwargs(kw)
+    read = read_kwargs(kw) | how
     opts = make_cycle_options(kw, profile)
     if not sys.stderr.isatty():
-        return analyse_cycles(log, opts, **read, **extra), profile
+        return analyse_cycles(log, opts, **read), profile
     with click.progressbar(length=1000, label=f"reading {Path(log).name}",
                            file=sys.stderr) as bar:
         def step(fraction: float) -> None:
             bar.update(int(1000 * fraction) - bar.pos)
 
-        return analyse_cycles(log, opts, progress=step, **read, **extra), profile
+        return analyse_cycles(log, opts, progress=step, **read), profile
 
 
 def parse_quantile(text: str) -> float | str:

@@ -83,40 +83,16 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 
 
 # --------------------------------------------------------------------------- cycles
-@cli.command()
-@click.argument("log", type=click.Path(dir_okay=True))
-@cycle_options
-@click.option("--plot", type=FIGURE_FILE, default=None,
-              help="Write a PNG: torque, E(θ) and speed against crank angle.")
-@shape_options
-@output_options
-def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) -> None:
-    """Split a log into machine cycles: energy swing, Cs and torque per cycle, and cycles
-    whose shape is abnormal (with where in the cycle)."""
-    from torqlog.cli.watch import shape_kwargs
-
-    check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
-    save = kw.pop("save_shape_model")
-    shape_plot = kw.pop("shape_plot")
-    res, _ = run_cycles(log, kw, **shape_kwargs(log, kw))
-    if save and res.shape_model is not None:
-        res.shape_model.save(save)
-        click.echo(f"wrote {save}", err=True)
-    if shape_plot and res.anomaly is not None:
-        from torqlog.plots import plot_anomaly
-
-        plot_anomaly(res.anomaly, shape_plot)
-        click.echo(f"wrote {shape_plot}", err=True)
-    if plot:
-        res.plot(plot)
-        click.echo(f"wrote {plot}", err=True)
+def _cycles_text(res: Any) -> str:
+    """Readable summary of a cycles result."""
     s = res.summary
     de, cs = s["energy_swing_J"], s["cs"]
 
     def g(x: float | None, scale: float = 1.0, unit: str = "") -> str:
         return "-" if x is None else f"{x * scale:.4g}{unit}"
 
-    text = "\n".join([
+    q = s.get("quantiles") or {}
+    return "\n".join([
         f"{res.source}: {s['cycles']} clean cycles of {s['cycles_total']} "
         f"(cycle source: {res.options['cycle_source']}, {res.options['revs_per_cycle']} "
         f"rev/cycle), {g(s['cycle_rate_per_min'])} cycles/min at {g(s['speed_mean_rpm'])} rpm",
@@ -125,6 +101,10 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
         f"Cs            median {g(cs['median'])}, p95 {g(cs['p95'])}, max {g(cs['max'])}"
         f"  (speed low-passed at {res.options['speed_cutoff_orders']:g} cycle orders)",
         f"peak torque   p99 {g(s['torque_peak_Nm_p99'], 1e-3, ' kN·m')}",
+        *([f"note: quantiles from a sketch (more than {q['exact_budget_cycles']} clean "
+           f"cycles), within {100 * q['relative_error_bound']:g} % of the exact values"
+           + ("" if q.get("bound_holds") else " except the smallest values")]
+          if q.get("method") == "sketch" else []),
         *(f"note: {n}" for n in res.notes),
         *([f"flagged cycles: {', '.join(f'{k} {v}' for k, v in s['flags'].items())} "
            "(kept in the table, left out of the figures above)"] if s["flags"] else []),
@@ -136,16 +116,82 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, **kw: Any) 
            "above: they are real running)"] if res.anomaly is not None else []),
         "",
     ])
+
+
+@cli.command()
+@click.argument("log", type=click.Path(dir_okay=True))
+@cycle_options
+@click.option("--plot", type=FIGURE_FILE, default=None,
+              help="Write a PNG: torque, E(θ) and speed against crank angle.")
+@shape_options
+@click.option("--summary-only", is_flag=True,
+              help="Write the summary alone, without a row per cycle.")
+@click.option("--quantile-budget", type=click.IntRange(min=1), default=None,
+              help="Clean cycles held for exact quantiles; past it a sketch within "
+                   "--sketch-error answers (the summary says which).  [default: 500000]")
+@click.option("--sketch-error", type=click.FloatRange(0, 1, min_open=True, max_open=True),
+              default=None, help="Relative error bound of the quantile sketch.  "
+                                 "[default: 1e-4]")
+@output_options
+def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_only: bool,
+           quantile_budget: int | None, sketch_error: float | None, **kw: Any) -> None:
+    """Split a log into machine cycles: energy swing, Cs and torque per cycle, and cycles
+    whose shape is abnormal (with where in the cycle).
+
+    With the shape check off, in SI, ``--format json`` and ``table`` write each cycle's row
+    as it completes, so memory does not grow with the log; the shape check (its scores come
+    once the model has its reference cycles), csv, xlsx, Parquet and ``--units us`` build
+    the table in memory first.
+    """
+    from torqlog.cli.base import _flat, output_settings
+    from torqlog.cli.cycle_output import make_writer
+    from torqlog.cli.watch import shape_kwargs
+
+    check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
+    save = kw.pop("save_shape_model")
+    shape_plot = kw.pop("shape_plot")
+    extra = {k: v for k, v in (("quantile_budget", quantile_budget),
+                               ("sketch_error", sketch_error)) if v is not None}
+    extra.update(shape_kwargs(log, kw))
+    stream = not summary_only and fmt in ("json", "table") \
+        and output_settings()["units"] == "si" \
+        and extra.get("anomaly") is False and extra.get("shape_model") is None
+    if stream:
+        writer = make_writer(fmt, output, _cycles_text)
+        try:
+            res, _ = run_cycles(log, kw, keep_rows=False, sink=writer, **extra)
+        except BaseException:
+            writer.abort()
+            raise
+        if output:
+            click.echo(f"wrote {output}", err=True)
+    else:
+        res, _ = run_cycles(log, kw, keep_rows=not summary_only, **extra)
+    if save and res.shape_model is not None:
+        res.shape_model.save(save)
+        click.echo(f"wrote {save}", err=True)
+    if shape_plot and res.anomaly is not None:
+        from torqlog.plots import plot_anomaly
+
+        plot_anomaly(res.anomaly, shape_plot)
+        click.echo(f"wrote {shape_plot}", err=True)
+    if plot:
+        res.plot(plot)
+        click.echo(f"wrote {plot}", err=True)
+    if stream:
+        return
     table = None  # the JSON needs no pandas table (and so no pandas)
-    if fmt in TABULAR:
+    if summary_only and fmt in TABULAR:
+        import pandas as pd  # only here: the streamed outputs need no pandas
+
+        table = pd.DataFrame([_flat(res.summary)])
+    elif fmt in TABULAR:
         table = res.table
     elif fmt == "table":
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
-                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs", "cs_constant_drive",
-                           "flag", "anomaly", "anomaly_score"]]
-    emit(res.to_dict(), table, fmt, output, text=text)
-
-
+                           "torque_peak_Nm", "work_J", "energy_swing_J", "cs",
+                           "cs_constant_drive", "flag", "anomaly", "anomaly_score"]]
+    emit(res.to_dict(rows=not summary_only), table, fmt, output, text=_cycles_text(res))
 
 
 # --- size

@@ -1,0 +1,273 @@
+"""Flat memory: the streamed summary and outputs give the numbers of the in-memory path.
+
+References used below:
+- numpy.quantile / numpy.median / numpy.mean / numpy.std (linear interpolation, the
+  population standard deviation) as the independent reference for every statistic.
+- Masson, Rim & Lee, "DDSketch", Proc. VLDB Endow. 12(12), 2019: a quantile read from
+  logarithmic buckets with γ = (1+α)/(1−α) lies within relative error α of the exact one.
+- Chan, Golub & LeVeque, The American Statistician 37(3), 1983: mean and variance of
+  blocks combined pairwise equal those of the whole.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import math
+
+import numpy as np
+import pandas as pd
+import pyarrow.parquet as pq
+import pytest
+from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from torqlog.cli import cli
+from torqlog.cli.cycle_output import JsonWriter, make_writer
+from torqlog.cycle_table import ColumnStore
+from torqlog.cycles import COLUMNS, CycleOptions, analyse_cycles, summarise
+from torqlog.errors import UsageError
+from torqlog.streamstats import QuantileKeeper, RelativeErrorSketch, RunningMoments
+
+TWO_PI = 2 * math.pi
+BOUND = 1e-4
+
+
+@pytest.fixture(scope="module")
+def flagged_log(tmp_path_factory):
+    """120 rpm, 60 s at 1 kHz (119 cycles) with a NaN run, a gap and a clipped stretch,
+    and cycle-to-cycle variation so the quantiles are not all one value."""
+    rng = np.random.default_rng(7)
+    t = np.arange(0, 60, 1e-3)
+    th = TWO_PI * 2 * t
+    amp = 40 * (1 + 0.3 * np.sin(TWO_PI * t / 17.0))
+    torque = 100 + amp * np.sin(th) + 10 * np.sin(2 * th) + rng.normal(0, 0.5, t.size)
+    speed = 120 - 0.5 * np.cos(th) * amp / 40 + rng.normal(0, 0.01, t.size)
+    torque[2300:2310] = np.nan                      # NaN run in cycle 5
+    late = (t >= 40.0) & (t < 45.0)                 # a sensor saturating for 5 s
+    torque[late] = np.minimum(torque[late], 130.0)
+    keep = (t < 3.2) | (t > 3.4)                    # a gap in cycle 7
+    path = tmp_path_factory.mktemp("flat") / "flagged.csv"
+    cols = {"time_s": t[keep], "torque_Nm": torque[keep], "speed_rpm": speed[keep]}
+    np.savetxt(path, np.column_stack(list(cols.values())), delimiter=",",
+               header=",".join(cols), comments="", fmt="%.9g")
+    return str(path)
+
+
+def _close(a, b, rel):
+    if isinstance(a, dict):
+        assert a.keys() == b.keys()
+        for k in a:
+            _close(a[k], b[k], rel)
+    elif isinstance(a, float) and b is not None:
+        assert a == pytest.approx(b, rel=rel), (a, b)
+    else:
+        assert a == b
+
+
+FIGS = ("cycles", "cycles_total", "flagged", "cycle_rate_per_min", "energy_swing_J", "cs",
+        "torque_peak_Nm_p99", "speed_mean_rpm", "work_J_mean", "torque_mean_Nm", "flags")
+
+
+# --------------------------------------------------------------------------- library
+def test_streamed_summary_equals_numpy_on_the_kept_table(flagged_log):
+    # small chunks: the summary is folded over many blocks; numpy on the whole table
+    # (the reference) must give the same figures
+    res = analyse_cycles(flagged_log, CycleOptions(block_rows=3000))
+    tab = res.table
+    clean = tab[tab["flag"] == ""]
+    assert res.summary["flags"] == {"clipped": 10, "nan": 1, "gap": 1}
+    assert res.summary["cycles"] == len(clean) == 119 - 12
+    es = clean["energy_swing_J"].to_numpy()
+    assert res.summary["energy_swing_J"]["median"] == pytest.approx(np.median(es), rel=1e-12)
+    assert res.summary["energy_swing_J"]["p95"] == pytest.approx(np.quantile(es, 0.95),
+                                                                 rel=1e-12)
+    assert res.summary["cs"]["max"] == clean["cs"].max()
+    assert res.summary["torque_peak_Nm_p99"] == pytest.approx(
+        np.quantile(clean["torque_peak_Nm"], 0.99), rel=1e-12)
+    assert res.summary["work_J_mean"] == pytest.approx(clean["work_J"].mean(), rel=1e-12)
+    assert res.summary["cycle_rate_per_min"] == pytest.approx(
+        60 / np.median(clean["duration_s"]), rel=1e-12)
+    assert res.summary["quantiles"]["method"] == "exact"
+    _close({k: summarise(tab)[k] for k in FIGS}, {k: res.summary[k] for k in FIGS}, 1e-12)
+
+
+def test_rows_not_kept_give_the_same_summary_and_mean_cycle(flagged_log):
+    kept = analyse_cycles(flagged_log, CycleOptions(block_rows=3000))
+    flat = analyse_cycles(flagged_log, CycleOptions(block_rows=3000), keep_rows=False)
+    assert flat.columns == {} and not flat.rows_kept
+    assert "cycles" not in flat.to_dict() and len(kept.to_dict()["cycles"]) == 119
+    _close(flat.summary, kept.summary, 0)
+    for k in ("torque_mean", "torque_sd", "speed_mean", "speed_sd"):
+        np.testing.assert_array_equal(flat.mean[k], kept.mean[k])
+    # the running (Welford) mean cycle equals numpy over the clean cycles' curves
+    # (the first ≤ 300 clean cycles are kept as curves: here every one)
+    curves = kept.curves["torque"]
+    assert curves.shape[0] == kept.summary["cycles"]
+    np.testing.assert_allclose(kept.mean["torque_mean"], curves.mean(axis=0), rtol=1e-12)
+    np.testing.assert_allclose(kept.mean["torque_sd"], curves.std(axis=0), rtol=1e-9,
+                               atol=1e-9)
+
+
+def test_low_budget_sketch_within_its_stated_bound(flagged_log):
+    exact = analyse_cycles(flagged_log)
+    sk = analyse_cycles(flagged_log, keep_rows=False, quantile_budget=20)
+    q = sk.summary["quantiles"]
+    assert q == {"method": "sketch", "exact_budget_cycles": 20,
+                 "relative_error_bound": BOUND, "bound_holds": True}
+    assert sk.options["quantile_budget_cycles"] == 20
+    for fig in ("energy_swing_J", "cs"):
+        for stat in ("median", "p95"):
+            e, s = exact.summary[fig][stat], sk.summary[fig][stat]
+            assert abs(s - e) <= BOUND * abs(e), (fig, stat, s, e)
+            assert s != e  # the sketch really answered
+        assert sk.summary[fig]["max"] == exact.summary[fig]["max"]  # max stays exact
+    e, s = exact.summary["torque_peak_Nm_p99"], sk.summary["torque_peak_Nm_p99"]
+    assert abs(s - e) <= BOUND * abs(e)
+    assert sk.summary["work_J_mean"] == pytest.approx(exact.summary["work_J_mean"], rel=1e-12)
+
+
+# --------------------------------------------------------------------------- sketch
+@settings(derandomize=True, deadline=None, max_examples=25)
+@given(st.integers(min_value=2, max_value=3000), st.sampled_from([1e-2, 1e-3, 1e-4]),
+       st.floats(min_value=-3, max_value=6), st.booleans(),
+       st.sampled_from([0.0, 0.01, 0.5, 0.95, 0.99, 1.0]))
+def test_sketch_quantile_within_relative_error_of_numpy(n, alpha, log_scale, mixed, q):
+    rng = np.random.default_rng(n)
+    x = rng.lognormal(log_scale, 1.5, n)
+    if mixed:
+        x = x * rng.choice([-1.0, 1.0], n)
+        x[: n // 10] = 0.0
+    s = RelativeErrorSketch(alpha)
+    for part in np.array_split(x, 7):
+        s.add(part)
+    ref = np.sort(x)
+    r = q * (n - 1)
+    lo, hi = ref[math.floor(r)], ref[min(math.floor(r) + 1, n - 1)]
+    got = s.quantile(q)
+    if lo * hi >= 0:  # same sign: both order statistics within α → so is the blend
+        assert abs(got - np.quantile(x, q)) <= alpha * max(abs(lo), abs(hi)) * (1 + 1e-9)
+    else:
+        assert min(lo, hi) - alpha * abs(lo) <= got <= max(lo, hi) + alpha * abs(hi)
+
+
+def test_sketch_memory_does_not_grow_with_count():
+    s = RelativeErrorSketch(1e-3)
+    rng = np.random.default_rng(1)
+    s.add(rng.uniform(1000, 2000, 10_000))
+    size = s.pos.counts.size
+    for _ in range(20):
+        s.add(rng.uniform(1000, 2000, 10_000))
+    assert s.pos.counts.size == size and s.n == 210_000
+    # ln(2)/ln(γ) buckets cover a factor 2 at α = 1e-3
+    assert size <= math.ceil(math.log(2) / math.log((1 + 1e-3) / (1 - 1e-3))) + 1
+
+
+def test_sketch_merges_lowest_buckets_and_says_so():
+    s = RelativeErrorSketch(1e-2, max_buckets=100)
+    s.add(np.geomspace(1e-6, 1e6, 5000))
+    assert s.collapsed and s.pos.counts.size == 100
+    assert s.quantile(0.99) == pytest.approx(np.quantile(np.geomspace(1e-6, 1e6, 5000), 0.99),
+                                             rel=1e-2)
+
+
+def test_keeper_switches_from_exact_to_sketch_at_the_budget():
+    k = QuantileKeeper(budget=100, relative_error=1e-3)
+    k.add(np.arange(1.0, 101.0))
+    assert k.method == "exact" and k.median() == 50.5 and k.values.size == 100
+    k.add(np.array([np.nan, 101.0]))
+    assert k.method == "sketch" and k.values is None and k.n == 101
+    assert abs(k.median() - 51.0) <= 1e-3 * 51.0
+    assert k.max() == 101.0
+    counts, edges = k.histogram(10)
+    assert counts.sum() == 101 and edges[0] == 1.0 and edges[-1] == 101.0
+
+
+def test_running_moments_equal_numpy_over_blocks():
+    rng = np.random.default_rng(3)
+    x = rng.normal(1e6, 1.0, (500, 8))  # large mean: sum-of-squares would lose digits
+    rm = RunningMoments()
+    for part in np.array_split(x, 13):
+        rm.add(part)
+    np.testing.assert_allclose(rm.mean, x.mean(axis=0), rtol=1e-13)
+    np.testing.assert_allclose(rm.std(), x.std(axis=0), rtol=1e-9)
+
+
+def test_column_store_is_typed_and_compact():
+    store = ColumnStore()
+    for i in range(3):
+        store.add({"cycle": np.arange(i * 50, (i + 1) * 50), "cs": np.full(50, 0.1),
+                   "angle_speed_min_deg": np.full(50, 12.5),
+                   "flag": np.array(["", "gap", "nan+gap", ""] * 12 + ["", ""], dtype=object)})
+    cols = store.columns()
+    assert cols["cycle"].tolist() == list(range(150))
+    assert cols["angle_speed_min_deg"].dtype == np.float64
+    assert cols["flag"][:4].tolist() == ["", "gap", "nan+gap", ""]
+    assert store._bufs["flag"].dtype == np.uint16
+
+
+# --------------------------------------------------------------------------- CLI outputs
+def _cli(args):
+    res = CliRunner().invoke(cli, args)
+    assert res.exit_code == 0, res.output
+    return res
+
+
+def test_streamed_json_csv_jsonl_parquet_equal_the_in_memory_table(flagged_log, tmp_path):
+    mem = analyse_cycles(flagged_log, anomaly=False)  # the shape check scores late
+    ref = json.loads(json.dumps(mem.to_dict(), default=str).replace("NaN", "null"))
+    out = {f: tmp_path / f"c.{f}" for f in ("json", "csv", "jsonl", "parquet")}
+    _cli(["cycles", flagged_log, "--format", "json", "-o", str(out["json"]),
+          "--quantile-budget", "50", "--no-shape-check"])
+    for f in ("csv", "jsonl", "parquet"):  # the writers the library can stream into
+        analyse_cycles(flagged_log, keep_rows=False, quantile_budget=50, anomaly=False,
+                       sink=make_writer(f, str(out[f]), str))
+    d = json.loads(out["json"].read_text())
+    assert d["cycles"] == ref["cycles"] and len(d["cycles"]) == 119
+    assert d["summary"]["quantiles"]["method"] == "sketch"
+    assert list(d) == ["source", "options", "cycles", "summary", "notes", "anomaly"]
+    assert out["csv"].read_text() == mem.table.to_csv(index=False)
+    lines = [json.loads(x) for x in out["jsonl"].read_text().splitlines()]
+    assert set(lines[0]) == {"source", "options"} and set(lines[-1]) == {"summary", "notes",
+                                                                        "anomaly"}
+    assert lines[1:-1] == ref["cycles"]
+    pf = pq.read_table(out["parquet"])
+    got = pf.to_pandas()
+    assert list(got.columns) == list(COLUMNS)
+    pd.testing.assert_frame_equal(got.drop(columns=["start_time"]),
+                                  mem.table.drop(columns=["start_time"]), check_dtype=False)
+    meta = json.loads(pq.read_metadata(out["parquet"]).metadata[b"torqlog"])
+    assert meta["summary"]["cycles"] == 107
+
+
+def test_table_output_lists_every_cycle_after_the_summary(flagged_log):
+    text = _cli(["cycles", flagged_log, "--no-shape-check"]).stdout
+    head, _, rows = text.partition("\n\n")
+    assert head.startswith(f"{flagged_log}: 107 clean cycles of 119")
+    body = pd.read_csv(io.StringIO(rows), sep=r"\s+", usecols=range(9))
+    assert body["cycle"].tolist() == list(range(1, 120))
+    assert "flagged cycles: clipped 10, nan 1, gap 1" in head
+
+
+def test_summary_only_and_failed_run_leaves_no_file(flagged_log, tmp_path):
+    d = json.loads(_cli(["cycles", flagged_log, "--summary-only", "--format", "json"]).stdout)
+    assert "cycles" not in d and d["summary"]["cycles"] == 107
+    short = tmp_path / "short.csv"
+    t = np.arange(0, 1.5, 1e-3)  # 60 rpm: one and a half cycles
+    pd.DataFrame({"time_s": t, "torque_Nm": 10 + np.sin(TWO_PI * t),
+                  "speed_rpm": 60.0}).to_csv(short, index=False)
+    target = tmp_path / "out.json"
+    res = CliRunner().invoke(cli, ["cycles", str(short), "--format", "json", "-o", str(target)])
+    assert res.exit_code == 1 and "complete cycle" in res.output
+    assert not target.exists() and list(tmp_path.glob(".out.json.*")) == []
+    with pytest.raises(UsageError, match="give -o FILE"):
+        make_writer("parquet", None, str)
+    # a writer stopped half-way removes its temporary file and never makes the target
+    w = JsonWriter(str(target))
+    w.start("x.csv", {})
+    w.write({k: np.zeros(3) for k in COLUMNS} | {"flag": np.array(["", "", ""])})
+    w._flush(w.batch.take())
+    assert len(list(tmp_path.glob(".out.json.*.part"))) == 1
+    w.abort()
+    assert not target.exists() and list(tmp_path.glob(".out.json.*")) == []
