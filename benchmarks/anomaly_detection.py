@@ -17,9 +17,9 @@ from pathlib import Path
 
 import numpy as np
 
-from torqlog import anomaly as an
-from torqlog.cycles import CycleOptions, analyse_cycles
-from torqlog.simulate import FAULTS, Fault, simulate, truth_cycles, write_log
+from torqlog.demo.simulate import FAULTS, Fault, simulate, truth_cycles, write_log
+from torqlog.signal import anomaly as an
+from torqlog.signal.cycles import CycleOptions, analyse_cycles
 
 PLAN = {  # machine: (revs, rate Hz, reference s, healthy s, fault s, faults)
     "compressor": (1, 1000.0, 120.0, 240.0, 60.0, ["valve-leak"]),

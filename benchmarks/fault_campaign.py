@@ -22,8 +22,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
 import test_faults as tf  # noqa: E402
 
-from torqlog.cycles import analyse_cycles  # noqa: E402
 from torqlog.errors import DataError  # noqa: E402
+from torqlog.signal.cycles import analyse_cycles  # noqa: E402
 
 
 def outcome(make, machine: str, at: float, seed: int, tmp: Path) -> str:

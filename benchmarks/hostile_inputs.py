@@ -43,7 +43,7 @@ def main() -> None:
     ap.add_argument("--seed", type=int, default=20)
     args = ap.parse_args()
 
-    from torqlog.simulate import simulate, write_log
+    from torqlog.demo.simulate import simulate, write_log
 
     rng = random.Random(args.seed)
     tmp = Path(tempfile.mkdtemp(prefix="torqlog-hostile-"))

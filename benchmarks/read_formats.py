@@ -1,7 +1,7 @@
 """Memory and time of reading MDF4 and HDF5 logs of two lengths with torqlog's reader.
 
 Writes a 3-channel log (time, torque, speed) of N and 4N rows in each format into a
-temporary folder, then reads each in a fresh process with :class:`torqlog.ingest.LogReader`
+temporary folder, then reads each in a fresh process with :class:`torqlog.io.ingest.LogReader`
 (and the full cycle analysis) and reports the peak resident memory (``ru_maxrss``) and the
 wall time. Streaming means the peak memory stays flat when the file grows fourfold.
 
@@ -19,7 +19,7 @@ import numpy as np
 
 CHILD = r"""
 import json, resource, sys, time
-from torqlog.cycles import analyse_cycles
+from torqlog.signal.cycles import analyse_cycles
 t0 = time.perf_counter()
 res = analyse_cycles(sys.argv[1])
 dt = time.perf_counter() - t0

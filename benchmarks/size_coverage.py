@@ -28,8 +28,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
 import calibsim  # noqa: E402
 
-from torqlog.cycles import analyse_cycles, options_from_profile  # noqa: E402
-from torqlog.inertia import size_from_cycles  # noqa: E402
+from torqlog.signal.cycles import analyse_cycles, options_from_profile  # noqa: E402
+from torqlog.sizing.inertia import size_from_cycles  # noqa: E402
 
 MACHINES = {"compressor": (calibsim.COMPRESSOR, 0.01), "press": (calibsim.PRESS, 0.05),
             "engine": (calibsim.ENGINE, 0.005)}

@@ -18,10 +18,10 @@ from pathlib import Path
 
 import numpy as np
 
-from torqlog import anomaly as an
-from torqlog import cycles as cy
-from torqlog import watch as wt
-from torqlog.ingest import Chunk, LogReader
+from torqlog.fleet import watch as wt
+from torqlog.io.ingest import Chunk, LogReader
+from torqlog.signal import anomaly as an
+from torqlog.signal import cycles as cy
 
 RATE = 1200.0  # Hz: 72 samples per cycle at 1000 rpm (2 per 10° model bin)
 W0 = 1000.0 * 2 * np.pi / 60

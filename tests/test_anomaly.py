@@ -10,10 +10,10 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from torqlog import anomaly as an
-from torqlog.cycles import CycleOptions, analyse_cycles
+from torqlog.demo.simulate import Fault, simulate, truth_cycles, write_log
 from torqlog.errors import DataError
-from torqlog.simulate import Fault, simulate, truth_cycles, write_log
+from torqlog.signal import anomaly as an
+from torqlog.signal.cycles import CycleOptions, analyse_cycles
 
 NB = 36
 ANG = np.linspace(0.0, 2.0 * np.pi, NB, endpoint=False)
@@ -225,8 +225,8 @@ def test_trend_rows_carry_the_anomaly_rate_and_chart_it() -> None:
     # individuals chart like any other figure (limits from the baseline shifts)
     import pandas as pd
 
-    from torqlog.shifts import ShiftCalendar
-    from torqlog.trend import DriftOptions, detect_drift, group_cycles
+    from torqlog.fleet.shifts import ShiftCalendar
+    from torqlog.fleet.trend import DriftOptions, detect_drift, group_cycles
 
     rng = np.random.default_rng(8)
     n_shift, per = 12, 200

@@ -19,7 +19,7 @@ from click.testing import CliRunner
 
 from torqlog.cli import cli
 from torqlog.errors import DataError, UsageError
-from torqlog.outputs import atomic_path, check_outputs, is_torqlog_output
+from torqlog.io.outputs import atomic_path, check_outputs, is_torqlog_output
 
 ROOT = Path(__file__).resolve().parents[1]
 PROFILE = ROOT / "sample_data" / "press.toml"
@@ -36,7 +36,7 @@ def sha(path):
 @pytest.fixture(scope="module")
 def logs(tmp_path_factory):
     """A small clean press log (6 s, 200 Hz: 4 cycles), as CSV, CSV.gz and Parquet."""
-    from torqlog.simulate import simulate, write_log
+    from torqlog.demo.simulate import simulate, write_log
 
     d = tmp_path_factory.mktemp("logs")
     log = simulate("press", duration=6, rate=200, channels="torque,speed", seed=0)
@@ -215,9 +215,9 @@ def test_zero_is_refused_not_replaced_by_the_profile(work):
     assert res.exit_code == 2
     assert res.stderr.endswith("Error: Invalid value for '--flywheel-speed-ratio': 0.0 is not "
                                "in the range x>0.0.\n")
-    from torqlog.cycles import options_from_profile
-    from torqlog.inertia import size_log
-    from torqlog.profile import load_profile
+    from torqlog.io.profile import load_profile
+    from torqlog.signal.cycles import options_from_profile
+    from torqlog.sizing.inertia import size_log
 
     prof = load_profile(work["profile"])
     with pytest.raises(UsageError, match="^inertia must be positive$"):
@@ -241,19 +241,19 @@ def test_flywheel_negative_width_is_a_usage_error():
     assert res.exit_code == 2
     assert res.stderr.endswith("Error: Invalid value for '--width': '-0.1' must be greater "
                                "than zero\n")
-    from torqlog.flywheel import solve_geometry
+    from torqlog.rotor.flywheel import solve_geometry
 
     with pytest.raises(UsageError, match=r"^width must be positive, got -0.1 m$"):
         solve_geometry(100.0, "steel", "annular-disc", None, 0.1, width=-0.1)
 
 
 def test_unexpected_error_is_one_sentence_and_debug_shows_it(work, monkeypatch):
-    import torqlog.survey
+    import torqlog.signal.survey
 
     def boom(*a, **k):
         raise RuntimeError("something nobody foresaw")
 
-    monkeypatch.setattr(torqlog.survey, "survey_log", boom)
+    monkeypatch.setattr(torqlog.signal.survey, "survey_log", boom)
     res = run("inspect", work["csv"])
     assert res.exit_code == 1
     assert res.stderr == ("Error: unexpected RuntimeError (something nobody foresaw); run with "
@@ -311,7 +311,7 @@ def test_flywheel_wider_than_its_diameter_fails():
     # (Shigley's Mechanical Engineering Design, 10th ed., table A-18)
     import math
 
-    from torqlog.materials import get_material
+    from torqlog.rotor.materials import get_material
 
     rho = get_material("steel").density
     w = 2 * 100 / (math.pi * rho * (0.04 ** 4 - 0.0375 ** 4))

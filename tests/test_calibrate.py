@@ -16,16 +16,16 @@ import pytest
 from calibsim import COMPRESSOR, ENGINE, PRESS, simulate_log, true_added_inertia
 from click.testing import CliRunner
 
-from torqlog.calibrate import (
+from torqlog.cli import cli
+from torqlog.signal.cycles import analyse_cycles, options_from_profile
+from torqlog.sizing.calibrate import (
     DriveModel,
     copper_loss_change,
     cycle_energy_swing,
     simulate_after,
 )
-from torqlog.cli import cli
-from torqlog.cycles import analyse_cycles, options_from_profile
-from torqlog.drive import MotorModel
-from torqlog.inertia import size_from_cycles
+from torqlog.sizing.drive import MotorModel
+from torqlog.sizing.inertia import size_from_cycles
 
 TARGETS = {COMPRESSOR.name: 0.01, PRESS.name: 0.05, ENGINE.name: 0.005}
 
@@ -220,7 +220,7 @@ def test_cli_size_on_worst_and_first(comp_log, tmp_path):
     assert d["source"].endswith("k7_heavy.csv")
     assert [r["log"] for r in d["size_on"]["logs"]] == ["k7.csv", "k7_heavy.csv"]
     from torqlog.errors import UsageError
-    from torqlog.logchoice import choose_log
+    from torqlog.sizing.logchoice import choose_log
     with pytest.raises(UsageError) as exc:
         choose_log([], "biggest")
     assert str(exc.value) == "unknown --size-on 'biggest'; valid choices: worst, latest, first"

@@ -12,7 +12,7 @@ import pytest
 from click.testing import CliRunner
 
 from torqlog.cli import cli
-from torqlog.materials import get_material
+from torqlog.rotor.materials import get_material
 
 OPTS = {"--inertia": "310 kg*m**2", "--speed-rpm": "450", "--material": "ductile-iron",
         "--outer-diameter": "1400 mm", "--bore": "160 mm"}

@@ -77,7 +77,7 @@ def test_simple_rig_against_formulas(tmp_path):
     f_t = math.sqrt(1e5 * 4.0 / 4.0) / (2 * math.pi)
     assert d["torsional"]["modes_hz"][1] == pytest.approx(f_t, rel=1e-3)
     # lateral: massless-shaft estimates equal sqrt(k/m), k = 48 E I / L^3 (Roark)
-    from torqlog.materials import get_material
+    from torqlog.rotor.materials import get_material
 
     e, i = get_material("steel").modulus, math.pi * 0.05**4 / 64
     f_l = math.sqrt(48 * e * i / 50.0) / (2 * math.pi)

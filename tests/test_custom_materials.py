@@ -12,14 +12,14 @@ from click.testing import CliRunner
 
 from torqlog.cli import cli
 from torqlog.errors import UsageError
-from torqlog.flywheel import flywheel_from_profile
-from torqlog.materials import (
+from torqlog.io.profile import parse_profile
+from torqlog.rotor.flywheel import flywheel_from_profile
+from torqlog.rotor.materials import (
     get_material,
     load_materials,
     material_from_mapping,
     resolve_material,
 )
-from torqlog.profile import parse_profile
 
 STEEL = get_material("steel-c45")
 DISC = dict(inertia=310.0, speed=450 * 3.141592653589793 / 30, shape="annular-disc",

@@ -19,8 +19,8 @@ from click.testing import CliRunner
 from scipy.integrate import cumulative_trapezoid, solve_ivp
 
 from torqlog.cli import cli
-from torqlog.cycles import COLUMNS, CycleOptions, analyse_cycles
 from torqlog.errors import DataError
+from torqlog.signal.cycles import COLUMNS, CycleOptions, analyse_cycles
 
 TWO_PI = 2 * math.pi
 
@@ -271,7 +271,7 @@ def test_size_needs_torque_or_inertia(tmp_path):
 
 def test_isolated_missing_samples_are_filled_not_flagged(tmp_path):
     # one- and two-sample dropouts are filled by interpolation and the cycle kept; a run
-    # of three or more flags its cycle (common practice, torqlog.condition.NAN_REPAIR_RUN)
+    # of three or more flags its cycle (common practice, torqlog.signal.condition.NAN_REPAIR_RUN)
     t = np.arange(0, 5, 1e-3)
     torque = 100 + 40 * np.sin(TWO_PI * 2 * t)
     torque[[100, 700, 701, 1300]] = np.nan          # cycle 1: single, double; cycle 3: single

@@ -13,7 +13,9 @@ import pandas as pd
 import pytest
 from scipy.integrate import solve_ivp
 
-from torqlog.drive import (
+from torqlog.errors import UsageError
+from torqlog.io.profile import parse_profile
+from torqlog.sizing.drive import (
     CURVE_COLUMNS,
     MotorModel,
     drive_curve,
@@ -21,8 +23,6 @@ from torqlog.drive import (
     recovery_time,
     simulate_drive,
 )
-from torqlog.errors import UsageError
-from torqlog.profile import parse_profile
 
 RPM = 2.0 * math.pi / 60.0
 N_GRID = 360
@@ -166,7 +166,7 @@ def test_drive_curve_columns_and_trend():
 
 
 def test_plot_drive_curve_writes_png(tmp_path):
-    from torqlog.plots import plot_drive_curve
+    from torqlog.present.plots import plot_drive_curve
 
     df = drive_curve(ANGLE, press_load(ANGLE), 400.0, np.linspace(0, 1600, 5),
                      motor_with_slope(3000.0))

@@ -8,7 +8,7 @@ from click.testing import CliRunner
 from openpyxl import load_workbook
 
 from torqlog.cli import cli
-from torqlog.exporting import to_csv_text, write_parquet, write_xlsx
+from torqlog.present.exporting import to_csv_text, write_parquet, write_xlsx
 
 TABLE = pd.DataFrame({"cycle": [1, 2], "energy_swing_J": [8130.031234567, 8147.4],
                       "cs": [0.045478331839988744, 0.12], "inertia_kgm2": [310.0, 1e-4],

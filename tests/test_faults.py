@@ -29,10 +29,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from torqlog.cli import cli
-from torqlog.cycles import analyse_cycles, options_from_profile
+from torqlog.demo.simulate import simulate
 from torqlog.errors import DataError
-from torqlog.inertia import size_log, size_log_dict
-from torqlog.simulate import simulate
+from torqlog.signal.cycles import analyse_cycles, options_from_profile
+from torqlog.sizing.inertia import size_log, size_log_dict
 
 RATE = 1000.0
 SECONDS = {"press": 24.0, "compressor": 8.0, "engine": 8.0}
@@ -495,7 +495,7 @@ def test_commands_agree_on_a_faulty_log(name, tmp_path):
 # ------------------------------------------------------------------ other cycle sources
 def test_torque_only_stop_is_flagged_and_reported(tmp_path):
     # no speed channel: cycles from the torque's period; a stretch where the torque hardly
-    # moves is a stop (torqlog.health.QUIET_SHARE, common practice)
+    # moves is a stop (torqlog.signal.health.QUIET_SHARE, common practice)
     log = stop_restart(base("compressor"), at=0.5)
     res = analyse_cycles(log.write(tmp_path / "q.csv", speed=False), _opts(log))
     assert res.options["cycle_source"] == "period"

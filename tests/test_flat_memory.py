@@ -25,10 +25,10 @@ from hypothesis import strategies as st
 
 from torqlog.cli import cli
 from torqlog.cli.cycle_output import JsonWriter, make_writer
-from torqlog.cycle_table import ColumnStore
-from torqlog.cycles import COLUMNS, CycleOptions, analyse_cycles, summarise
 from torqlog.errors import UsageError
-from torqlog.streamstats import QuantileKeeper, RelativeErrorSketch, RunningMoments
+from torqlog.signal.cycle_table import ColumnStore
+from torqlog.signal.cycles import COLUMNS, CycleOptions, analyse_cycles, summarise
+from torqlog.signal.streamstats import QuantileKeeper, RelativeErrorSketch, RunningMoments
 
 TWO_PI = 2 * math.pi
 BOUND = 1e-4

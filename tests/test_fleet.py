@@ -14,7 +14,7 @@ from click.testing import CliRunner
 
 from torqlog.cli import cli
 from torqlog.errors import UsageError
-from torqlog.fleet import fleet_table, rank_rows, size_figures
+from torqlog.fleet.compare import fleet_table, rank_rows, size_figures
 
 AMPLITUDES = {"Press 1": 0.02, "Press 2": 0.08, "Press 3": 0.04}  # Cs = 0.04, 0.16, 0.08
 

@@ -14,9 +14,9 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_bvp
 
-from torqlog.discs import disc_stresses, rim_hoop_stress, stepped_disc_stresses
 from torqlog.errors import DataError, UsageError
-from torqlog.flywheel import (
+from torqlog.rotor.discs import disc_stresses, rim_hoop_stress, stepped_disc_stresses
+from torqlog.rotor.flywheel import (
     CAUTIONS,
     DiscGeometry,
     check_flywheel,
@@ -26,7 +26,7 @@ from torqlog.flywheel import (
     requirement_from_size,
     solve_geometry,
 )
-from torqlog.materials import get_material
+from torqlog.rotor.materials import get_material
 
 RPM = 2 * math.pi / 60
 RHO, NU, E = 7850.0, 0.3, 210e9  # steel

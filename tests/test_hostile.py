@@ -53,7 +53,7 @@ def run_damaged(folder: Path, source: Path, kind: str, where: float, value: int,
 
 @pytest.fixture(scope="module")
 def sources(tmp_path_factory):
-    from torqlog.simulate import simulate, write_log
+    from torqlog.demo.simulate import simulate, write_log
 
     d = tmp_path_factory.mktemp("clean")
     log = simulate("press", duration=4, rate=200, channels="torque,speed", seed=1)

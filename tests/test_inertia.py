@@ -13,10 +13,10 @@ import pytest
 from scipy import stats
 from scipy.integrate import cumulative_trapezoid, solve_ivp
 
-from torqlog.drive import MotorModel
 from torqlog.errors import DataError, UsageError
-from torqlog.identify import identify_inertia
-from torqlog.inertia import (
+from torqlog.sizing.drive import MotorModel
+from torqlog.sizing.identify import identify_inertia
+from torqlog.sizing.inertia import (
     MACHINE_CLASSES,
     bootstrap_ci,
     design_energy_swing,

@@ -24,7 +24,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from torqlog.errors import DataError, UsageError
-from torqlog.ingest import LogReader, read_log, sniff_layout
+from torqlog.io.ingest import LogReader, read_log, sniff_layout
 
 LBF_FT = 1.355818  # [NIST] App. B
 KGF_M = 9.80665  # [NIST] App. B

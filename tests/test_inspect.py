@@ -3,7 +3,7 @@
 Logs are written here with a known sample rate, length and gap, so the expected figures
 follow from how the file was made. Unit factors: NIST SP 811 (2008) App. B
 (1 rpm = 2π/60 rad/s = 0.1047198 rad/s, 1° = π/180 rad). A gap is a time step longer than
-1.5 median steps (torqlog.condition.GAP_FACTOR; common practice, no published source).
+1.5 median steps (torqlog.signal.condition.GAP_FACTOR; common practice, no published source).
 """
 
 import json
@@ -16,8 +16,8 @@ from click.testing import CliRunner
 
 from torqlog.cli import cli
 from torqlog.errors import DataError
-from torqlog.ingest import read_log
-from torqlog.survey import survey_log
+from torqlog.io.ingest import read_log
+from torqlog.signal.survey import survey_log
 
 RPM = 0.1047198  # NIST SP 811 App. B
 DEG = 0.01745329  # NIST SP 811 App. B
@@ -120,7 +120,7 @@ def test_inspect_table_reports_the_gap(tmp_path):
     assert "duration    3 s" in lines
     assert "gaps        1 (longest 0.2495 s; first after t = 1.2 s, row 2402)" in lines
     assert "cycles from angle: unwrapped angle channel" in lines
-    # column labels from torqlog.labels, the one map of keys to labels
+    # column labels from torqlog.present.labels, the one map of keys to labels
     assert lines[-6].split() == ["Column", "Role", "Unit", "Unit", "from", "SI", "factor"]
 
 

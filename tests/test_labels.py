@@ -11,7 +11,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from torqlog.labels import label, label_of, relabel_table, show, sig
+from torqlog.present.labels import label, label_of, relabel_table, show, sig
 
 
 @settings(derandomize=True, deadline=None, max_examples=200)

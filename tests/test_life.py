@@ -11,8 +11,8 @@ from click.testing import CliRunner
 
 from torqlog.cli import cli
 from torqlog.errors import UsageError
-from torqlog.life import count_torque, damage_equivalent_range, periodic_damage_sum
-from torqlog.rainflow import RainflowCounter, rainflow
+from torqlog.shaft.life import count_torque, damage_equivalent_range, periodic_damage_sum
+from torqlog.shaft.rainflow import RainflowCounter, rainflow
 
 ASTM = np.array([-2, 1, -3, 5, -1, 3, -4, 4, -2], float)
 

@@ -2,7 +2,7 @@
 
 Truth: machines simulated with a known inertia and linear drive (or load) slope
 (tests/calibsim.py, integrated in time by scipy's ``solve_ivp``); the reference ratio is
-computed directly with :func:`torqlog.calibrate.simulate_after` on the true model and
+computed directly with :func:`torqlog.sizing.calibrate.simulate_after` on the true model and
 Miner's rule with a Basquin slope (Miner 1945; Basquin 1910) over the ASTM E1049 rainflow
 count. Scenario and machines are invented (Brindlemoor Works).
 """
@@ -17,10 +17,10 @@ import pytest
 from calibsim import COMPRESSOR, ENGINE, simulate_log
 from click.testing import CliRunner
 
-from torqlog.calibrate import DriveModel, simulate_after
 from torqlog.cli import cli
-from torqlog.cycles import analyse_cycles, options_from_profile
-from torqlog.life import periodic_damage_sum
+from torqlog.shaft.life import periodic_damage_sum
+from torqlog.signal.cycles import analyse_cycles, options_from_profile
+from torqlog.sizing.calibrate import DriveModel, simulate_after
 
 TARGET = {ENGINE.name: 0.005, COMPRESSOR.name: 0.01}
 #: nameplate of the compressor's motor: slope at the logged shaft 120 N m s/rad, the true one

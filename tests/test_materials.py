@@ -3,7 +3,7 @@
 import pytest
 
 from torqlog.errors import UsageError
-from torqlog.materials import MATERIALS, Material, custom_material, get_material
+from torqlog.rotor.materials import MATERIALS, Material, custom_material, get_material
 
 MPA = 1e6
 GPA = 1e9

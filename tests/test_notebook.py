@@ -6,11 +6,11 @@ from pathlib import Path
 import html5lib
 import pytest
 
-from torqlog.cycles import analyse_cycles, options_from_profile
-from torqlog.flywheel import flywheel_from_profile
-from torqlog.inertia import size_log
-from torqlog.profile import load_profile
-from torqlog.survey import survey_log
+from torqlog.io.profile import load_profile
+from torqlog.rotor.flywheel import flywheel_from_profile
+from torqlog.signal.cycles import analyse_cycles, options_from_profile
+from torqlog.signal.survey import survey_log
+from torqlog.sizing.inertia import size_log
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -15,9 +15,9 @@ from asammdf import MDF, Signal
 from click.testing import CliRunner
 
 from torqlog.cli import cli
-from torqlog.cycles import analyse_cycles
 from torqlog.errors import DataError
-from torqlog.ingest import LogReader
+from torqlog.io.ingest import LogReader
+from torqlog.signal.cycles import analyse_cycles
 
 FS, RPM, SECONDS = 500.0, 60.0, 12.0
 

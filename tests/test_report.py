@@ -21,7 +21,8 @@ import pytest
 from click.testing import CliRunner
 
 from torqlog.cli import cli
-from torqlog.report import (
+from torqlog.demo.simulate import demo_profile, simulate, write_log
+from torqlog.present.report import (
     CAUTIONS,
     PAGE_ONE,
     SECTIONS,
@@ -30,7 +31,6 @@ from torqlog.report import (
     render_html,
     summary_value,
 )
-from torqlog.simulate import demo_profile, simulate, write_log
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG spec sec. 5.2
 
@@ -310,7 +310,7 @@ def test_two_logs_give_a_trend_section_and_a_drift_line(press):
     tree = parse(render_html(data))
     text = _text(_section(tree, "trends"))
     assert "The sizing used the first log, press.csv." in text
-    if importlib.util.find_spec("torqlog.trend") is None:
+    if importlib.util.find_spec("torqlog.fleet.trend") is None:
         assert data.skipped["trend"] == "no trend: this torqlog has no trend module"
     else:  # the comma log states no start time, so no file can be placed in a shift
         assert data.trend is not None or data.skipped["trend"].startswith("no trend: ")

@@ -14,8 +14,9 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from torqlog.errors import DataError, UsageError
-from torqlog.profile import parse_profile
-from torqlog.shaft import (
+from torqlog.io.profile import parse_profile
+from torqlog.shaft.check import check_shaft
+from torqlog.shaft.lateral import (
     PointMass,
     ShaftModel,
     ShaftSegment,
@@ -27,7 +28,6 @@ from torqlog.shaft import (
     shaft_model_from_profile,
     static_deflection,
 )
-from torqlog.shaft_check import check_shaft
 
 E = 207e9
 RHO = 7850.0
@@ -316,7 +316,7 @@ def test_check_shaft_errors():
 
 def test_check_shaft_with_order_spectrum():
     # orders 1 and 2 strong, order 5 below the 5 % share: the highest forcing is 2x speed
-    from torqlog.spectrum import order_spectrum
+    from torqlog.signal.spectrum import order_spectrum
 
     theta = np.arange(360) * 2 * np.pi / 360
     torque = 900.0 + 400.0 * np.cos(theta) + 300.0 * np.cos(2 * theta) + 10.0 * np.cos(5 * theta)
@@ -335,7 +335,7 @@ def test_materials_module_is_used_when_present(monkeypatch):
     import sys
     import types
 
-    fake = types.ModuleType("torqlog.materials")
+    fake = types.ModuleType("torqlog.rotor.materials")
 
     def get_material(name):
         table = {"steel": (210e9, 7850.0, 81e9), "aluminium": (70e9, 2700.0, 26e9)}
@@ -343,8 +343,8 @@ def test_materials_module_is_used_when_present(monkeypatch):
         return types.SimpleNamespace(modulus=e, density=rho, poisson=0.3, shear_modulus=g)
 
     fake.get_material = get_material
-    monkeypatch.setitem(sys.modules, "torqlog.materials", fake)
-    from torqlog.shaft import shaft_model_from_profile
+    monkeypatch.setitem(sys.modules, "torqlog.rotor.materials", fake)
+    from torqlog.shaft.lateral import shaft_model_from_profile
 
     data = {"shaft": dict(_PROFILE["shaft"])}
     data["shaft"]["segments"] = [dict(s) for s in data["shaft"]["segments"]]
@@ -360,7 +360,7 @@ def test_dunkerley_ignores_a_mass_held_by_a_bearing():
     # (Thomson & Dahleh, Dunkerley's equation): with a 50 kg mass at mid-span of a 1 m,
     # 50 mm massless steel shaft the answer is the single-mass √(k/m), k = 48EI/L³
     # (Roark, simply supported beam, central load).
-    from torqlog.shaft import PointMass, ShaftModel, ShaftSegment, dunkerley
+    from torqlog.shaft.lateral import PointMass, ShaftModel, ShaftSegment, dunkerley
 
     e = 210e9
     seg = ShaftSegment(length=1.0, diameter=0.05)

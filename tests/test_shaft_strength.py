@@ -9,8 +9,8 @@ import numpy as np
 import pytest
 
 from torqlog.errors import DataError
-from torqlog.profile import parse_profile
-from torqlog.shaft_check import check_shaft
+from torqlog.io.profile import parse_profile
+from torqlog.shaft.check import check_shaft
 
 _PROFILE = {
     "machine": {"speed_rpm": 45.0},
@@ -66,7 +66,7 @@ def test_strength_contract_and_scaling():
 def test_resonance_raises_shaft_torque():
     # an order placed on the elastic mode raises the section torque well above the
     # quasi-static value: the strength check sees the resonance (Rao sec. 3.4)
-    from torqlog.torsion import TorsionalChain, torsional_modes
+    from torqlog.shaft.torsion import TorsionalChain, torsional_modes
 
     chain = TorsionalChain(("motor", "flywheel", "crank"), (0.35, 310.0, 40.0), (2.1e6, 8.5e6))
     f1 = torsional_modes(chain).freqs[1]
@@ -106,8 +106,8 @@ def test_bad_input_names_the_key():
 def test_campbell_crossings_and_cli(tmp_path):
     from click.testing import CliRunner
 
-    from torqlog.campbell import campbell_crossings
     from torqlog.cli import cli
+    from torqlog.present.campbell import campbell_crossings
 
     res = check_shaft(_prof(), orders={4.0: 1.0})
     f1 = res.current.lateral.fe_hz[0]

@@ -20,16 +20,16 @@ from scipy.integrate import solve_ivp
 from scipy.signal import correlate
 
 from torqlog.cli import cli
-from torqlog.errors import UsageError
-from torqlog.machines import MACHINES, get_machine, slider_crank
-from torqlog.profile import load_profile
-from torqlog.simulate import (
+from torqlog.demo.machines import MACHINES, get_machine, slider_crank
+from torqlog.demo.simulate import (
     SimulatedLog,
     demo_profile,
     motion_table,
     simulate,
     write_log,
 )
+from torqlog.errors import UsageError
+from torqlog.io.profile import load_profile
 
 RPM = 2.0 * math.pi / 60.0
 # NIST SP 811 (2008), Appendix B.9: 1 lbf*ft = 1.355818 N*m (exact value 1.3558179483314004)

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from torqlog.errors import DataError
-from torqlog.spectrum import mean_cycle_spectrum, order_spectrum
+from torqlog.signal.spectrum import mean_cycle_spectrum, order_spectrum
 
 
 def _synth(orders_amps, revs_per_cycle, n=720, mean=1500.0, phase_seed=1):
@@ -102,7 +102,7 @@ def _engine_log(path, rpm=1200.0, rate=7200.0, seconds=1.5, torque=True):
 
 
 def test_mean_cycle_spectrum_of_a_log_recovers_half_orders(tmp_path):
-    from torqlog.cycles import CycleOptions, analyse_cycles
+    from torqlog.signal.cycles import CycleOptions, analyse_cycles
 
     cycles = analyse_cycles(_engine_log(tmp_path / "engine.csv"), CycleOptions(revs_per_cycle=2))
     spec = mean_cycle_spectrum(cycles, max_order=4)
@@ -115,7 +115,7 @@ def test_mean_cycle_spectrum_of_a_log_recovers_half_orders(tmp_path):
 
 
 def test_mean_cycle_spectrum_needs_torque(tmp_path):
-    from torqlog.cycles import CycleOptions, analyse_cycles
+    from torqlog.signal.cycles import CycleOptions, analyse_cycles
 
     log = _engine_log(tmp_path / "speed_only.csv", torque=False)
     cycles = analyse_cycles(log, CycleOptions(revs_per_cycle=2))

@@ -7,7 +7,7 @@ import math
 import pytest
 
 from torqlog.errors import UsageError
-from torqlog.strength import (
+from torqlog.shaft.strength import (
     bearing_l10,
     endurance_limit_specimen,
     fatigue_notch_factor,

@@ -8,9 +8,8 @@ import pytest
 import scipy.linalg
 
 from torqlog.errors import UsageError
-from torqlog.shaft import ShaftSegment
-from torqlog.spectrum import order_spectrum
-from torqlog.torsion import (
+from torqlog.shaft.lateral import ShaftSegment
+from torqlog.shaft.torsion import (
     ASSUMED_MAX_ORDER,
     TorsionalChain,
     significant_orders,
@@ -18,6 +17,7 @@ from torqlog.torsion import (
     torsional_modes,
     torsional_stiffness,
 )
+from torqlog.signal.spectrum import order_spectrum
 
 
 def _hz(omega2):

@@ -9,8 +9,8 @@ import pytest
 import scipy.integrate
 
 from torqlog.errors import UsageError
-from torqlog.torsion import TorsionalChain
-from torqlog.torsional_response import (
+from torqlog.shaft.torsion import TorsionalChain
+from torqlog.shaft.torsional_response import (
     chain_matrices,
     complex_orders,
     forced_response,

@@ -12,7 +12,7 @@ Checks against sources outside the project:
   points on one side of the centre line.
 - ±3σ limits hold a point's false-alarm probability at 2·(1 − Φ(3)) = 0.0027
   (Montgomery sec. 5.3); checked for the baseline-size-adjusted limits by simulation.
-- Drift floor on shift logs made by torqlog.simulate (demo press, die work stepped up):
+- Drift floor on shift logs made by torqlog.demo.simulate (demo press, die work stepped up):
   the energy swing of a cycle, ΔE = max − min of ∫(T − T_mean) dθ (Budynas & Nisbett,
   Shigley's Mechanical Engineering Design, 10th ed., sec. 16-12), follows the die work;
   the work per stroke is 2π·T_friction + W_die by virtual work (Uicker, Pennock &
@@ -28,14 +28,14 @@ import pytest
 from click.testing import CliRunner
 from scipy import stats
 
-from torqlog import control
-from torqlog.batch import FileJob, discover, process_file, run_files, start_from_name
 from torqlog.cli import cli
+from torqlog.demo.machines import get_machine
+from torqlog.demo.simulate import simulate
+from torqlog.demo.simulate import write_log as write_sim_log
 from torqlog.errors import UsageError
-from torqlog.machines import get_machine
-from torqlog.simulate import simulate
-from torqlog.simulate import write_log as write_sim_log
-from torqlog.trend import (
+from torqlog.fleet import control
+from torqlog.fleet.batch import FileJob, discover, process_file, run_files, start_from_name
+from torqlog.fleet.trend import (
     DriftOptions,
     ShiftCalendar,
     combine,
@@ -109,7 +109,7 @@ def week_cycles(seed, *, drift_from=14, step=1.2, n=21, per_shift=60):
 def simulated_week(folder, *, seed, drift_from=14, step=1.2, n=21, dialect="iso",
                    duration=4.0, rate=200.0):
     """A week of shift logs of the demo press (Press 4, line B, 45.57 strokes/min) made by
-    :func:`torqlog.simulate.simulate` and written by :func:`torqlog.simulate.write_log`:
+    :func:`torqlog.demo.simulate.simulate` and written by :func:`torqlog.demo.simulate.write_log`:
     one log of ``duration`` s at ``rate`` Hz per 8-h shift, 20 min into the shift, named
     press4_YYYYmmdd_HHMM.csv. The die work (``load_scale``) varies 2 % from shift to shift
     (an assumed spread, no source) and steps up by ``step`` from shift ``drift_from``.

@@ -16,7 +16,7 @@ import math
 import pytest
 
 from torqlog.errors import UsageError
-from torqlog.units import parse_quantity, si_factor
+from torqlog.io.units import parse_quantity, si_factor
 
 # Seven significant digits in [NIST]: a relative tolerance of 5e-7 covers the rounding.
 NIST_REL = 5e-7

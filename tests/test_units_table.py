@@ -6,7 +6,7 @@ import math
 
 import pytest
 
-from torqlog.units import _COMMON, SI_UNITS, registry, si_factor
+from torqlog.io.units import _COMMON, SI_UNITS, registry, si_factor
 
 
 @pytest.mark.parametrize(("unit", "kind"), sorted(_COMMON))

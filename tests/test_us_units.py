@@ -7,8 +7,8 @@ import pytest
 from click.testing import CliRunner
 
 from torqlog.cli import cli
-from torqlog.flywheel import flywheel_from_profile
-from torqlog.units import convert_keys, key_unit, us_key
+from torqlog.io.units import convert_keys, key_unit, us_key
+from torqlog.rotor.flywheel import flywheel_from_profile
 
 # NIST SP 811 (2008), Appendix B.9 (factors to SI, 7 significant digits as printed there)
 NIST = {
@@ -89,7 +89,7 @@ def test_cli_units_us_json_and_profile_setting(tmp_path):
 
 def test_profile_keys_take_numbers_with_units():
     from torqlog.errors import DataError
-    from torqlog.profile import parse_profile
+    from torqlog.io.profile import parse_profile
 
     p = parse_profile({"machine": {"speed_rpm": "4.772 rad/s", "inertia_kgm2": "7356.4 lb*ft**2"},
                        "flywheel": {"outer_diameter_m": "55 in"}}, "p.toml")

@@ -13,8 +13,8 @@ import time
 import numpy as np
 import pytest
 
-from torqlog.cycles import analyse_cycles
-from torqlog.simulate import Fault, simulate, write_log
+from torqlog.demo.simulate import Fault, simulate, write_log
+from torqlog.signal.cycles import analyse_cycles
 
 WRITER = textwrap.dedent("""
     import os, sys, time

@@ -18,10 +18,10 @@ from typing import TYPE_CHECKING, Any
 import click
 import numpy as np
 
-from torqlog import __version__
+from torqlog._version import __version__
 from torqlog.errors import TorqlogError
-from torqlog.outputs import atomic_path, check_outputs, write_text  # noqa: F401 (for commands)
-from torqlog.units import parse_quantity
+from torqlog.io.outputs import atomic_path, check_outputs, write_text  # noqa: F401 (for commands)
+from torqlog.io.units import parse_quantity
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -174,11 +174,11 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
     ``table`` is printed for ``table`` and ``csv``; ``text`` (if given) is printed
     before the table in ``table`` format -- a function of the (unit-converted) data, or
     fixed text (then shown in SI only); ``data`` is the JSON contract. ``--units us``
-    converts data and table (:func:`torqlog.units.convert_keys`); xlsx and Parquet go
-    through :mod:`torqlog.exporting`, with ``sheets`` as extra xlsx sheets.
+    converts data and table (:func:`torqlog.io.units.convert_keys`); xlsx and Parquet go
+    through :mod:`torqlog.present.exporting`, with ``sheets`` as extra xlsx sheets.
     """
-    from torqlog.exporting import DEFAULT_DIGITS, to_csv_text, write_binary
-    from torqlog.units import convert_frame, convert_keys
+    from torqlog.io.units import convert_frame, convert_keys
+    from torqlog.present.exporting import DEFAULT_DIGITS, to_csv_text, write_binary
 
     opts = output_settings()
     system = opts["units"]
@@ -213,7 +213,7 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
 
         parts = [text] if text else []
         if table is not None:
-            from torqlog.labels import relabel_table
+            from torqlog.present.labels import relabel_table
 
             with pd.option_context("display.max_rows", 60, "display.width", 160,
                                    "display.max_columns", 30):
@@ -360,7 +360,7 @@ def log_options(f: Callable) -> Callable:
 
 
 def read_kwargs(kw: dict[str, Any]) -> dict[str, Any]:
-    """Reading options for :func:`torqlog.ingest.sniff_layout` from CLI keywords."""
+    """Reading options for :func:`torqlog.io.ingest.sniff_layout` from CLI keywords."""
     return {
         "roles": {r: kw.pop(f"{r}_col") for r in _ROLE_OPTS if kw.get(f"{r}_col")},
         "units": {r: kw.pop(f"{r}_unit") for r in _UNIT_OPTS if kw.get(f"{r}_unit")},
@@ -431,14 +431,14 @@ def load_profile_opt(path: str | None) -> Any:
     """The machine profile named by ``--profile``, or None."""
     if not path:
         return None
-    from torqlog.profile import load_profile
+    from torqlog.io.profile import load_profile
 
     return load_profile(path)
 
 
 def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
-    """Build :class:`torqlog.cycles.CycleOptions` from CLI keywords and a profile."""
-    from torqlog.cycles import options_from_profile
+    """Build :class:`torqlog.signal.cycles.CycleOptions` from CLI keywords and a profile."""
+    from torqlog.signal.cycles import options_from_profile
 
     return options_from_profile(
         profile,
@@ -457,11 +457,11 @@ def make_cycle_options(kw: dict[str, Any], profile: Any = None) -> Any:
 def run_cycles(log: str, kw: dict[str, Any], **how: Any) -> Any:
     """Run the cycle stage for a CLI command; pops the options it uses from ``kw``.
 
-    ``how`` goes to :func:`torqlog.cycles.analyse_cycles` (``keep_rows``, ``sink``, the
+    ``how`` goes to :func:`torqlog.signal.cycles.analyse_cycles` (``keep_rows``, ``sink``, the
     quantile budget). On a terminal a progress bar (on stderr) follows the bytes read;
     elsewhere it is quiet.
     """
-    from torqlog.cycles import analyse_cycles
+    from torqlog.signal.cycles import analyse_cycles
 
     profile = load_profile_opt(kw.pop("profile", None))
     read = read_kwargs(kw) | how

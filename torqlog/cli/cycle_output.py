@@ -1,6 +1,6 @@
 """Per-cycle output of ``torqlog cycles`` written as the cycles complete.
 
-Each writer is a :class:`torqlog.cycles.CycleSink`: it gets the source and options before
+Each writer is a :class:`torqlog.signal.cycles.CycleSink`: it gets the source and options before
 the first block, every block of finished cycles, and the result (summary, notes) at the
 end, so the per-cycle rows never sit in memory together. A file named with ``-o`` is
 written under a temporary name beside it and renamed at the end; a run that fails leaves
@@ -32,8 +32,8 @@ from typing import IO, Any
 import numpy as np
 
 from torqlog.cli.base import _fmt_float, to_json
-from torqlog.cycles import COLUMNS, CycleResult
 from torqlog.errors import UsageError
+from torqlog.signal.cycles import COLUMNS, CycleResult
 
 #: Formats with a streaming writer here.
 STREAM_FORMATS = ("table", "csv", "json", "jsonl", "parquet")
@@ -123,7 +123,7 @@ def _literals(block: dict[str, Any]) -> list[list[str]]:
     for name in COLUMNS:
         v = block[name]
         if name == "start_time":
-            from torqlog.cycles import _isnat, _iso
+            from torqlog.signal.cycles import _isnat, _iso
 
             out.append(["null" if _isnat(x) else json.dumps(_iso(x)) for x in v])
         elif name == "flag":

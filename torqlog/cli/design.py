@@ -214,10 +214,10 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
               **kw: Any) -> None:
     """Shaft natural frequencies, lateral and torsional, against the running speed."""
     from torqlog.errors import CheckFailed, UsageError
-    from torqlog.profile import load_profile
-    from torqlog.shaft_check import check_shaft
-    from torqlog.spectrum import mean_cycle_spectrum
-    from torqlog.units import si_factor
+    from torqlog.io.profile import load_profile
+    from torqlog.io.units import si_factor
+    from torqlog.shaft.check import check_shaft
+    from torqlog.signal.spectrum import mean_cycle_spectrum
 
     check_outputs({"-o": output, "--plot": plot_path},
                   {"--profile": profile_path, "--log": log, "--from-flywheel": flywheel_file})
@@ -272,12 +272,12 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
         log_info["orders"] = spectrum.significant(data["options"]["min_share"]).to_dict()
         data["log"] = log_info
     if plot_path:
-        from torqlog.plots import plot_shaft
+        from torqlog.present.plots import plot_shaft
 
         plot_shaft(result, plot_path, spectrum=spectrum)
         click.echo(f"wrote {plot_path}", err=True)
         if speed_range is not None:
-            from torqlog.campbell import plot_campbell
+            from torqlog.present.campbell import plot_campbell
 
             camp = str(Path(plot_path).with_name(Path(plot_path).stem + "_campbell.png"))
             plot_campbell(result, camp, speed_range, spectrum=spectrum)
@@ -397,9 +397,9 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
     and exits 0 (3 with --strict).
     """
     from torqlog.errors import CheckFailed, DataError, UsageError
-    from torqlog.flywheel import flywheel_from_profile
-    from torqlog.materials import load_materials
-    from torqlog.profile import load_profile
+    from torqlog.io.profile import load_profile
+    from torqlog.rotor.flywheel import flywheel_from_profile
+    from torqlog.rotor.materials import load_materials
 
     check_outputs({"-o": output, "--plot": plot_path},
                   {"--profile": profile_path, "--from-size": size_path})
@@ -428,7 +428,7 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
     if profile_path:
         data["options"]["profile"] = profile_path
     if plot_path:
-        from torqlog.plots import plot_flywheel_stresses
+        from torqlog.present.plots import plot_flywheel_stresses
 
         plot_flywheel_stresses(result, plot_path)
         click.echo(f"wrote {plot_path}", err=True)

@@ -15,7 +15,7 @@ def fleet_for(res: Any, jobs: list[Any], profile: Any, folder_profiles: bool,
     With ``folder_profiles`` a machine's profile is the one ``.toml`` beside its logs;
     else the ``--profile`` given (or none).
     """
-    from torqlog.fleet import fleet_from_trend
+    from torqlog.fleet.compare import fleet_from_trend
 
     by_path = {j.path: j for j in jobs}
     latest: dict[str, Any] = {}
@@ -40,12 +40,12 @@ def write_demo_fleet(runs: list[Any], out_dir: str | Path) -> list[Path]:
     Writes ``fleet.xlsx`` (sheets fleet, shifts, options), ``fleet.csv`` (with a units
     row) and ``fleet.json`` into ``out_dir``; returns their paths.
     """
-    from torqlog.batch import FileJob
     from torqlog.cli.base import make_cycle_options, to_json
-    from torqlog.demo import DEMO_START
-    from torqlog.exporting import to_csv_text, write_xlsx
-    from torqlog.fleet import fleet_from_trend
-    from torqlog.trend import DriftOptions, ShiftCalendar, run_trend
+    from torqlog.demo.run import DEMO_START
+    from torqlog.fleet.batch import FileJob
+    from torqlog.fleet.compare import fleet_from_trend
+    from torqlog.fleet.trend import DriftOptions, ShiftCalendar, run_trend
+    from torqlog.present.exporting import to_csv_text, write_xlsx
 
     jobs, profiles = [], {}
     for run in runs:

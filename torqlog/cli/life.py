@@ -49,8 +49,8 @@ def _after_block(cycles: Any, profile: Any, target: float | None,
     import numpy as np
 
     from torqlog.errors import UsageError
-    from torqlog.inertia import size_log, size_log_dict
-    from torqlog.life import life_after, life_drive_model
+    from torqlog.shaft.life import life_after, life_drive_model
+    from torqlog.sizing.inertia import size_log, size_log_dict
 
     if target is None:  # the model choice does not depend on the target: size at the
         cs = cycles.table["cs"].to_numpy(float) if "cs" in cycles.table else np.array([])
@@ -103,14 +103,14 @@ def life_cmd(log: str, sn_slope: float | None, equivalent_cycles: float | None,
     import pandas as pd
 
     from torqlog.errors import DataError, UsageError
-    from torqlog.ingest import LogReader
-    from torqlog.life import (
+    from torqlog.io.ingest import LogReader
+    from torqlog.shaft.lateral import CAUTIONS
+    from torqlog.shaft.life import (
         DEFAULT_EQUIVALENT_CYCLES,
         DEFAULT_SN_SLOPE,
         check_life_options,
         count_torque,
     )
-    from torqlog.shaft import CAUTIONS
 
     m = DEFAULT_SN_SLOPE if sn_slope is None else sn_slope
     n_eq = DEFAULT_EQUIVALENT_CYCLES if equivalent_cycles is None else equivalent_cycles

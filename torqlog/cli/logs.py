@@ -46,7 +46,7 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
     """Show what is in a log: columns, roles, units, rate, gaps, NaNs, clipping."""
     import pandas as pd
 
-    from torqlog.survey import survey_log
+    from torqlog.signal.survey import survey_log
 
     check_outputs({"-o": output}, {"log": log})
 
@@ -171,7 +171,7 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
         res.shape_model.save(save)
         click.echo(f"wrote {save}", err=True)
     if shape_plot and res.anomaly is not None:
-        from torqlog.plots import plot_anomaly
+        from torqlog.present.plots import plot_anomaly
 
         plot_anomaly(res.anomaly, shape_plot)
         click.echo(f"wrote {shape_plot}", err=True)
@@ -338,8 +338,8 @@ def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
     the model's prediction against a log taken after the retrofit.
     """
     from torqlog.errors import UsageError
-    from torqlog.inertia import size_log, size_log_dict
-    from torqlog.logchoice import choose_log
+    from torqlog.sizing.inertia import size_log, size_log_dict
+    from torqlog.sizing.logchoice import choose_log
 
     check_outputs({"-o": output, "--plot": plot_path},
                   {"log": list(logs), "--after": after_log, "--profile": kw.get("profile")})
@@ -360,13 +360,13 @@ def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
     data["size_on"] = choice if len(results) > 1 else None
     data["retrofit"] = None
     if after_log:
-        from torqlog.retrofit import retrofit_from_size
+        from torqlog.sizing.retrofit import retrofit_from_size
 
         after, _ = run_cycles(after_log, dict(fresh))
         data["retrofit"] = retrofit_from_size(result, after, tolerance=tolerance).to_dict()
     target_cs = result.target_cs
     if plot_path:
-        from torqlog.plots import plot_drive_curve
+        from torqlog.present.plots import plot_drive_curve
 
         if result.curve is None:
             raise UsageError("--plot needs a drive model: a log with torque and speed, or a "
@@ -422,15 +422,15 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
                 ) -> tuple[list[Any], list[dict[str, str]], Any]:
     """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
 
-    from torqlog.batch import FileJob, discover
     from torqlog.errors import UsageError
+    from torqlog.fleet.batch import FileJob, discover
 
     files, missing = discover(paths)
     if kw.get("start") and len(files) > 1:
         raise UsageError("--start places a single file; for several files give --name-time "
                          "PATTERN or logs that carry their own timestamps")
     if name_time:
-        from torqlog.batch import name_time_regex
+        from torqlog.fleet.batch import name_time_regex
 
         name_time_regex(name_time)
     profile = load_profile_opt(kw.pop("profile", None))
@@ -526,9 +526,9 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     and the first shift where drift began. PATHS are files, folders or glob patterns."""
     from contextlib import ExitStack, nullcontext
 
-    from torqlog.batch import dask_client
-    from torqlog.outputs import OUTPUT_NAMES, parquet_metadata, write_text
-    from torqlog.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
+    from torqlog.fleet.batch import dask_client
+    from torqlog.fleet.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
+    from torqlog.io.outputs import OUTPUT_NAMES, parquet_metadata, write_text
 
     profile_path = kw.get("profile")
     jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
@@ -578,7 +578,7 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     sheets = None
     if fleet_flag:
         from torqlog.cli.fleet import fleet_for
-        from torqlog.fleet import rank_rows
+        from torqlog.fleet.compare import rank_rows
 
         rank_rows([], fleet_sort)  # an unknown column is refused before the sizing runs
         fleet = fleet_for(res, jobs, profile, folder_profiles, fleet_sort)

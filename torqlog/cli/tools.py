@@ -70,7 +70,7 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
                  fault_from: float | None) -> None:
     """Write a synthetic log of a demo MACHINE (press, compressor, engine) of the
     invented Brindlemoor Works plant."""
-    from torqlog.simulate import Fault, demo_profile, get_machine, simulate, write_log
+    from torqlog.demo.simulate import Fault, demo_profile, get_machine, simulate, write_log
 
     check_outputs({"-o": output, "--profile-out": profile_out}, {})
     defect = None
@@ -82,7 +82,7 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
                    start=start, load_scale=load_scale, fault=defect)
     write_log(log, output, dialect=dialect)
     if defect is not None:
-        from torqlog.simulate import write_truth
+        from torqlog.demo.simulate import write_truth
 
         truth = write_truth(log, f"{output}.truth.json")
         f = log.options["fault"]
@@ -122,7 +122,7 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
     start times also give the shift trend. Without --profile the report holds what the
     log alone gives and says which profile lines would add the rest.
     """
-    from torqlog.report import build_report, write_report
+    from torqlog.present.report import build_report, write_report
 
     profile_path = kw.pop("profile", None)
     check_outputs({"-o": output, "--pdf": pdf_path}, {"log": logs, "--profile": profile_path})
@@ -155,8 +155,8 @@ def demo_cmd(out_dir: str) -> None:
     shaft, trend), the figures and a report per machine into OUT, and prints the path of
     the press report last.
     """
-    from torqlog.demo import write_demo_inputs
-    from torqlog.report import build_report, write_report
+    from torqlog.demo.run import write_demo_inputs
+    from torqlog.present.report import build_report, write_report
 
     reports = []
     runs = write_demo_inputs(out_dir)
@@ -181,7 +181,7 @@ def demo_cmd(out_dir: str) -> None:
     click.echo("fleet table: " + ", ".join(str(p) for p in write_demo_fleet(runs, out_dir)),
                err=True)
 
-    from torqlog.demo import find_demo_fault
+    from torqlog.demo.run import find_demo_fault
 
     fault = find_demo_fault(out_dir)  # a machine with an injected fault, found
     click.echo(f"compressor with a leaking valve: {fault['result'].sentence} "

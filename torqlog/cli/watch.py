@@ -42,8 +42,8 @@ def shape_kwargs(log: str, kw: dict[str, Any]) -> dict[str, Any]:
 
     A ``--reference`` log is read with the same cycle options as LOG (peeked, not popped).
     """
-    from torqlog import anomaly as an
     from torqlog.errors import UsageError
+    from torqlog.signal import anomaly as an
 
     ref, path = kw.pop("reference"), kw.pop("shape_model")
     off = kw.pop("no_shape_check")
@@ -94,9 +94,9 @@ def watch_cmd(log: str, fmt: str, poll: float, idle_exit: float | None, exit_on_
     rows (100 000, as `cycles` reads them: same figures) and, without --reference, the
     first --learn-cycles clean cycles are in; after that, two cycles behind the logger.
     """
-    from torqlog.cycles import COLUMNS
     from torqlog.errors import CheckFailed
-    from torqlog.watch import watch_log
+    from torqlog.fleet.watch import watch_log
+    from torqlog.signal.cycles import COLUMNS
 
     kw.pop("save_shape_model")
     kw.pop("shape_plot")

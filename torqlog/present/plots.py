@@ -1,0 +1,712 @@
+"""Figures (PNG) for every stage, in one house style.
+
+Functions here take result objects or arrays and a path; they compute nothing new.
+matplotlib runs with the non-interactive Agg backend, so no screen is needed.
+"""
+
+from __future__ import annotations
+
+import textwrap
+from pathlib import Path
+from typing import TYPE_CHECKING
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+from matplotlib.figure import Figure  # noqa: E402
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+#: The torqlog palette: deep teal for measured data, burnt orange for the mean or
+#: the design value, slate for references, brick red for limits and failures,
+#: olive for "after retrofit".
+PALETTE: dict[str, str] = {
+    "data": "#1b6f7a",
+    "mean": "#d2691e",
+    "reference": "#5b6770",
+    "limit": "#b22222",
+    "after": "#6b8e23",
+    "band": "#9fc9cf",
+    "grid": "#d9dde0",
+}
+
+_RC = {
+    "figure.dpi": 100,
+    "savefig.dpi": 150,
+    "font.size": 10,
+    "axes.titlesize": 11,
+    "axes.titleweight": "bold",
+    "axes.grid": True,
+    "grid.color": PALETTE["grid"],
+    "grid.linewidth": 0.6,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "legend.frameon": False,
+    "legend.fontsize": 9,
+}
+
+
+def new_figure(nrows: int = 1, ncols: int = 1, *, height: float = 3.2,
+               width: float = 8.0, **kwargs: object) -> tuple[Figure, object]:
+    """Create a figure in the house style; returns ``(fig, axes)``."""
+    with plt.rc_context(_RC):
+        fig, axes = plt.subplots(nrows, ncols, figsize=(width, height * nrows),
+                                 layout="constrained", **kwargs)
+    return fig, axes
+
+
+def style() -> dict:
+    """The rc settings of the house style, for ``plt.rc_context(style())``."""
+    return dict(_RC)
+
+
+def save(fig: Figure, path: str | Path) -> Path:
+    """Save a figure (150 dpi; PNG, or SVG/PDF by the path's suffix) and close it.
+
+    The file is written to a temporary name beside it and renamed into place
+    (:func:`torqlog.io.outputs.atomic_path`). Returns the path.
+    """
+    from torqlog.errors import UsageError
+    from torqlog.io.outputs import atomic_path
+
+    p = Path(path)
+    fmt = p.suffix.lower().lstrip(".") or "png"
+    if fmt not in ("png", "svg", "pdf"):
+        plt.close(fig)
+        raise UsageError(f"{p}: a figure file must end in .png, .svg or .pdf")
+    try:
+        with plt.rc_context(_RC), atomic_path(p) as tmp:
+            fig.savefig(tmp, dpi=150, format=fmt)
+    finally:
+        plt.close(fig)
+    return p
+
+
+# --- cycles
+def plot_cycles(result: object, path: str | Path) -> Path:
+    """Torque vs crank angle (every cycle faint, mean bold), E(θ) of the mean cycle with
+    ΔE marked, and speed vs angle. ``result`` is a :class:`torqlog.signal.cycles.CycleResult`."""
+    import numpy as np
+
+    mc = result.mean_cycle
+    deg = np.degrees(mc["angle"].to_numpy())
+    has_t = mc["torque_mean"].notna().any()
+    has_w = mc["speed_mean"].notna().any()
+    fig, axes = new_figure(3, 1, height=2.6, width=8.0, sharex=True)
+    ax_t, ax_e, ax_w = axes
+    name = Path(result.source).name
+    fig.suptitle(f"Cycles of {name}: {result.summary['cycles']} clean of "
+                 f"{result.summary['cycles_total']}", fontweight="bold")
+    if has_t:
+        for c in result.curves.get("torque", np.empty((0, deg.size))):
+            ax_t.plot(deg, c / 1e3, color=PALETTE["band"], lw=0.5, alpha=0.5)
+        ax_t.plot(deg, mc["torque_mean"] / 1e3, color=PALETTE["mean"], lw=2.0, label="mean cycle")
+        ax_t.plot([], [], color=PALETTE["band"], lw=1, label="each cycle")
+        ax_t.legend(loc="upper right")
+        ax_t.set_ylabel("torque [kN·m]")
+        ax_t.set_title("Torque against crank angle")
+        e = result.energy_curve()
+        edeg = np.concatenate(([0.0], deg + (deg[1] - deg[0]) / 2))
+        ax_e.plot(edeg, e / 1e3, color=PALETTE["data"], lw=2.0)
+        imax, imin = int(np.argmax(e)), int(np.argmin(e))
+        de = e[imax] - e[imin]
+        ax_e.axhline(e[imax] / 1e3, color=PALETTE["reference"], lw=0.8, ls="--")
+        ax_e.axhline(e[imin] / 1e3, color=PALETTE["reference"], lw=0.8, ls="--")
+        xm = edeg[-1] * 0.02
+        ax_e.annotate("", xy=(xm, e[imax] / 1e3), xytext=(xm, e[imin] / 1e3),
+                      arrowprops={"arrowstyle": "<->", "color": PALETTE["mean"], "lw": 1.5})
+        ax_e.text(xm * 2.5, (e[imax] + e[imin]) / 2e3, f"ΔE = {de / 1e3:.3g} kJ (mean cycle)",
+                  color=PALETTE["mean"], va="center", fontweight="bold",
+                  bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.8})
+        ax_e.set_ylabel("E(θ) [kJ]")
+        ax_e.set_title("Accumulated energy above the mean torque, E(θ) = ∫(T − T̄)dθ")
+    else:
+        for ax in (ax_t, ax_e):
+            ax.text(0.5, 0.5, "no torque channel in this log", transform=ax.transAxes,
+                    ha="center", va="center", color=PALETTE["reference"])
+            ax.set_yticks([])
+    if has_w:
+        rpm = 60.0 / (2 * np.pi)
+        for c in result.curves.get("speed", np.empty((0, deg.size))):
+            ax_w.plot(deg, c * rpm, color=PALETTE["band"], lw=0.5, alpha=0.5)
+        ax_w.plot(deg, mc["speed_mean"] * rpm, color=PALETTE["mean"], lw=2.0, label="mean cycle")
+        ax_w.set_ylabel("speed [rpm]")
+        ax_w.set_title("Shaft speed against crank angle")
+    else:
+        ax_w.text(0.5, 0.5, "no speed information in this log", transform=ax_w.transAxes,
+                  ha="center", va="center", color=PALETTE["reference"])
+        ax_w.set_yticks([])
+    ax_w.set_xlabel("crank angle within the cycle [deg]")
+    ax_w.set_xlim(0, float(np.degrees(result.mean_cycle['angle'].iloc[-1]) +
+                           (deg[1] - deg[0]) / 2))
+    return save(fig, path)
+
+
+# --- shaft
+def plot_shaft(result: object, path: str | Path, spectrum: object | None = None) -> Path:
+    """Shaft check figure: static deflection, first lateral mode shapes, and (with a
+    spectrum) the torque orders at the running speed against the torsional modes.
+
+    Parameters
+    ----------
+    result : ShaftResult
+        From :func:`torqlog.shaft.check.check_shaft`.
+    path : str or Path
+        PNG file to write.
+    spectrum : OrderSpectrum, optional
+        Orders of the torque; drawn as stems at order x running speed [Hz], with each
+        elastic torsional mode as a vertical line and the band of order frequencies that
+        would be flagged (f / (1 + band) to f / (1 - band)) shaded.
+    """
+    import numpy as np
+
+    states = [("before", result.before, PALETTE["data"])]
+    if result.after is not None:
+        states.append(("after", result.after, PALETTE["after"]))
+    nrows = 3 if spectrum is not None else 2
+    fig, axes = new_figure(nrows, 1, height=2.9, width=8.5)
+    ax = axes[0]
+    for label, st, color in states:
+        lat = st.lateral
+        ax.plot(lat.x, lat.deflection * 1e3, color=color,
+                label=f"{label}: max {lat.static_deflection_max * 1e3:.3f} mm")
+        for m in lat.model.masses:
+            yi = np.interp(m.at, lat.x, lat.deflection) * 1e3
+            ax.plot(m.at, yi, "o", color=color, ms=6 + 3 * (m.name == "added"))
+            if label == "before" or m.name == "added":
+                right = m.at > 0.8 * lat.model.length
+                ax.annotate(f"{m.name} {m.mass:g} kg",
+                            (m.at, yi), textcoords="offset points",
+                            xytext=(-6 if right else 4, -12 if label == "before" else 6),
+                            ha="right" if right else "left", fontsize=8, color=color)
+    cur = result.current.lateral
+    ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
+            color=PALETTE["reference"], ms=10, label="bearing (simple support)")
+    ax.axhline(0.0, color=PALETTE["reference"], lw=0.8)
+    ax.invert_yaxis()
+    ax.set_title("Static deflection under the weights of the masses")
+    ax.set_xlabel("position along shaft x [m]")
+    ax.set_ylabel("deflection (down) [mm]")
+    ax.legend(loc="best")
+
+    ax = axes[1]
+    styles = ["-", "--", ":"]
+    for i, (f, shape) in enumerate(zip(cur.fe_hz, cur.mode_shapes, strict=False)):
+        ax.plot(cur.x, shape, styles[i % 3], color=PALETTE["data"] if i == 0 else
+                PALETTE["reference"], label=f"mode {i + 1}: {f:.1f} Hz")
+    ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
+            color=PALETTE["reference"], ms=10, label="bearing")
+    state = "after" if result.after is not None else "current"
+    ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× shaft speed "
+                 f"{cur.forcing_hz:.2f} Hz: {cur.verdict}")
+    ax.set_xlabel("position along shaft x [m]")
+    ax.set_ylabel("relative deflection [-]")
+    ax.legend(loc="best", ncols=2)
+
+    if spectrum is not None:
+        ax = axes[2]
+        speed_hz = result.speed / (2 * np.pi)
+        freq = spectrum.order * speed_hz
+        tor = result.current.torsional
+        min_share = tor.min_share if tor is not None else 0.05
+        sig = spectrum.share >= min_share
+        # the frequency axis ends past the highest significant order, torsional mode band
+        # and first lateral mode; minor orders beyond it are not drawn
+        elastic = [] if tor is None else [f for f, rigid in zip(tor.modes_hz, tor.rigid_body,
+                                                                  strict=True) if not rigid]
+        hi = freq[sig].max() if sig.any() else (freq.max() if len(freq) else 1.0)
+        hi = max([hi, *(f / (1 - tor.band) for f in elastic), *cur.fe_hz[:1]])
+        shown = freq <= hi * 1.3
+        freq, sig = freq[shown], sig[shown]
+        amplitude, orders = spectrum.amplitude[shown], spectrum.order[shown]
+        ax.vlines(freq, 0, amplitude, color=PALETTE["data"], lw=2)
+        ax.plot(freq[sig], amplitude[sig], "o", color=PALETTE["data"],
+                label=f"order, share ≥ {min_share:g}")
+        ax.plot(freq[~sig], amplitude[~sig], "o", mfc="white",
+                color=PALETTE["data"], label="order, minor")
+        top = amplitude.max() if len(amplitude) else 1.0
+        for o, f, a in zip(orders[sig][:8], freq[sig][:8], amplitude[sig][:8], strict=True):
+            ax.annotate(f"{o:g}×", (f, a), textcoords="offset points", xytext=(0, 4),
+                        ha="center", fontsize=8)
+        for i, f in enumerate(elastic):
+            ax.axvspan(f / (1 + tor.band), f / (1 - tor.band), color=PALETTE["band"],
+                       alpha=0.5, lw=0, label=f"±{tor.band * 100:g} % band" if i == 0 else None)
+            ax.axvline(f, color=PALETTE["limit"], lw=1.5,
+                       label="torsional mode" if i == 0 else None)
+            ax.annotate(f"{f:.1f} Hz", (f, top * 0.05), textcoords="offset points",
+                        xytext=(3, 0), fontsize=8, rotation=90, va="bottom",
+                        color=PALETTE["limit"])
+        ax.axvline(cur.fe_hz[0] if cur.fe_hz else np.nan, color=PALETTE["mean"], ls="--",
+                   lw=1.2, label=f"first lateral mode {cur.fe_hz[0]:.1f} Hz (driven by 1×, "
+                   f"2×, not by orders)" if cur.fe_hz else None)
+        ax.set_xscale("log")
+        lo = freq.min() if len(freq) else 0.1
+        ax.set_xlim(lo * 0.8, hi * 1.3)
+        ax.set_ylim(0, top * 1.6)
+        ax.set_title(f"Torque orders at {speed_hz * 60:.0f} rpm vs torsional modes")
+        ax.set_xlabel("frequency [Hz] (order × running speed)")
+        ax.set_ylabel("torque amplitude [N·m]")
+        ax.legend(loc="upper center", ncols=3, frameon=True, framealpha=0.9,
+                  edgecolor=PALETTE["grid"])
+    return save(fig, path)
+
+
+# --- flywheel
+def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
+    """Radial, tangential and criterion stress against radius for a flywheel check.
+
+    Drawn at the operating speed the stresses are evaluated at, with the strength line
+    and the allowable stress (strength / required stress factor). Lines far above the
+    stresses are named in a note instead of squashing the curves.
+
+    Parameters
+    ----------
+    result : torqlog.rotor.flywheel.FlywheelResult
+    path : str or Path
+        PNG file to write.
+
+    Returns
+    -------
+    Path
+    """
+    import numpy as np
+
+    from torqlog.rotor.flywheel import max_principal, von_mises
+
+    r = result.radius
+    # break the curves at step boundaries (a stepped disc jumps there)
+    breaks = np.flatnonzero(np.diff(result.step)) + 1
+    r_mm = np.insert(r * 1e3, breaks, np.nan)
+
+    def cut(values: np.ndarray) -> np.ndarray:
+        return np.insert(values / 1e6, breaks, np.nan)
+
+    crit_fn = von_mises if result.criterion == "von-mises" else max_principal
+    crit_label = "von Mises" if result.criterion == "von-mises" else "max principal"
+    crit = crit_fn(result.radial, result.tangential)
+    strength = result.material.strength / 1e6
+    allowable = result.allowable_stress / 1e6
+    top = float(np.nanmax(crit)) / 1e6
+
+    fig, ax = new_figure(height=4.2, width=10.0)
+    ax.plot(r_mm, cut(crit), color=PALETTE["band"], lw=6, solid_capstyle="butt",
+            label=f"{crit_label} (criterion)")
+    ax.plot(r_mm, cut(result.tangential), color=PALETTE["data"], lw=1.8,
+            label="tangential (hoop)")
+    ax.plot(r_mm, cut(result.radial), color=PALETTE["reference"], lw=1.8, ls="--",
+            label="radial")
+    notes = []
+    ymax = 1.25 * top
+    for value, label, style in (
+            (allowable, f"allowable {allowable:.4g} MPa (strength / "
+                        f"{result.required_stress_factor:.3g})", "--"),
+            (strength, f"{result.material.strength_kind} strength {strength:.4g} MPa", "-")):
+        if value <= 5.0 * top:
+            ax.axhline(value, color=PALETTE["limit"], lw=1.2, ls=style, label=label)
+            ymax = max(ymax, 1.08 * value)
+        else:
+            notes.append(label)
+    if notes:
+        ax.text(1.02, 0.02, "off scale:\n" + "\n".join(notes)
+                + f"\nstress safety factor {result.stress_safety_factor:.3g}",
+                transform=ax.transAxes, ha="left", va="bottom", fontsize=8,
+                color=PALETTE["limit"])
+    ax.set_ylim(0.0, ymax)
+    ax.set_xlim(0.0, result.geometry.outer_radius * 1e3 * 1.02)
+    ax.set_xlabel("radius [mm]")
+    ax.set_ylabel("stress [MPa]")
+    rpm = result.speed * 60.0 / (2.0 * np.pi)
+    g = result.geometry
+    ax.set_title(f"Flywheel stresses at the operating speed, {rpm:.0f} rpm\n{g.shape}, "
+                 f"{result.material.name}, OD {g.outer_diameter * 1e3:.0f} mm: "
+                 f"verdict {result.verdict}", loc="left")
+    for b in breaks:
+        ax.axvline(r[b] * 1e3, color=PALETTE["reference"], lw=0.8, ls=":",
+                   label="web to rim step" if b == breaks[0] else None)
+    ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
+    return save(fig, path)
+
+
+# --- size
+def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None = None,
+                     recommended: float | None = None) -> Path:
+    """Simulated Cs and peak motor torque against added flywheel inertia.
+
+    Parameters
+    ----------
+    df : DataFrame
+        A drive curve (:func:`torqlog.sizing.drive.drive_curve`): ``added_inertia_kgm2``, ``cs``,
+        ``motor_torque_peak_Nm`` (motor shaft).
+    path : str or Path
+        PNG file to write.
+    target_cs : float, optional
+        Target Cs, drawn as a horizontal line.
+    recommended : float, optional [kg*m^2]
+        Recommended added inertia, marked on the Cs curve.
+    """
+    import numpy as np
+
+    x = df["added_inertia_kgm2"].to_numpy(float)
+    cs = df["cs"].to_numpy(float)
+    peak = df["motor_torque_peak_Nm"].to_numpy(float)
+    fig, ax = new_figure(height=4.4)
+    with plt.rc_context(_RC):
+        h1 = ax.plot(x, cs, "o-", color=PALETTE["data"], lw=1.8, ms=4,
+                     label="Cs, simulated with motor slip")
+        handles = list(h1)
+        if target_cs is not None:
+            handles.append(ax.axhline(target_cs, color=PALETTE["limit"], ls="--", lw=1.2,
+                                      label=f"target Cs = {target_cs:g}"))
+        if recommended is not None and x.size:
+            cs_rec = float(np.interp(recommended, x, cs))
+            handles.extend(ax.plot([recommended], [cs_rec], marker="*", ms=14, ls="none",
+                                   color=PALETTE["mean"],
+                                   label=f"recommended: {recommended:.4g} kg·m² added"))
+        ax.set_xlabel("added inertia at the logged shaft [kg·m²]")
+        ax.set_ylabel("coefficient of speed fluctuation Cs [–]", color=PALETTE["data"])
+        ax.set_ylim(bottom=0)
+        ax2 = ax.twinx()
+        ax2.grid(False)
+        ax2.spines["right"].set_visible(True)
+        handles.extend(ax2.plot(x, peak, "s-", color=PALETTE["reference"], lw=1.4, ms=3.5,
+                                label="peak motor torque (motor shaft)"))
+        ax2.set_ylabel("peak motor torque [N·m]", color=PALETTE["reference"])
+        ax2.set_ylim(bottom=0)
+        ax.set_title("Speed fluctuation and motor torque against added flywheel inertia")
+        fig.legend(handles=handles, loc="outside lower center", ncols=2)
+    return save(fig, path)
+
+
+# --- report
+def plot_distributions(table: pd.DataFrame, path: str | Path, *,
+                       target_cs: float | None = None, quantile: float | str = 0.95,
+                       title: str | None = None) -> Path:
+    """Histograms of the per-cycle energy swing ΔE and coefficient of speed fluctuation
+    Cs over the clean cycles of a log, with the median and the design quantile marked.
+
+    Parameters
+    ----------
+    table : DataFrame
+        Per-cycle table of :func:`torqlog.signal.cycles.analyse_cycles` (``energy_swing_J``,
+        ``cs``, ``flag``).
+    path : str or Path
+        PNG file to write.
+    target_cs : float, optional
+        Target Cs, drawn as a limit line on the Cs panel.
+    quantile : float or "max"
+        Design quantile of ΔE (marked on the ΔE panel).
+    title : str, optional
+        Figure title.
+    """
+    import numpy as np
+
+    clean = table[table["flag"] == ""]
+    panels = (("energy_swing_J", 1e-3, "energy swing ΔE per cycle [kJ]", "Energy swing ΔE",
+               "no energy swing: the log has no torque (and no inertia was given)"),
+              ("cs", 1.0, "coefficient of speed fluctuation Cs per cycle [–]",
+               "Speed fluctuation Cs", "no Cs: the log has no speed, angle or encoder"))
+    fig, axes = new_figure(1, 2, height=3.6, width=10.0)
+    if title:
+        fig.suptitle(title, fontweight="bold")
+    for ax, (col, scale, xlabel, name, missing) in zip(axes, panels, strict=True):
+        x = clean[col].to_numpy(dtype=float) * scale
+        x = x[np.isfinite(x)]
+        ax.set_xlabel(xlabel)
+        ax.set_ylabel("cycles [count]")
+        if x.size == 0:
+            ax.text(0.5, 0.5, missing, transform=ax.transAxes, ha="center", va="center",
+                    color=PALETTE["reference"], wrap=True)
+            ax.set_yticks([])
+            ax.set_xticks([])
+            ax.set_title(name)
+            continue
+        spread = float(np.ptp(x))
+        bins = max(5, min(40, int(np.sqrt(x.size)) * 2))
+        rng = None if spread > 1e-9 * max(abs(float(x.mean())), 1e-300) else \
+            (float(x[0]) * 0.99, float(x[0]) * 1.01 + 1e-12)
+        ax.hist(x, bins=bins, range=rng, color=PALETTE["band"], edgecolor=PALETTE["data"],
+                lw=0.6, label=f"{x.size} clean cycles")
+        med = float(np.median(x))
+        ax.axvline(med, color=PALETTE["data"], lw=1.8, label=f"median {med:.4g}")
+        if col == "energy_swing_J":
+            qv = float(np.max(x)) if quantile == "max" else float(np.quantile(x, float(quantile)))
+            qlabel = "max" if quantile == "max" else f"p{100 * float(quantile):g}"
+            ax.axvline(qv, color=PALETTE["mean"], lw=1.8, ls="--",
+                       label=f"design {qlabel} {qv:.4g}")
+        elif target_cs is not None:
+            span = max(spread, 1e-3 * abs(med))
+            if x.min() - 3 * span <= target_cs <= x.max() + 3 * span:
+                ax.axvline(target_cs, color=PALETTE["limit"], lw=1.5, ls="--",
+                           label=f"target Cs {target_cs:g}")
+            else:  # far off: say so rather than squash the histogram
+                side = "left" if target_cs < x.min() else "right"
+                ax.plot([], [], color=PALETTE["limit"], lw=1.5, ls="--",
+                        label=f"target Cs {target_cs:g} (off scale, {side})")
+                ax.annotate("", xy=(0.0 if side == "left" else 1.0, 0.5),
+                            xytext=(0.1 if side == "left" else 0.9, 0.5),
+                            xycoords="axes fraction",
+                            arrowprops={"arrowstyle": "->", "color": PALETTE["limit"],
+                                        "lw": 1.5})
+        ax.set_title(f"{name} over the clean cycles")
+        ax.legend(loc="upper left", frameon=True, framealpha=0.9, edgecolor=PALETTE["grid"])
+        ax.set_ylim(top=ax.get_ylim()[1] * 1.35)
+    return save(fig, path)
+
+
+def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float = 0.05,
+                        speed_rpm: float | None = None, max_order: float = 24.0,
+                        title: str | None = None) -> Path:
+    """Bar chart of the torque's order spectrum (amplitude by order of the shaft speed).
+
+    Parameters
+    ----------
+    spectrum : OrderSpectrum
+        From :func:`torqlog.signal.spectrum.order_spectrum`.
+    path : str or Path
+        PNG file to write.
+    min_share : float
+        Orders with at least this share of the dynamic torque are drawn in full colour
+        (the ones the shaft check holds against the torsional modes).
+    speed_rpm : float, optional
+        Shaft speed, to label the top axis in Hz.
+    max_order : float
+        Highest order drawn.
+    title : str, optional
+    """
+    import numpy as np
+
+    visible = spectrum.order[spectrum.share >= 0.01]
+    top_order = min(max_order, float(visible.max()) * 1.25 if visible.size else max_order)
+    keep = spectrum.order <= top_order
+    order, amp, share = spectrum.order[keep], spectrum.amplitude[keep], spectrum.share[keep]
+    sig = share >= min_share
+    fig, ax = new_figure(height=3.6, width=10.0)
+    width = 0.35 / max(1, spectrum.revs_per_cycle) * 2
+    ax.bar(order[sig], amp[sig] / 1e3, width=width, color=PALETTE["data"],
+           label=f"significant (share ≥ {min_share:g} of the dynamic torque)")
+    ax.bar(order[~sig], amp[~sig] / 1e3, width=width, color=PALETTE["band"],
+           label="minor")
+    for o, a, s in zip(order[sig][:16], amp[sig][:16], share[sig][:16], strict=True):
+        ax.annotate(f"{s:.2f}", (o, a / 1e3), textcoords="offset points", xytext=(0, 3),
+                    ha="center", fontsize=7, rotation=90 if len(order) > 16 else 0,
+                    va="bottom", color=PALETTE["data"])
+    ax.set_xlabel("order of the shaft speed [–]")
+    ax.set_ylabel("torque amplitude [kN·m]")
+    step = 1.0 / spectrum.revs_per_cycle
+    ax.set_xlim(0, (order.max() if order.size else 1.0) + step)
+    top = float(amp.max()) / 1e3 if amp.size else 1.0
+    ax.set_ylim(0, top * 1.3 if top > 0 else 1.0)
+    ax.set_title(title or f"Order spectrum of the mean-cycle torque (mean torque "
+                 f"{spectrum.mean / 1e3:.3g} kN·m)")
+    ax.plot([], [], ls="none", label="numbers on bars: share of the dynamic torque")
+    if speed_rpm:
+        hz = speed_rpm / 60.0
+        sec = ax.secondary_xaxis("top", functions=(lambda o: o * hz, lambda f: f / hz))
+        sec.set_xlabel(f"frequency at {speed_rpm:.4g} rpm [Hz]")
+    ax.legend(loc="upper right")
+    if np.all(~sig):
+        ax.text(0.5, 0.5, "no significant order", transform=ax.transAxes, ha="center",
+                color=PALETTE["reference"])
+    return save(fig, path)
+
+
+# --- trend
+_TREND_LABELS = {  # figure: (title, short axis label, unit)
+    "cycles_per_min": ("cycle rate", "cycle rate", "cycles/min"),
+    "energy_swing_J_median": ("energy swing ΔE, median", "ΔE median", "J"),
+    "energy_swing_J_p95": ("energy swing ΔE, 95th percentile", "ΔE p95", "J"),
+    "cs_median": ("coefficient of speed fluctuation Cs, median", "Cs median", "-"),
+    "cs_p95": ("coefficient of speed fluctuation Cs, 95th percentile", "Cs p95", "-"),
+    "torque_peak_Nm_p99": ("peak torque, 99th percentile", "peak torque p99", "N·m"),
+    "work_J_mean": ("work per cycle, mean", "work mean", "J"),
+    "flagged_share": ("share of flagged cycles", "flagged share", "-"),
+}
+
+
+def _trend_times(result: object, rows: object) -> object:
+    """Local start times of group rows, naive for matplotlib."""
+    t = result.local(result.groups["start_time"].to_numpy()[rows])
+    return t.tz_localize(None) if t.tz is not None else t
+
+
+def _date_axis(ax: object) -> None:
+    import matplotlib.dates as mdates
+
+    loc = mdates.AutoDateLocator(minticks=4, maxticks=10)
+    ax.xaxis.set_major_locator(loc)
+    ax.xaxis.set_major_formatter(mdates.ConciseDateFormatter(loc))
+
+
+def plot_trend(result: object, figure: str, path: str | Path) -> Path:
+    """Trend chart of one figure: per machine, the individuals chart (values, centre
+    line, ±3σ limits, baseline shaded, flagged points marked, drift onset drawn) above the
+    EWMA chart with its limits. ``result`` is a :class:`torqlog.fleet.trend.TrendResult`."""
+    import numpy as np
+
+    ch = result.charts[result.charts["figure"] == figure]
+    machines = list(dict.fromkeys(ch["machine"])) or [""]
+    label, short, unit = _TREND_LABELS.get(figure, (figure, figure, "-"))
+    by = result.options["by"]
+    zone = result.display_tz or result.options["shifts"]["zone"] + " wall clock"
+    fig, axes = new_figure(2 * len(machines), 1, height=2.8, width=11.0, squeeze=False)
+    axes = axes[:, 0]
+    drift = result.options["drift"]
+    onsets = {o["machine"]: o for o in result.onsets}
+    for i, m in enumerate(machines):
+        d = ch[ch["machine"] == m]
+        ax, ax_e = axes[2 * i], axes[2 * i + 1]
+        name = f" — {m}" if m else ""
+        if d.empty:
+            ax.set_title(f"{label}{name}: not charted (too few baseline values)")
+            continue
+        rows = d["row"].to_numpy()
+        t = _trend_times(result, rows)
+        x = d["value"].to_numpy()
+        base = d["baseline"].to_numpy()
+        flagged = d["flagged"].to_numpy()
+        c0, lcl, ucl = d["centre"].iloc[0], d["lcl"].iloc[0], d["ucl"].iloc[0]
+        if base.any():
+            span = (t[base][0], t[base][-1])
+            for a in (ax, ax_e):
+                a.axvspan(*span, color=PALETTE["band"], alpha=0.35, lw=0,
+                          label="baseline" if a is ax else None)
+        ax.plot(t, x, "-o", color=PALETTE["data"], ms=4, lw=1.2, label=f"{by} value")
+        ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre {c0:.4g}")
+        ax.axhline(ucl, color=PALETTE["limit"], ls="--", lw=1.2,
+                   label=f"limits ±{(ucl - c0) / d['sigma'].iloc[0]:.2f}σ ({drift['limits']}):"
+                         f" {lcl:.4g} … {ucl:.4g}")
+        ax.axhline(lcl, color=PALETTE["limit"], ls="--", lw=1.2)
+        if flagged.any():
+            ax.plot(t[flagged], x[flagged], "o", ms=9, mfc="none", mew=2,
+                    color=PALETTE["limit"], label="flagged (any rule)")
+        on = onsets.get(m)
+        if on and on.get("start_time"):
+            ts = np.datetime64(_naive_iso(on["start_time"]))
+            for a in (ax, ax_e):
+                a.axvline(ts, color=PALETTE["limit"], lw=1.0, ls=":",
+                          label="drift onset\n(first flag, any figure)" if a is ax else None)
+        ax.set_title(f"{label} per {by}{name} — individuals chart")
+        ax.set_ylabel(f"{short} [{unit}]")
+        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
+        ax_e.plot(t, d["ewma"], "-o", color=PALETTE["data"], ms=3, lw=1.2,
+                  label=f"EWMA (λ = {drift['ewma_lambda']:g})")
+        ax_e.step(t, d["ewma_ucl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2,
+                  label=f"EWMA limits (L = {drift['ewma_L']:g})")
+        ax_e.step(t, d["ewma_lcl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2)
+        ax_e.axhline(c0, color=PALETTE["mean"], lw=1.4, label="centre")
+        ef = (d["ewma"] > d["ewma_ucl"]) | (d["ewma"] < d["ewma_lcl"])
+        if ef.any():
+            ax_e.plot(t[ef.to_numpy()], d["ewma"][ef], "o", ms=8, mfc="none", mew=2,
+                      color=PALETTE["limit"], label="beyond EWMA limits")
+        ax_e.set_title(f"EWMA of {label}{name}")
+        ax_e.set_ylabel(f"EWMA of {short} [{unit}]")
+        ax_e.set_xlabel(f"{by} start ({zone})")
+        ax_e.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
+        for a in (ax, ax_e):
+            _date_axis(a)
+    return save(fig, path)
+
+
+def _naive_iso(iso: str) -> object:
+    """An ISO time string as a naive timestamp in its own wall clock."""
+    import pandas as pd
+
+    t = pd.Timestamp(iso)
+    return t.tz_localize(None) if t.tz is not None else t
+
+
+def plot_trend_box(result: object, path: str | Path) -> Path:
+    """Box plot of the clean cycles' energy swing ΔE per group (shift, day, hour or
+    file), one panel per machine; boxes coloured by shift, flagged groups outlined red,
+    baseline groups shaded. Whiskers at 1.5 IQR (Tukey); outliers not drawn."""
+    import numpy as np
+    from matplotlib.patches import Patch
+
+    cyc = result.cycles[result.cycles["flag"] == ""]
+    by_group = {int(k): v.dropna().to_numpy()
+                for k, v in cyc.groupby("group")["energy_swing_J"]}
+    groups = result.groups
+    machines = list(dict.fromkeys(groups["machine"])) or [""]
+    by = result.options["by"]
+    width = max(9.0, 0.32 * len(groups) / len(machines) + 4.0)
+    fig, axes = new_figure(len(machines), 1, height=3.8, width=width, squeeze=False)
+    shift_names = list(result.options["shifts"]["names"])
+    colours = [PALETTE["data"], PALETTE["mean"], PALETTE["after"], PALETTE["reference"],
+               PALETTE["band"]]
+    base_n = None if result.options["drift"]["baseline"] == "table" else int(
+        result.options["drift"]["baseline"].split()[1])
+    for ax, m in zip(axes[:, 0], machines, strict=True):
+        rows = np.flatnonzero((groups["machine"] == m).to_numpy())
+        data = [by_group[r] if r in by_group else np.zeros(0) for r in rows]
+        keep = [i for i, v in enumerate(data) if v.size]
+        if not keep:
+            ax.set_title(f"Energy swing per {by}: no clean cycles")
+            continue
+        bp = ax.boxplot([data[i] for i in keep], positions=np.arange(len(rows))[keep],
+                        widths=0.6, showfliers=False, patch_artist=True,
+                        medianprops={"color": "black", "lw": 1.2})
+        for b, i in zip(bp["boxes"], keep, strict=True):
+            g = groups.iloc[rows[i]]
+            s = g["shift"]
+            b.set_facecolor(colours[shift_names.index(s) % len(colours)]
+                            if s in shift_names else PALETTE["data"])
+            b.set_alpha(0.75)
+            if g["flags"]:
+                b.set_edgecolor(PALETTE["limit"])
+                b.set_linewidth(2.0)
+        if base_n:
+            ax.axvspan(-0.5, min(base_n, len(rows)) - 0.5, color=PALETTE["band"], alpha=0.3,
+                       lw=0)
+        t = _trend_times(result, rows)
+        if by == "shift":
+            labels = [f"{a:%m-%d} {s}" for a, s in zip(t, groups["shift"].iloc[rows],
+                                                         strict=True)]
+        elif by == "day":
+            labels = [f"{a:%Y-%m-%d}" for a in t]
+        elif by == "hour":
+            labels = [f"{a:%m-%d %H:%M}" for a in t]
+        else:
+            labels = [Path(f).name for f in groups["file"].iloc[rows]]
+        ax.set_xticks(np.arange(len(rows)), labels, rotation=60, ha="right", fontsize=8)
+        ax.set_xlim(-0.6, len(rows) - 0.4)
+        name = f" — {m}" if m else ""
+        ax.set_title(f"Energy swing ΔE of each clean cycle, per {by}{name}")
+        ax.set_ylabel("energy swing ΔE [J]")
+        ax.set_xlabel(f"{by} (start, local time)")
+        handles = [Patch(facecolor=colours[i % len(colours)], alpha=0.75, label=s)
+                   for i, s in enumerate(shift_names) if by in ("shift", "hour", "file")]
+        handles.append(Patch(facecolor="white", edgecolor=PALETTE["limit"], lw=2,
+                             label="group flagged"))
+        if base_n:
+            handles.append(Patch(facecolor=PALETTE["band"], alpha=0.3, label="baseline"))
+        ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8,
+                  title="box: quartiles\nwhiskers: 1.5 IQR\n(outliers not drawn)",
+                  title_fontsize=8, alignment="left")
+    return save(fig, path)
+
+
+def plot_anomaly(result: object, path: str | Path, worst: int = 3) -> Path:
+    """The worst abnormal cycles over the normal band (mean ± 3 SD), per channel."""
+    cur = result.curves  # type: ignore[attr-defined]
+    chans = [c for c in ("torque", "speed") if c + "_mean" in cur]
+    fig = Figure(figsize=(8.0, 3.0 * max(1, len(chans))))
+    a = cur.get("angle_deg")
+    for j, c in enumerate(chans):
+        ax = fig.add_subplot(len(chans), 1, j + 1)
+        m, sd = cur[c + "_mean"], cur[c + "_sd"]
+        unit = "N·m" if c == "torque" else "rad/s"
+        ax.fill_between(a, m - 3 * sd, m + 3 * sd, color=PALETTE["band"], alpha=0.6,
+                        label="normal band (mean ± 3 SD)")
+        ax.plot(a, m, color=PALETTE["reference"], lw=1.0, label="normal mean")
+        for k, row in enumerate(cur[c][:worst]):
+            ax.plot(a, row, lw=1.2, label=f"cycle {cur['cycle'][k]}")
+        ax.set_ylabel(f"{c} [{unit}]")
+        ax.legend(fontsize=7, loc="best")
+    if chans:
+        fig.axes[-1].set_xlabel("angle in the cycle [deg]")
+        fig.axes[0].set_title(textwrap.fill(result.sentence, 110), fontsize=8)  # type: ignore[attr-defined]
+    fig.tight_layout()
+    fig.savefig(path, dpi=110)
+    return Path(path)
