@@ -32,8 +32,7 @@ FLEET_COLUMNS: tuple[str, ...] = (
     "anomaly_rate", "flagged_share", "drift")
 
 #: Keys of a sizing result tried in order for the added inertia (calibrated first).
-ADDED_INERTIA_KEYS = ("calibrated_added_inertia_kgm2", "drive.added_inertia_for_target_cs_kgm2",
-                      "added_inertia_kgm2")
+ADDED_INERTIA_KEYS = ("added_inertia_kgm2",)
 
 
 def _get(d: Mapping[str, Any] | None, dotted: str) -> Any:
@@ -49,8 +48,8 @@ def size_figures(size: Mapping[str, Any] | None) -> dict[str, Any]:
     """Added inertia [kg*m^2] and motor RMS load [-] from a sizing result, by key name.
 
     The added inertia is the first of :data:`ADDED_INERTIA_KEYS` present; the motor RMS
-    load is ``drive.existing.motor_torque_rms_Nm / drive.motor.rated_torque_Nm`` (the
-    motor's RMS torque now over its rated torque; above 1 the motor runs hot).
+    load is ``drive.existing.motor_torque_rms_Nm / drive.existing.motor_torque_rated_Nm``
+    (the motor's RMS torque now over its rated torque; above 1 the motor runs hot).
     """
     out: dict[str, Any] = {"added_inertia_kgm2": None, "added_inertia_key": None,
                            "motor_rms_load": None}
@@ -60,7 +59,7 @@ def size_figures(size: Mapping[str, Any] | None) -> dict[str, Any]:
             out["added_inertia_kgm2"], out["added_inertia_key"] = float(v), key
             break
     rms = _get(size, "drive.existing.motor_torque_rms_Nm")
-    rated = _get(size, "drive.motor.rated_torque_Nm")
+    rated = _get(size, "drive.existing.motor_torque_rated_Nm")
     if isinstance(rms, int | float) and isinstance(rated, int | float) and rated > 0:
         out["motor_rms_load"] = float(rms) / float(rated)
     return out
@@ -271,7 +270,7 @@ def fleet_table(cycles: pd.DataFrame, *, targets: Mapping[str, float | None] | N
                "cs_worst_decile": "90th percentile of the clean cycles' Cs",
                "added_inertia_from": keys,
                "motor_rms_load": "drive.existing.motor_torque_rms_Nm / "
-                                 "drive.motor.rated_torque_Nm of the latest log"}
+                                 "drive.existing.motor_torque_rated_Nm of the latest log"}
     return FleetResult(tuple(rows), options, tuple(notes))
 
 
