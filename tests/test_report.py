@@ -403,3 +403,17 @@ def test_demo_writes_a_report_and_pdf_per_machine_with_o(tmp_path):
     row = next(r for r in engine.iter("tr") if r.get("data-item") == "roughness")
     assert _text(row.find("td[@class='v']")) == "NOT ASSESSED"
     assert "holds no speed within the cycle" in _text(row)
+
+
+def test_page_one_abnormal_cycles_line_equals_the_cycles_command(press):
+    # Page one's "Any abnormal cycles?" comes from the same cycle-shape check as
+    # `torqlog cycles` on the same log and profile (the counts must agree).
+    shape = press["cycles"]["anomaly"]
+    text = press["text"]
+    assert "Not assessed: this report has no cycle-shape" not in text
+    if shape["scored"] == 0:  # too few clean cycles to learn the normal shape from
+        assert "Cycle shape not checked: " in text
+    elif shape["flagged"] == 0:
+        assert f"No abnormal cycles: all {shape['scored']} clean cycles" in text
+    else:
+        assert f"{shape['flagged']} abnormal" in text

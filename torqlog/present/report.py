@@ -575,6 +575,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
         "shaft": shaft["options"] if shaft else None,
         "trend": trend["options"] if trend else None,
     }
+    extra = _with_anomalies(extra, results[0])
     return ReportData(
         machine=str(machine),
         profile=({"path": str(profile_path), "sha256": file_sha256(profile_path),
@@ -1127,6 +1128,16 @@ def _find_drift(d: ReportData) -> Finding:
                                 "rows.",), "pass", "trends")
 
 
+def _with_anomalies(extra: dict[str, Any], design: Any) -> dict[str, Any]:
+    """``extra`` with the design log's cycle-shape check (``{"abnormal", "cycles",
+    "sentence"}``) when the cycle stage scored its cycles and none was given."""
+    shape = getattr(design, "anomaly", None)
+    if "anomalies" in extra or shape is None:
+        return extra
+    return {**extra, "anomalies": {"abnormal": shape.flagged, "cycles": shape.scored,
+                                   "sentence": shape.sentence}}
+
+
 def _find_anomalies(d: ReportData) -> Finding:
     """Page-one line of an anomaly result in ``extra['anomalies']`` when present
     (``{"abnormal": n, "cycles": N}``)."""
@@ -1136,8 +1147,10 @@ def _find_anomalies(d: ReportData) -> Finding:
         return Finding("anomalies", q, ("Not assessed: this report has no cycle-shape "
                                         "anomaly check.",), "not assessed", "measured")
     n, total = a.get("abnormal"), a.get("cycles")
-    return Finding("anomalies", q, (f"{sig(n)} abnormal of {sig(total)} cycles.",),
-                   "fail" if n else "pass", "measured")
+    text = a.get("sentence") or f"{sig(n)} abnormal of {sig(total)} cycles."
+    verdict = "not assessed" if not total else "fail" if n else "pass"
+    return Finding("anomalies", q, (text[:1].upper() + text[1:].rstrip(".") + ".",),
+                   verdict, "measured")
 
 
 def _kv_table(tid: str, caption: str, stage: str, data: Mapping[str, Any],
