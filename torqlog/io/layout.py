@@ -136,6 +136,22 @@ class Layout:
                 return c
         return None
 
+    def facts(self) -> dict[str, Any]:
+        """How the file is laid out, as ``inspect``'s JSON gives it (source, format,
+        delimiter, decimal, columns with role, unit and SI factor, time kind, start)."""
+        return {
+            "source": self.path,
+            "format": self.kind,
+            "delimiter": {",": "comma", ";": "semicolon", "\t": "tab"}.get(self.delimiter)
+            if self.kind == "csv" else None,
+            "decimal": self.decimal,
+            "columns": [{"name": c.name, "role": c.role, "unit": c.unit or None,
+                         "unit_source": c.unit_source or None, "si_factor": c.factor}
+                        for c in self.columns],
+            "time_kind": self.time_kind,
+            "start_time": self.start.isoformat() if self.start is not None else None,
+        }
+
     @property
     def roles(self) -> tuple[str, ...]:
         """Roles present, in file order (time excluded)."""

@@ -673,15 +673,7 @@ def log_facts(res: Any) -> dict[str, Any]:
     samples = res.summary.get("samples")
     flags = res.summary.get("flags", {})
     return {
-        "source": lay.path, "format": lay.kind,
-        "delimiter": {",": "comma", ";": "semicolon", "\t": "tab"}.get(lay.delimiter)
-        if lay.kind == "csv" else None,
-        "decimal": lay.decimal,
-        "columns": [{"name": c.name, "role": c.role, "unit": c.unit or None,
-                     "unit_source": c.unit_source or None, "si_factor": c.factor}
-                    for c in lay.columns],
-        "time_kind": lay.time_kind,
-        "start_time": lay.start.isoformat() if lay.start is not None else None,
+        **lay.facts(),
         "rows": samples,
         "duration_s": samples / rate if samples and rate else None,
         "sample_rate_hz": rate,

@@ -45,16 +45,7 @@ class Survey:
         """JSON contract of ``torqlog inspect``."""
         lay = self.layout
         return {
-            "source": lay.path,
-            "format": lay.kind,
-            "delimiter": {",": "comma", ";": "semicolon", "\t": "tab"}[lay.delimiter]
-            if lay.kind == "csv" else None,
-            "decimal": lay.decimal,
-            "columns": [{"name": c.name, "role": c.role, "unit": c.unit or None,
-                         "unit_source": c.unit_source or None, "si_factor": c.factor}
-                        for c in lay.columns],
-            "time_kind": lay.time_kind,
-            "start_time": lay.start.isoformat() if lay.start is not None else None,
+            **lay.facts(),
             "preamble": lay.preamble,
             "rows": self.rows,
             "duration_s": self.duration,
