@@ -22,6 +22,7 @@ from click.testing import CliRunner
 
 from torqlog.cli import cli
 from torqlog.demo.simulate import demo_profile, simulate, write_log
+from torqlog.present.labels import sig
 from torqlog.present.report import (
     CAUTIONS,
     PAGE_ONE,
@@ -333,10 +334,32 @@ def test_a_log_alone_gives_a_report_that_names_the_profile_lines_to_add(compress
     tree = parse(html.read_text(encoding="utf-8"))
     assert [s.get("id") for s in tree.iter("section")] == [
         s for s in SECTIONS if s != "trends"]
+    # No target Cs: the common-practice target of the default machine class, said to be
+    # assumed (machine-class table after Norton, *Design of Machinery*, values from memory:
+    # shearing machinery 0.03-0.05, the stricter end taken)
     rough = _text(next(r for r in tree.iter("tr") if r.get("data-item") == "roughness"))
-    assert "no target Cs is given" in rough
+    assert "against the assumed target 0.0300 (no target was given: common practice for " \
+        "shearing machinery (0.03 to 0.05))" in rough
     rec = _text(_section(tree, "recommendation"))
-    assert "target_cs = " in rec and "[machine]" in rec and "[motor]" in rec
+    assert "No target Cs was given, so the target is assumed: 0.0300" in rec
+    assert "target_cs = 0.03" in rec and "[machine]" in rec and "[motor]" in rec
+    # the sizing is the one `torqlog size --machine-class` gives on the same log, and the
+    # existing inertia is the identified one, stated with the line to replace it
+    size = json.loads(run(["size", log, "--machine-class", "shearing-machinery",
+                           "--format", "json"]).stdout)
+    assert "identified" in size["options"]["existing_inertia_source"]
+    action = next(r for r in tree.iter("tr") if r.get("data-item") == "action")
+    cell = next(s for s in action.iter("span") if s.get("data-key") ==
+                "added_inertia_at_flywheel_kgm2")
+    assert float(cell.get("data-value")) == size["added_inertia_at_flywheel_kgm2"]
+    assert "to reach the assumed target Cs 0.0300" in _text(action)
+    assert f"inertia_kgm2 = {sig(size['existing_inertia_kgm2'])}" in rec
+    # the constant-drive bound with the identified inertia (Shigley eq. 16-62)
+    w = size["speed_mean_rpm"] * math.pi / 30.0
+    bound = size["design_energy_swing_J"] / (0.03 * w * w)
+    assert size["bound_constant_drive_required_inertia_kgm2"] == pytest.approx(bound, rel=1e-9)
+    assert f"that is {sig(size['bound_constant_drive_added_inertia_kgm2'])} kg·m² added to " \
+        "the existing inertia" in rec
     assert "[shaft]" in _text(_section(tree, "shaft"))
     # the measured state is all there: spectrum figure included
     assert {f.get("id") for f in tree.iter("figure")} >= {"fig-cycles", "fig-spectrum"}

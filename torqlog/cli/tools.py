@@ -104,6 +104,10 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
 @cycle_options
 @click.option("--target-cs", type=float, default=None,
               help="Target coefficient of speed fluctuation [default: the profile's].")
+@click.option("--machine-class", default=None, metavar="NAME",
+              help="Without a target Cs: take the common-practice target of this machine "
+                   "type, e.g. shearing-machinery, pumping-machinery, crushing-machinery "
+                   "[default: shearing-machinery, marked as assumed].")
 @click.option("--quantile", default="0.95", show_default=True,
               help="Design quantile of the per-cycle energy swing, or 'max'.")
 @click.option("-o", "--output", "output", type=OutputFile((".html", ".htm"), "the report"),
@@ -113,8 +117,9 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
               help="Also write the report as a typeset PDF (no browser needed).")
 @click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
               help="Also keep the PNG figures in this folder.")
-def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, output: str,
-               pdf_path: str | None, figure_dir: str | None, **kw: Any) -> None:
+def report_cmd(logs: tuple[str, ...], target_cs: float | None, machine_class: str | None,
+               quantile: str, output: str, pdf_path: str | None, figure_dir: str | None,
+               **kw: Any) -> None:
     """One self-contained HTML report from LOG(s) of one machine: inputs, measured state,
     inertia recommendation, flywheel proposal, shaft checks, trends and cautions.
 
@@ -131,7 +136,7 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
     opts = make_cycle_options(kw, profile)
     data = build_report(list(logs), profile_path, cycle_options=opts, read=read,
                         target_cs=target_cs, quantile=parse_quantile(quantile),
-                        figure_dir=figure_dir)
+                        figure_dir=figure_dir, machine_class=machine_class)
     for stage, why in data.skipped.items():
         if not stage.startswith("log "):
             click.echo(f"note: {why}", err=True)

@@ -66,7 +66,18 @@ def campbell_crossings(result: Any, speed_range: tuple[float, float],
 
 def plot_campbell(result: Any, path: str | Path, speed_range: tuple[float, float],
                   spectrum: Any = None) -> Path:
-    """Write a Campbell diagram PNG: logged shaft speed [rpm] against frequency [Hz]."""
+    """Write a Campbell diagram PNG: logged shaft speed [rpm] against frequency [Hz].
+
+    In the house style of :mod:`torqlog.present.plots` (Okabe–Ito colours; lateral and
+    torsional modes told apart by line style as well as colour)."""
+    from torqlog.present.plots import house_style
+
+    return house_style(_draw_campbell)(result, path, speed_range, spectrum)
+
+
+def _draw_campbell(result: Any, path: str | Path, speed_range: tuple[float, float],
+                   spectrum: Any) -> Path:
+    """The drawing of :func:`plot_campbell`."""
     from torqlog.present.plots import PALETTE, new_figure, save
 
     lo, hi = sorted(speed_range)
@@ -76,13 +87,13 @@ def plot_campbell(result: Any, path: str | Path, speed_range: tuple[float, float
     orders = (np.asarray(spectrum.significant(result.options["min_share"]).order)
               if spectrum is not None else
               np.asarray(cur.torsional.orders_checked if cur.torsional else [], float))
-    fig, ax = new_figure(1, 1, height=5.0, width=8.5)
+    fig, ax = new_figure(1, 1, height=5.0, width=8.0)
     for mult, style in ((1, "-"), (2, "--")):
         ax.plot(rpm, mult * ratio * rpm / 60, style, color=PALETTE["data"], lw=1.6,
                 label=f"{mult}× flywheel shaft (lateral forcing)")
     for k in orders:
         ax.plot(rpm, k * rpm / 60, ":", color=PALETTE["reference"], lw=1.0)
-        ax.annotate(f"{k:g}", (rpm[-1], k * rpm[-1] / 60), fontsize=7,
+        ax.annotate(f"{k:g}", (rpm[-1], k * rpm[-1] / 60), fontsize=8,
                     color=PALETTE["reference"], xytext=(2, 0), textcoords="offset points")
     if len(orders):
         ax.plot([], [], ":", color=PALETTE["reference"], label="torque orders (torsional)")

@@ -1,44 +1,77 @@
 """Figures (PNG) for every stage, in one house style.
 
 Functions here take result objects or arrays and a path; they compute nothing new.
-matplotlib runs with the non-interactive Agg backend, so no screen is needed.
+matplotlib draws with its Agg renderer straight onto a :class:`~matplotlib.figure.Figure`
+(no pyplot, no screen). Each figure is drawn once and written as an RGB PNG, so the HTML
+and the PDF report embed the same bytes without drawing or converting it again.
+
+House style: the colour-blind-safe palette of Okabe and Ito [1]_ (:data:`PALETTE`), with
+lines told apart by their style as well as their colour, and pass/fail always written in
+words; figures at most :data:`MAX_WIDTH_IN` wide so that, printed across an A4 or Letter
+page (about 180 mm), text stays at 7 pt or more.
+
+References
+----------
+.. [1] M. Okabe and K. Ito, "Color Universal Design (CUD): how to make figures and
+   presentations that are friendly to colorblind people", J*FLY, 2008 (the eight-colour
+   palette: black, orange, sky blue, bluish green, yellow, blue, vermillion, reddish
+   purple).
 """
 
 from __future__ import annotations
 
+import functools
 import textwrap
+from collections.abc import Callable
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any, TypeVar
 
 import matplotlib
 
 matplotlib.use("Agg")
-import matplotlib.pyplot as plt  # noqa: E402
+from cycler import cycler  # noqa: E402  (a matplotlib dependency)
+from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: E402
 from matplotlib.figure import Figure  # noqa: E402
 
 if TYPE_CHECKING:
     import pandas as pd
 
-#: The torqlog palette: deep teal for measured data, burnt orange for the mean or
-#: the design value, slate for references, brick red for limits and failures,
-#: olive for "after retrofit".
+#: The torqlog palette, from the Okabe–Ito colour-blind-safe set [1]_: blue for measured
+#: data, orange for the mean or the design value, grey for references, vermillion for
+#: limits and failures, bluish green for "after retrofit", sky blue for bands and faint
+#: data; reddish purple and yellow as spare accents.
 PALETTE: dict[str, str] = {
-    "data": "#1b6f7a",
-    "mean": "#d2691e",
-    "reference": "#5b6770",
-    "limit": "#b22222",
-    "after": "#6b8e23",
-    "band": "#9fc9cf",
-    "grid": "#d9dde0",
+    "data": "#0072B2",       # blue
+    "mean": "#E69F00",       # orange
+    "reference": "#595959",  # neutral grey
+    "limit": "#D55E00",      # vermillion
+    "after": "#009E73",      # bluish green
+    "band": "#56B4E9",       # sky blue
+    "accent": "#CC79A7",     # reddish purple
+    "yellow": "#F0E442",
+    "grid": "#dddddd",
 }
+
+#: The Okabe–Ito colours in the order lines take them when a figure names none.
+CYCLE = ("#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#000000",
+         "#F0E442")
+
+#: Widest figure [in]: printed across ~7.1 in of A4 or Letter, 8 pt text stays ≥ 7 pt.
+MAX_WIDTH_IN = 8.0
+#: Resolution of the PNG files [dots per inch]: 1200 px across an 8-inch figure.
+DPI = 150
 
 _RC = {
     "figure.dpi": 100,
-    "savefig.dpi": 150,
+    "savefig.dpi": DPI,
     "font.size": 10,
-    "axes.titlesize": 11,
+    "axes.titlesize": 10.5,
     "axes.titleweight": "bold",
+    "axes.labelsize": 10,
     "axes.grid": True,
+    "axes.prop_cycle": cycler(color=list(CYCLE)),
+    "xtick.labelsize": 9,
+    "ytick.labelsize": 9,
     "grid.color": PALETTE["grid"],
     "grid.linewidth": 0.6,
     "axes.spines.top": False,
@@ -47,26 +80,43 @@ _RC = {
     "legend.fontsize": 9,
 }
 
+_F = TypeVar("_F", bound=Callable[..., Any])
+
+
+def house_style(fn: _F) -> _F:
+    """Decorator: draw the whole figure of ``fn`` (and save it) in the house style."""
+
+    @functools.wraps(fn)
+    def styled(*args: Any, **kwargs: Any) -> Any:
+        with matplotlib.rc_context(_RC):
+            return fn(*args, **kwargs)
+
+    return styled  # type: ignore[return-value]
+
 
 def new_figure(nrows: int = 1, ncols: int = 1, *, height: float = 3.2,
-               width: float = 8.0, **kwargs: object) -> tuple[Figure, object]:
-    """Create a figure in the house style; returns ``(fig, axes)``."""
-    with plt.rc_context(_RC):
-        fig, axes = plt.subplots(nrows, ncols, figsize=(width, height * nrows),
-                                 layout="constrained", **kwargs)
+               width: float = 7.5, **kwargs: Any) -> tuple[Figure, Any]:
+    """Create a figure in the house style on an Agg canvas; returns ``(fig, axes)``.
+
+    ``width`` is capped at :data:`MAX_WIDTH_IN` so the figure stays legible in print.
+    """
+    with matplotlib.rc_context(_RC):
+        fig = Figure(figsize=(min(width, MAX_WIDTH_IN), height * nrows), layout="constrained")
+        FigureCanvasAgg(fig)
+        axes = fig.subplots(nrows, ncols, **kwargs)
     return fig, axes
 
 
 def style() -> dict:
-    """The rc settings of the house style, for ``plt.rc_context(style())``."""
+    """The rc settings of the house style, for ``matplotlib.rc_context(style())``."""
     return dict(_RC)
 
 
 def save(fig: Figure, path: str | Path) -> Path:
-    """Save a figure (150 dpi; PNG, or SVG/PDF by the path's suffix) and close it.
+    """Save a figure (PNG at :data:`DPI`, RGB; or SVG/PDF by the path's suffix).
 
-    The file is written to a temporary name beside it and renamed into place
-    (:func:`torqlog.io.outputs.atomic_path`). Returns the path.
+    The figure is drawn once; the file is written to a temporary name beside it and
+    renamed into place (:func:`torqlog.io.outputs.atomic_path`). Returns the path.
     """
     from torqlog.errors import UsageError
     from torqlog.io.outputs import atomic_path
@@ -74,54 +124,71 @@ def save(fig: Figure, path: str | Path) -> Path:
     p = Path(path)
     fmt = p.suffix.lower().lstrip(".") or "png"
     if fmt not in ("png", "svg", "pdf"):
-        plt.close(fig)
         raise UsageError(f"{p}: a figure file must end in .png, .svg or .pdf")
-    try:
-        with plt.rc_context(_RC), atomic_path(p) as tmp:
-            fig.savefig(tmp, dpi=150, format=fmt)
-    finally:
-        plt.close(fig)
+    _wrap_titles(fig)
+    with matplotlib.rc_context(_RC), atomic_path(p) as tmp:
+        if fmt == "png":
+            _write_png(fig, tmp)
+        else:
+            fig.savefig(tmp, dpi=DPI, format=fmt)
     return p
 
 
+def _wrap_titles(fig: Figure) -> None:
+    """Break axes titles that would run past the figure's width onto more lines."""
+    width_pt = fig.get_figwidth() * 72.0
+    for ax in fig.axes:
+        for loc in ("center", "left"):
+            text = ax.get_title(loc)
+            size = ax.title.get_fontsize()  # the left title has the same size
+            limit = max(20, int(0.8 * width_pt / (0.6 * size)))  # ~0.6 em per character
+            if text and any(len(line) > limit for line in text.splitlines()):
+                ax.set_title("\n".join(textwrap.fill(line, limit)
+                                       for line in text.splitlines()), loc=loc)
+
+
+def _write_png(fig: Figure, path: str | Path) -> None:
+    """Draw the figure on its Agg canvas and write the pixels as an RGB PNG (no alpha:
+    the report's PDF then takes the bytes as they are)."""
+    import numpy as np
+    from PIL import Image  # pillow: a matplotlib dependency
+
+    canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
+    fig.set_dpi(DPI)
+    canvas.draw()
+    rgb = np.asarray(canvas.buffer_rgba())[..., :3]
+    Image.fromarray(rgb).save(path, format="PNG", dpi=(DPI, DPI))
+
+
 # --- cycles
-def plot_cycles(result: object, path: str | Path) -> Path:
-    """Torque vs crank angle (every cycle faint, mean bold), E(θ) of the mean cycle with
-    ΔE marked, and speed vs angle. ``result`` is a :class:`torqlog.signal.cycles.CycleResult`."""
+@house_style
+def plot_cycles(result: Any, path: str | Path, faint: int = 40) -> Path:
+    """Torque vs crank angle, E(θ) of the mean cycle with ΔE marked, and speed vs angle.
+
+    Drawn from the running mean cycle of all clean cycles (``result.mean``): the mean bold,
+    a band of mean ± 2 standard deviations at each angle, and the first ``faint`` kept
+    cycles as thin lines. ``result`` is a :class:`torqlog.signal.cycles.CycleResult`.
+    """
     import numpy as np
 
-    mc = result.mean_cycle
-    deg = np.degrees(mc["angle"].to_numpy())
-    has_t = mc["torque_mean"].notna().any()
-    has_w = mc["speed_mean"].notna().any()
-    fig, axes = new_figure(3, 1, height=2.6, width=8.0, sharex=True)
+    m = result.mean
+    deg = np.degrees(np.asarray(m["angle"], float))
+    step = deg[1] - deg[0]
+    has_t = bool(np.isfinite(m["torque_mean"]).any())
+    has_w = bool(np.isfinite(m["speed_mean"]).any())
+    n = result.summary["cycles"]
+    fig, axes = new_figure(3, 1, height=2.5, width=7.5, sharex=True)
     ax_t, ax_e, ax_w = axes
-    name = Path(result.source).name
-    fig.suptitle(f"Cycles of {name}: {result.summary['cycles']} clean of "
+    fig.suptitle(f"Cycles of {Path(result.source).name}: {n} clean of "
                  f"{result.summary['cycles_total']}", fontweight="bold")
     if has_t:
-        for c in result.curves.get("torque", np.empty((0, deg.size))):
-            ax_t.plot(deg, c / 1e3, color=PALETTE["band"], lw=0.5, alpha=0.5)
-        ax_t.plot(deg, mc["torque_mean"] / 1e3, color=PALETTE["mean"], lw=2.0, label="mean cycle")
-        ax_t.plot([], [], color=PALETTE["band"], lw=1, label="each cycle")
-        ax_t.legend(loc="upper right")
+        _cycle_panel(ax_t, deg, m["torque_mean"], m.get("torque_sd"),
+                     result.curves.get("torque"), 1e-3, faint, n)
+        fig.legend(*ax_t.get_legend_handles_labels(), loc="outside lower center", ncols=3,
+                   fontsize=8.5)
         ax_t.set_ylabel("torque [kN·m]")
         ax_t.set_title("Torque against crank angle")
-        e = result.energy_curve()
-        edeg = np.concatenate(([0.0], deg + (deg[1] - deg[0]) / 2))
-        ax_e.plot(edeg, e / 1e3, color=PALETTE["data"], lw=2.0)
-        imax, imin = int(np.argmax(e)), int(np.argmin(e))
-        de = e[imax] - e[imin]
-        ax_e.axhline(e[imax] / 1e3, color=PALETTE["reference"], lw=0.8, ls="--")
-        ax_e.axhline(e[imin] / 1e3, color=PALETTE["reference"], lw=0.8, ls="--")
-        xm = edeg[-1] * 0.02
-        ax_e.annotate("", xy=(xm, e[imax] / 1e3), xytext=(xm, e[imin] / 1e3),
-                      arrowprops={"arrowstyle": "<->", "color": PALETTE["mean"], "lw": 1.5})
-        ax_e.text(xm * 2.5, (e[imax] + e[imin]) / 2e3, f"ΔE = {de / 1e3:.3g} kJ (mean cycle)",
-                  color=PALETTE["mean"], va="center", fontweight="bold",
-                  bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.8})
-        ax_e.set_ylabel("E(θ) [kJ]")
-        ax_e.set_title("Accumulated energy above the mean torque, E(θ) = ∫(T − T̄)dθ")
+        _energy_panel(ax_e, deg, result.energy_curve())
     else:
         for ax in (ax_t, ax_e):
             ax.text(0.5, 0.5, "no torque channel in this log", transform=ax.transAxes,
@@ -129,9 +196,10 @@ def plot_cycles(result: object, path: str | Path) -> Path:
             ax.set_yticks([])
     if has_w:
         rpm = 60.0 / (2 * np.pi)
-        for c in result.curves.get("speed", np.empty((0, deg.size))):
-            ax_w.plot(deg, c * rpm, color=PALETTE["band"], lw=0.5, alpha=0.5)
-        ax_w.plot(deg, mc["speed_mean"] * rpm, color=PALETTE["mean"], lw=2.0, label="mean cycle")
+        _cycle_panel(ax_w, deg, np.asarray(m["speed_mean"]) * rpm,
+                     None if m.get("speed_sd") is None else np.asarray(m["speed_sd"]) * rpm,
+                     None if result.curves.get("speed") is None
+                     else np.asarray(result.curves["speed"]) * rpm, 1.0, faint, n)
         ax_w.set_ylabel("speed [rpm]")
         ax_w.set_title("Shaft speed against crank angle")
     else:
@@ -139,12 +207,51 @@ def plot_cycles(result: object, path: str | Path) -> Path:
                   ha="center", va="center", color=PALETTE["reference"])
         ax_w.set_yticks([])
     ax_w.set_xlabel("crank angle within the cycle [deg]")
-    ax_w.set_xlim(0, float(np.degrees(result.mean_cycle['angle'].iloc[-1]) +
-                           (deg[1] - deg[0]) / 2))
+    ax_w.set_xlim(0, float(deg[-1] + step / 2))
     return save(fig, path)
 
 
+def _cycle_panel(ax: Any, deg: Any, mean: Any, sd: Any, curves: Any, scale: float,
+                 faint: int, n: int) -> None:
+    """One channel over the cycle: ±2 SD band, a few faint cycles, the mean bold."""
+    import numpy as np
+    from matplotlib.collections import LineCollection
+
+    mean = np.asarray(mean, float) * scale
+    if sd is not None and np.isfinite(sd).any():
+        sd = np.asarray(sd, float) * scale
+        ax.fill_between(deg, mean - 2 * sd, mean + 2 * sd, color=PALETTE["band"], alpha=0.35,
+                        lw=0, label=f"mean ± 2 SD ({n} cycles)")
+    if curves is not None and len(curves):
+        c = np.asarray(curves, float)[:faint] * scale
+        segs = np.stack([np.broadcast_to(deg, c.shape), c], axis=-1)
+        ax.add_collection(LineCollection(segs, colors=PALETTE["data"], linewidths=0.4,
+                                         alpha=0.25, label=f"{len(c)} single cycles"))
+    ax.plot(deg, mean, color=PALETTE["mean"], lw=2.0, label="mean cycle")
+
+
+def _energy_panel(ax: Any, deg: Any, e: Any) -> None:
+    """E(θ) of the mean cycle with its range ΔE marked."""
+    import numpy as np
+
+    edeg = np.concatenate(([0.0], deg + (deg[1] - deg[0]) / 2))
+    ax.plot(edeg, e / 1e3, color=PALETTE["data"], lw=2.0)
+    imax, imin = int(np.argmax(e)), int(np.argmin(e))
+    de = e[imax] - e[imin]
+    for i in (imax, imin):
+        ax.axhline(e[i] / 1e3, color=PALETTE["reference"], lw=0.8, ls="--")
+    xm = edeg[-1] * 0.02
+    ax.annotate("", xy=(xm, e[imax] / 1e3), xytext=(xm, e[imin] / 1e3),
+                arrowprops={"arrowstyle": "<->", "color": PALETTE["mean"], "lw": 1.5})
+    ax.text(xm * 2.5, (e[imax] + e[imin]) / 2e3, f"ΔE = {de / 1e3:.3g} kJ (mean cycle)",
+            color="black", va="center", fontweight="bold",
+            bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.8})
+    ax.set_ylabel("E(θ) [kJ]")
+    ax.set_title("Accumulated energy above the mean torque, E(θ) = ∫(T − T̄)dθ")
+
+
 # --- shaft
+@house_style
 def plot_shaft(result: object, path: str | Path, spectrum: object | None = None) -> Path:
     """Shaft check figure: static deflection, first lateral mode shapes, and (with a
     spectrum) the torque orders at the running speed against the torsional modes.
@@ -166,7 +273,7 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
     if result.after is not None:
         states.append(("after", result.after, PALETTE["after"]))
     nrows = 3 if spectrum is not None else 2
-    fig, axes = new_figure(nrows, 1, height=2.9, width=8.5)
+    fig, axes = new_figure(nrows, 1, height=2.9, width=8.0)
     ax = axes[0]
     for label, st, color in states:
         lat = st.lateral
@@ -177,7 +284,7 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
             ax.plot(m.at, yi, "o", color=color, ms=6 + 3 * (m.name == "added"))
             if label == "before" or m.name == "added":
                 right = m.at > 0.8 * lat.model.length
-                ax.annotate(f"{m.name} {m.mass:g} kg",
+                ax.annotate(f"{m.name} {m.mass:.3g} kg",
                             (m.at, yi), textcoords="offset points",
                             xytext=(-6 if right else 4, -12 if label == "before" else 6),
                             ha="right" if right else "left", fontsize=8, color=color)
@@ -248,12 +355,12 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
         ax.set_title(f"Torque orders at {speed_hz * 60:.0f} rpm vs torsional modes")
         ax.set_xlabel("frequency [Hz] (order × running speed)")
         ax.set_ylabel("torque amplitude [N·m]")
-        ax.legend(loc="upper center", ncols=3, frameon=True, framealpha=0.9,
-                  edgecolor=PALETTE["grid"])
+        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.3), ncols=2, fontsize=8.5)
     return save(fig, path)
 
 
 # --- flywheel
+@house_style
 def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
     """Radial, tangential and criterion stress against radius for a flywheel check.
 
@@ -290,7 +397,7 @@ def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
     allowable = result.allowable_stress / 1e6
     top = float(np.nanmax(crit)) / 1e6
 
-    fig, ax = new_figure(height=4.2, width=10.0)
+    fig, ax = new_figure(height=4.4, width=8.0)
     ax.plot(r_mm, cut(crit), color=PALETTE["band"], lw=6, solid_capstyle="butt",
             label=f"{crit_label} (criterion)")
     ax.plot(r_mm, cut(result.tangential), color=PALETTE["data"], lw=1.8,
@@ -309,10 +416,11 @@ def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
         else:
             notes.append(label)
     if notes:
-        ax.text(1.02, 0.02, "off scale:\n" + "\n".join(notes)
+        ax.text(0.98, 0.97, "off scale: " + "; ".join(notes)
                 + f"\nstress safety factor {result.stress_safety_factor:.3g}",
-                transform=ax.transAxes, ha="left", va="bottom", fontsize=8,
-                color=PALETTE["limit"])
+                transform=ax.transAxes, ha="right", va="top", fontsize=8,
+                color="black", bbox={"facecolor": "white", "edgecolor": PALETTE["limit"],
+                                     "alpha": 0.9})
     ax.set_ylim(0.0, ymax)
     ax.set_xlim(0.0, result.geometry.outer_radius * 1e3 * 1.02)
     ax.set_xlabel("radius [mm]")
@@ -325,11 +433,12 @@ def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
     for b in breaks:
         ax.axvline(r[b] * 1e3, color=PALETTE["reference"], lw=0.8, ls=":",
                    label="web to rim step" if b == breaks[0] else None)
-    ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
+    fig.legend(loc="outside lower center", ncols=3, fontsize=8.5)
     return save(fig, path)
 
 
 # --- size
+@house_style
 def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None = None,
                      recommended: float | None = None) -> Path:
     """Simulated Cs and peak motor torque against added flywheel inertia.
@@ -352,7 +461,7 @@ def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None
     cs = df["cs"].to_numpy(float)
     peak = df["motor_torque_peak_Nm"].to_numpy(float)
     fig, ax = new_figure(height=4.4)
-    with plt.rc_context(_RC):
+    with matplotlib.rc_context(_RC):
         h1 = ax.plot(x, cs, "o-", color=PALETTE["data"], lw=1.8, ms=4,
                      label="Cs, simulated with motor slip")
         handles = list(h1)
@@ -380,17 +489,20 @@ def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None
 
 
 # --- report
-def plot_distributions(table: pd.DataFrame, path: str | Path, *,
+@house_style
+def plot_distributions(source: Any, path: str | Path, *,
                        target_cs: float | None = None, quantile: float | str = 0.95,
-                       title: str | None = None) -> Path:
+                       title: str | None = None,
+                       design_energy_swing: float | None = None) -> Path:
     """Histograms of the per-cycle energy swing ΔE and coefficient of speed fluctuation
     Cs over the clean cycles of a log, with the median and the design quantile marked.
 
     Parameters
     ----------
-    table : DataFrame
-        Per-cycle table of :func:`torqlog.signal.cycles.analyse_cycles` (``energy_swing_J``,
-        ``cs``, ``flag``).
+    source : CycleResult or DataFrame
+        A :class:`torqlog.signal.cycles.CycleResult`: its fixed histograms
+        (``distribution``) and summary are drawn, no per-cycle rows needed. Or a per-cycle
+        table (``energy_swing_J``, ``cs``, ``flag``), binned here.
     path : str or Path
         PNG file to write.
     target_cs : float, optional
@@ -399,62 +511,99 @@ def plot_distributions(table: pd.DataFrame, path: str | Path, *,
         Design quantile of ΔE (marked on the ΔE panel).
     title : str, optional
         Figure title.
+    design_energy_swing : float, optional [J]
+        The design ΔE to mark (e.g. the sizing's); default the ``quantile`` of the cycles.
     """
-    import numpy as np
+    from matplotlib.ticker import MaxNLocator
 
-    clean = table[table["flag"] == ""]
     panels = (("energy_swing_J", 1e-3, "energy swing ΔE per cycle [kJ]", "Energy swing ΔE",
                "no energy swing: the log has no torque (and no inertia was given)"),
               ("cs", 1.0, "coefficient of speed fluctuation Cs per cycle [–]",
                "Speed fluctuation Cs", "no Cs: the log has no speed, angle or encoder"))
-    fig, axes = new_figure(1, 2, height=3.6, width=10.0)
+    fig, axes = new_figure(1, 2, height=3.6, width=8.0)
     if title:
         fig.suptitle(title, fontweight="bold")
     for ax, (col, scale, xlabel, name, missing) in zip(axes, panels, strict=True):
-        x = clean[col].to_numpy(dtype=float) * scale
-        x = x[np.isfinite(x)]
         ax.set_xlabel(xlabel)
         ax.set_ylabel("cycles [count]")
-        if x.size == 0:
+        h = _histogram(source, col, quantile)
+        if h is None:
             ax.text(0.5, 0.5, missing, transform=ax.transAxes, ha="center", va="center",
                     color=PALETTE["reference"], wrap=True)
             ax.set_yticks([])
             ax.set_xticks([])
             ax.set_title(name)
             continue
-        spread = float(np.ptp(x))
-        bins = max(5, min(40, int(np.sqrt(x.size)) * 2))
-        rng = None if spread > 1e-9 * max(abs(float(x.mean())), 1e-300) else \
-            (float(x[0]) * 0.99, float(x[0]) * 1.01 + 1e-12)
-        ax.hist(x, bins=bins, range=rng, color=PALETTE["band"], edgecolor=PALETTE["data"],
-                lw=0.6, label=f"{x.size} clean cycles")
-        med = float(np.median(x))
+        counts, edges, n, med, design = h
+        edges, med = edges * scale, med * scale
+        ax.xaxis.set_major_locator(MaxNLocator(nbins=4))
+        ax.yaxis.set_major_locator(MaxNLocator(integer=True))
+        ax.stairs(counts, edges, fill=True, color=PALETTE["band"], alpha=0.55,
+                  label=f"{n} clean cycles")
+        ax.stairs(counts, edges, color=PALETTE["data"], lw=0.9)
         ax.axvline(med, color=PALETTE["data"], lw=1.8, label=f"median {med:.4g}")
         if col == "energy_swing_J":
-            qv = float(np.max(x)) if quantile == "max" else float(np.quantile(x, float(quantile)))
+            qv = (design_energy_swing if design_energy_swing is not None else design) * scale
             qlabel = "max" if quantile == "max" else f"p{100 * float(quantile):g}"
             ax.axvline(qv, color=PALETTE["mean"], lw=1.8, ls="--",
                        label=f"design {qlabel} {qv:.4g}")
         elif target_cs is not None:
-            span = max(spread, 1e-3 * abs(med))
-            if x.min() - 3 * span <= target_cs <= x.max() + 3 * span:
-                ax.axvline(target_cs, color=PALETTE["limit"], lw=1.5, ls="--",
-                           label=f"target Cs {target_cs:g}")
-            else:  # far off: say so rather than squash the histogram
-                side = "left" if target_cs < x.min() else "right"
-                ax.plot([], [], color=PALETTE["limit"], lw=1.5, ls="--",
-                        label=f"target Cs {target_cs:g} (off scale, {side})")
-                ax.annotate("", xy=(0.0 if side == "left" else 1.0, 0.5),
-                            xytext=(0.1 if side == "left" else 0.9, 0.5),
-                            xycoords="axes fraction",
-                            arrowprops={"arrowstyle": "->", "color": PALETTE["limit"],
-                                        "lw": 1.5})
-        ax.set_title(f"{name} over the clean cycles")
-        ax.legend(loc="upper left", frameon=True, framealpha=0.9, edgecolor=PALETTE["grid"])
-        ax.set_ylim(top=ax.get_ylim()[1] * 1.35)
+            _target_line(ax, target_cs, float(edges[0]), float(edges[-1]), med)
+        ax.set_title(name)
+        ax.legend(loc="upper left", frameon=True, framealpha=0.9, edgecolor=PALETTE["grid"],
+                  fontsize=8)
+        ax.set_ylim(top=ax.get_ylim()[1] * 1.45)
     return save(fig, path)
 
 
+def _histogram(source: Any, col: str, quantile: float | str) -> tuple[Any, ...] | None:
+    """(counts, edges, values, median, design quantile) of a clean-cycle figure, in SI:
+    from a cycle result's fixed histogram and running summary, or binned from a table."""
+    import numpy as np
+
+    stats = getattr(source, "stats", None)
+    if stats is not None:
+        keeper = stats.keepers[col]
+        if not keeper.n:
+            return None
+        n = keeper.n
+        lo, hi, med = keeper.quantile(0.0), keeper.max(), keeper.median()
+        design = hi if quantile == "max" else keeper.quantile(float(quantile))
+        bins = max(5, min(40, int(np.sqrt(n)) * 2))
+        if hi - lo > 1e-9 * max(abs(hi), 1e-300):
+            counts, edges = source.distribution(col, bins)
+        else:  # one value: one narrow bar around it
+            counts, edges = np.array([n]), np.array([lo * 0.99, hi * 1.01 + 1e-12])
+        return counts, np.asarray(edges, float), n, med, design
+    table = source.table if hasattr(source, "table") else source
+    x = table[table["flag"] == ""][col].to_numpy(dtype=float)
+    x = x[np.isfinite(x)]
+    if x.size == 0:
+        return None
+    spread = float(np.ptp(x))
+    rng = None if spread > 1e-9 * max(abs(float(x.mean())), 1e-300) else \
+        (float(x[0]) * 0.99, float(x[0]) * 1.01 + 1e-12)
+    counts, edges = np.histogram(x, bins=max(5, min(40, int(np.sqrt(x.size)) * 2)), range=rng)
+    design = float(np.max(x)) if quantile == "max" else float(np.quantile(x, float(quantile)))
+    return counts, edges, x.size, float(np.median(x)), design
+
+
+def _target_line(ax: Any, target_cs: float, lo: float, hi: float, med: float) -> None:
+    """The target Cs as a limit line, or an arrow to it when it is far off the histogram."""
+    span = max(hi - lo, 1e-3 * abs(med))
+    if lo - 3 * span <= target_cs <= hi + 3 * span:
+        ax.axvline(target_cs, color=PALETTE["limit"], lw=1.5, ls="--",
+                   label=f"target Cs {target_cs:g}")
+        return
+    side = "left" if target_cs < lo else "right"
+    ax.plot([], [], color=PALETTE["limit"], lw=1.5, ls="--",
+            label=f"target Cs {target_cs:g} (off scale, {side})")
+    ax.annotate("", xy=(0.0 if side == "left" else 1.0, 0.5),
+                xytext=(0.1 if side == "left" else 0.9, 0.5), xycoords="axes fraction",
+                arrowprops={"arrowstyle": "->", "color": PALETTE["limit"], "lw": 1.5})
+
+
+@house_style
 def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float = 0.05,
                         speed_rpm: float | None = None, max_order: float = 24.0,
                         title: str | None = None) -> Path:
@@ -482,7 +631,7 @@ def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float 
     keep = spectrum.order <= top_order
     order, amp, share = spectrum.order[keep], spectrum.amplitude[keep], spectrum.share[keep]
     sig = share >= min_share
-    fig, ax = new_figure(height=3.6, width=10.0)
+    fig, ax = new_figure(height=3.6, width=8.0)
     width = 0.35 / max(1, spectrum.revs_per_cycle) * 2
     ax.bar(order[sig], amp[sig] / 1e3, width=width, color=PALETTE["data"],
            label=f"significant (share ≥ {min_share:g} of the dynamic torque)")
@@ -490,7 +639,7 @@ def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float 
            label="minor")
     for o, a, s in zip(order[sig][:16], amp[sig][:16], share[sig][:16], strict=True):
         ax.annotate(f"{s:.2f}", (o, a / 1e3), textcoords="offset points", xytext=(0, 3),
-                    ha="center", fontsize=7, rotation=90 if len(order) > 16 else 0,
+                    ha="center", fontsize=8, rotation=90 if len(order) > 16 else 0,
                     va="bottom", color=PALETTE["data"])
     ax.set_xlabel("order of the shaft speed [–]")
     ax.set_ylabel("torque amplitude [kN·m]")
@@ -539,6 +688,7 @@ def _date_axis(ax: object) -> None:
     ax.xaxis.set_major_formatter(mdates.ConciseDateFormatter(loc))
 
 
+@house_style
 def plot_trend(result: object, figure: str, path: str | Path) -> Path:
     """Trend chart of one figure: per machine, the individuals chart (values, centre
     line, ±3σ limits, baseline shaded, flagged points marked, drift onset drawn) above the
@@ -550,7 +700,7 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
     label, short, unit = _TREND_LABELS.get(figure, (figure, figure, "-"))
     by = result.options["by"]
     zone = result.display_tz or result.options["shifts"]["zone"] + " wall clock"
-    fig, axes = new_figure(2 * len(machines), 1, height=2.8, width=11.0, squeeze=False)
+    fig, axes = new_figure(2 * len(machines), 1, height=2.8, width=8.0, squeeze=False)
     axes = axes[:, 0]
     drift = result.options["drift"]
     onsets = {o["machine"]: o for o in result.onsets}
@@ -587,7 +737,7 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
             for a in (ax, ax_e):
                 a.axvline(ts, color=PALETTE["limit"], lw=1.0, ls=":",
                           label="drift onset\n(first flag, any figure)" if a is ax else None)
-        ax.set_title(f"{label} per {by}{name} — individuals chart")
+        ax.set_title(textwrap.fill(f"{label} per {by}{name} — individuals chart", 56))
         ax.set_ylabel(f"{short} [{unit}]")
         ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
         ax_e.plot(t, d["ewma"], "-o", color=PALETTE["data"], ms=3, lw=1.2,
@@ -600,7 +750,7 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
         if ef.any():
             ax_e.plot(t[ef.to_numpy()], d["ewma"][ef], "o", ms=8, mfc="none", mew=2,
                       color=PALETTE["limit"], label="beyond EWMA limits")
-        ax_e.set_title(f"EWMA of {label}{name}")
+        ax_e.set_title(textwrap.fill(f"EWMA of {label}{name}", 56))
         ax_e.set_ylabel(f"EWMA of {short} [{unit}]")
         ax_e.set_xlabel(f"{by} start ({zone})")
         ax_e.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
@@ -617,6 +767,7 @@ def _naive_iso(iso: str) -> object:
     return t.tz_localize(None) if t.tz is not None else t
 
 
+@house_style
 def plot_trend_box(result: object, path: str | Path) -> Path:
     """Box plot of the clean cycles' energy swing ΔE per group (shift, day, hour or
     file), one panel per machine; boxes coloured by shift, flagged groups outlined red,
@@ -653,9 +804,10 @@ def plot_trend_box(result: object, path: str | Path) -> Path:
             b.set_facecolor(colours[shift_names.index(s) % len(colours)]
                             if s in shift_names else PALETTE["data"])
             b.set_alpha(0.75)
-            if g["flags"]:
+            if g["flags"]:  # outlined and hatched: flagged without relying on colour
                 b.set_edgecolor(PALETTE["limit"])
                 b.set_linewidth(2.0)
+                b.set_hatch("///")
         if base_n:
             ax.axvspan(-0.5, min(base_n, len(rows)) - 0.5, color=PALETTE["band"], alpha=0.3,
                        lw=0)
@@ -678,7 +830,7 @@ def plot_trend_box(result: object, path: str | Path) -> Path:
         handles = [Patch(facecolor=colours[i % len(colours)], alpha=0.75, label=s)
                    for i, s in enumerate(shift_names) if by in ("shift", "hour", "file")]
         handles.append(Patch(facecolor="white", edgecolor=PALETTE["limit"], lw=2,
-                             label="group flagged"))
+                             hatch="///", label="group flagged"))
         if base_n:
             handles.append(Patch(facecolor=PALETTE["band"], alpha=0.3, label="baseline"))
         ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8,
@@ -687,26 +839,28 @@ def plot_trend_box(result: object, path: str | Path) -> Path:
     return save(fig, path)
 
 
+@house_style
 def plot_anomaly(result: object, path: str | Path, worst: int = 3) -> Path:
     """The worst abnormal cycles over the normal band (mean ± 3 SD), per channel."""
     cur = result.curves  # type: ignore[attr-defined]
     chans = [c for c in ("torque", "speed") if c + "_mean" in cur]
-    fig = Figure(figsize=(8.0, 3.0 * max(1, len(chans))))
+    fig, axes = new_figure(max(1, len(chans)), 1, height=3.0, width=8.0, squeeze=False)
     a = cur.get("angle_deg")
+    styles = ("-", "--", ":")
     for j, c in enumerate(chans):
-        ax = fig.add_subplot(len(chans), 1, j + 1)
+        ax = axes[j, 0]
         m, sd = cur[c + "_mean"], cur[c + "_sd"]
         unit = "N·m" if c == "torque" else "rad/s"
-        ax.fill_between(a, m - 3 * sd, m + 3 * sd, color=PALETTE["band"], alpha=0.6,
+        ax.fill_between(a, m - 3 * sd, m + 3 * sd, color=PALETTE["band"], alpha=0.45,
                         label="normal band (mean ± 3 SD)")
         ax.plot(a, m, color=PALETTE["reference"], lw=1.0, label="normal mean")
         for k, row in enumerate(cur[c][:worst]):
-            ax.plot(a, row, lw=1.2, label=f"cycle {cur['cycle'][k]}")
+            ax.plot(a, row, lw=1.3, ls=styles[k % 3], color=CYCLE[3:][k % 5],
+                    label=f"cycle {cur['cycle'][k]}")
         ax.set_ylabel(f"{c} [{unit}]")
-        ax.legend(fontsize=7, loc="best")
+        ax.legend(fontsize=8, loc="best")
     if chans:
-        fig.axes[-1].set_xlabel("angle in the cycle [deg]")
-        fig.axes[0].set_title(textwrap.fill(result.sentence, 110), fontsize=8)  # type: ignore[attr-defined]
-    fig.tight_layout()
-    fig.savefig(path, dpi=110)
-    return Path(path)
+        axes[-1, 0].set_xlabel("angle in the cycle [deg]")
+        axes[0, 0].set_title(textwrap.fill(result.sentence, 90), fontsize=9,  # type: ignore[attr-defined]
+                             fontweight="normal")
+    return save(fig, path)

@@ -114,6 +114,11 @@ PAGE_ONE = ("machine", "roughness", "action", "flywheel-safe", "shaft-fine", "mo
 #: (common practice: grey iron costs least to cast, then ductile iron, then steel).
 COMPARED_MATERIALS = ("grey-iron-250", "ductile-iron", "steel-s355")
 
+#: The machine class whose common-practice target Cs a report assumes when none is given
+#: (the stricter end of its range, :data:`torqlog.sizing.inertia.MACHINE_CLASSES`; presses
+#: and shears, pumps and compressors share 0.03-0.05 there).
+ASSUMED_MACHINE_CLASS = "shearing-machinery"
+
 _RPM = 60.0 / (2.0 * math.pi)
 
 
@@ -190,6 +195,10 @@ class ReportData:
     failed_logs : list of dict
         ``{"file", "reason"}`` of every log that could not be read; the report is built
         from the others (each also has a ``skipped`` entry).
+    target_from : dict or None
+        When no target Cs was given: the machine class whose common-practice target was
+        taken (``machine_class``, ``target_cs``, ``range``, ``source``, ``assumed`` --
+        True when the report chose the class, False when the caller named it).
     """
 
     machine: str
@@ -212,6 +221,7 @@ class ReportData:
     extra: dict[str, Any] = field(default_factory=dict)
     cs_p90: float | None = None
     failed_logs: list[dict[str, str]] = field(default_factory=list)
+    target_from: dict[str, Any] | None = None
 
     @property
     def design(self) -> dict[str, Any]:
@@ -297,7 +307,7 @@ def _import_later_stages() -> None:
     import importlib
 
     for name in ("torqlog.present.plots", "torqlog.sizing.inertia", "torqlog.shaft.check",
-                 "torqlog.signal.spectrum", "matplotlib.pyplot"):
+                 "torqlog.signal.spectrum"):
         importlib.import_module(name)
 
 
@@ -330,7 +340,8 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
                  target_cs: float | None = None, quantile: float | str = 0.95,
                  seed: int = 0, figure_dir: str | Path | None = None,
                  trend: bool = True, survey: bool = False,
-                 extra: Mapping[str, Any] | None = None) -> ReportData:
+                 extra: Mapping[str, Any] | None = None,
+                 machine_class: str | None = None) -> ReportData:
     """Run the chain on the logs of one machine and collect what the report shows.
 
     Parameters
@@ -361,6 +372,10 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
         one cycle pass.
     extra : mapping, optional
         Results of further stages shown on page one (see :attr:`ReportData.extra`).
+    machine_class : str, optional
+        Without a target Cs (argument or profile): take the common-practice target of
+        this machine class (:data:`torqlog.sizing.inertia.MACHINE_CLASSES`); default
+        :data:`ASSUMED_MACHINE_CLASS`, and the report says the target is assumed.
 
     Returns
     -------
@@ -372,10 +387,6 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
         No log given.
     DataError
         A log cannot be read or holds too few cycles.
-
-    References
-    ----------
-    Budynas & Nisbett, *Shigley's*, 10th ed., sec. 16-12.
     """
     from torqlog.errors import UsageError
 
@@ -383,7 +394,7 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
         raise UsageError("give at least one log file")
     with _figure_folder(figure_dir) as out:
         return _build(logs, profile, cycle_options, dict(read or {}), target_cs, quantile,
-                      seed, out, trend, survey, dict(extra or {}))
+                      seed, out, trend, survey, dict(extra or {}), machine_class)
 
 
 @contextlib.contextmanager
@@ -401,7 +412,7 @@ def _figure_folder(figure_dir: str | Path | None) -> Iterator[Path]:
 def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_options: Any,
            read: dict[str, Any], target_cs: float | None, quantile: float | str, seed: int,
            fig_dir: Path, with_trend: bool, with_survey: bool,
-           extra: dict[str, Any]) -> ReportData:
+           extra: dict[str, Any], machine_class: str | None = None) -> ReportData:
     """Run the stages in order and collect their JSON, figures and skip reasons."""
     from torqlog.io.profile import MachineProfile, load_profile
     from torqlog.signal.cycles import options_from_profile
@@ -418,9 +429,10 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
     _return_freed_memory()
 
     notes = _design_notes(design, logs)
-    _measured_figures(design, prof, target_cs, quantile, fig_dir, figures)
-    spectrum = _order_spectrum(design, prof, fig_dir, figures, skipped)
+    target_cs, target_from = _target(prof, target_cs, machine_class)
     size, _ = _run_sizing(design, prof, target_cs, quantile, seed, fig_dir, figures, skipped)
+    _measured_figures(design, size, target_cs, quantile, fig_dir, figures)
+    spectrum = _order_spectrum(design, prof, fig_dir, figures, skipped)
     fw_res, fw, fw_options, material_choice = _run_flywheel(
         prof, size, design, profile_path, fig_dir, figures, skipped)
     shaft = _run_shaft(prof, design, spectrum, fw_res, fig_dir, figures, skipped)
@@ -434,6 +446,10 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
     cautions = collect_cautions([size, fw, shaft], flywheel=fw is not None or bool(fw_options))
     options = _report_options(design, logs, read, quantile, seed, with_survey, target_cs,
                               size=size, flywheel=fw, shaft=shaft, trend=trend)
+    if target_from is not None:
+        options["report"]["target_cs_from"] = (
+            f"{'assumed: ' if target_from['assumed'] else ''}common practice for "
+            f"{target_from['machine_class']} ({target_from['source']})")
     return ReportData(
         machine=str(machine), profile=_profile_record(profile_path),
         logs=entries, spectrum=_plain(spectrum.to_dict()) if spectrum is not None else None,
@@ -442,7 +458,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
         version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
         flywheel_options=fw_options, material_choice=material_choice,
         extra=_plain(_with_anomalies(extra, design)), cs_p90=_cs_p90(design),
-        failed_logs=failed)
+        failed_logs=failed, target_from=target_from)
 
 
 def _read_logs(logs: Sequence[str | Path], opts: Any, read: dict[str, Any],
@@ -504,22 +520,44 @@ def _design_notes(design: Any, logs: Sequence[str]) -> list[str]:
     return notes + [f"{Path(design.source).name}: {n}" for n in design.notes]
 
 
-def _measured_figures(design: Any, prof: Any, target_cs: float | None,
+def _target(prof: Any, target_cs: float | None, machine_class: str | None
+            ) -> tuple[float | None, dict[str, Any] | None]:
+    """The target Cs (given, else the profile's, else a machine class's common-practice
+    value) and, when it came from a machine class, where from."""
+    if target_cs is not None:
+        return target_cs, None
+    if prof.machine.get("target_cs") is not None:
+        return float(prof.machine["target_cs"]), None
+    from torqlog.sizing.inertia import MACHINE_CLASSES, MACHINE_CLASSES_SOURCE, target_cs_for
+
+    key = str(machine_class or ASSUMED_MACHINE_CLASS).strip().lower().replace("_", "-") \
+        .replace(" ", "-")
+    value = target_cs_for(key)  # an unknown class: UsageError listing the known ones
+    return value, {"machine_class": key, "target_cs": value,
+                   "range": list(MACHINE_CLASSES[key]), "source": MACHINE_CLASSES_SOURCE,
+                   "assumed": machine_class is None}
+
+
+def _measured_figures(design: Any, size: dict[str, Any] | None, target_cs: float | None,
                       quantile: float | str, fig_dir: Path,
                       figures: list[ReportFigure]) -> None:
-    """The figures of the measured state: cycles over the angle, and the distributions."""
+    """The figures of the measured state, from the running mean cycle and the fixed
+    histograms of the cycle pass: cycles over the angle, and the distributions."""
     from torqlog.present import plots
 
+    n = design.summary["cycles"]
     figures.append(_figure("cycles", "measured", "Torque, E(θ) and speed over the cycle",
-                           "Every clean cycle faint, the mean cycle bold. E(θ) is the energy "
-                           "above the mean torque; its range over the cycle is the energy "
-                           "swing ΔE.", plots.plot_cycles(design, fig_dir / "cycles.png")))
+                           f"The mean of all {n:,d} clean cycles bold, the band its ± 2 "
+                           "standard deviations at each angle, a few single cycles faint. "
+                           "E(θ) is the energy above the mean torque; its range over the "
+                           "cycle is the energy swing ΔE.",
+                           plots.plot_cycles(design, fig_dir / "cycles.png")))
     figures.append(_figure(
         "distributions", "measured", "Energy swing and speed fluctuation per cycle",
         "How ΔE and Cs vary from cycle to cycle; the sizing takes the design quantile of ΔE.",
-        plots.plot_distributions(design.table, fig_dir / "distributions.png",
-                                 target_cs=target_cs or prof.machine.get("target_cs"),
-                                 quantile=quantile,
+        plots.plot_distributions(design, fig_dir / "distributions.png",
+                                 target_cs=target_cs, quantile=quantile,
+                                 design_energy_swing=(size or {}).get("design_energy_swing_J"),
                                  title=f"Distributions over {Path(design.source).name}")))
 
 
@@ -527,7 +565,7 @@ def _order_spectrum(design: Any, prof: Any, fig_dir: Path, figures: list[ReportF
                     skipped: dict[str, str]) -> Any:
     """The order spectrum of the design log's mean-cycle torque and its figure, or None."""
     has_torque = "torque" in design.layout.roles and \
-        bool(np.isfinite(design.mean_cycle["torque_mean"].to_numpy(float)).all())
+        bool(np.isfinite(np.asarray(design.mean["torque_mean"], float)).all())
     if not has_torque:
         skipped["spectrum"] = (
             "the design log has no torque channel, so no order spectrum"
@@ -590,6 +628,10 @@ def _run_flywheel(prof: Any, size: dict[str, Any] | None, design: Any,
                                "no flywheel proposal: the existing inertia is unknown, so "
                                "the inertia to add is unknown")
         return None, None, [], ""
+    if not prof.flywheel:
+        skipped["flywheel"] = ("no flywheel proposal: the profile does not give the room "
+                               "for one (no [flywheel] section)")
+        return None, None, [], ""
     fw_res, fw, fw_options, material_choice = _propose_flywheel(
         prof, size, f"sizing of {design.source}", profile_path, skipped)
     if fw_res is not None:
@@ -620,7 +662,7 @@ def _run_shaft(prof: Any, design: Any, spectrum: Any, fw_res: Any, fig_dir: Path
     try:
         sh = check_shaft(prof, speed=mean_rpm / _RPM if mean_rpm else None, orders=spectrum,
                          add_mass=add_mass, add_inertia=add_inertia,
-                         cycle_torque=(design.mean_cycle["torque_mean"].to_numpy(float)
+                         cycle_torque=(np.asarray(design.mean["torque_mean"], float)
                                        if spectrum is not None else None))
         shaft = _plain(sh.to_dict())
         shaft["options"]["speed_source"] = ("mean speed of the design log" if mean_rpm
@@ -720,13 +762,13 @@ def collect_cautions(stages: Sequence[Mapping[str, Any] | None], *, flywheel: bo
     -------
     list of Caution
     """
-    topics = ["burst", "shaft", "estimate"] if flywheel else ["estimate"]
+    topics = {"burst", "shaft", "estimate"} if flywheel else {"estimate"}
     for stage in stages:
         for text in (stage or {}).get("cautions", []):
             topic = _caution_topic(text)
-            if topic is not None and topic not in topics:
-                topics.insert(len(topics) - 1, topic)
-    return [CAUTIONS[t] for t in topics]
+            if topic is not None:
+                topics.add(topic)
+    return [CAUTIONS[t] for t in CAUTIONS if t in topics]
 
 
 def specific_cautions(stage: Mapping[str, Any] | None) -> list[str]:
@@ -1042,7 +1084,12 @@ def _find_roughness(d: ReportData) -> Finding:
                        "not assessed", "measured")
     worst = d.cs_p90 if d.cs_p90 is not None else med
     ok = worst is not None and worst <= target
-    parts += [", against the target ", _cell("size", "target_cs", target), ": " + (
+    parts += [", against the " + ("assumed " if _assumed(d) else "") + "target ",
+              _cell("size", "target_cs", target)]
+    if _assumed(d):
+        parts.append(f" (no target was given: common practice for "
+                     f"{_class_words(d.target_from)})")
+    parts += [": " + (
         "smooth enough: even the worst tenth of cycles meets the target." if ok else
         "too rough: the median cycle is above the target." if med is not None and med > target
         else "too rough in its worst tenth of cycles.")]
@@ -1074,6 +1121,8 @@ def _find_action(d: ReportData) -> Finding:
     where = "the flywheel shaft" if r != 1.0 else "the logged shaft"
     parts: list[Any] = ["Add ", _cell("size", "added_inertia_at_flywheel_kgm2",
                                       z["added_inertia_at_flywheel_kgm2"]), f" at {where}"]
+    if _assumed(d):
+        parts += [" to reach the assumed target Cs ", _cell("size", "target_cs", z["target_cs"])]
     if ci:
         lo_t, hi_t = sig(ci[0] / r**2), sig(ci[1] / r**2)
         parts.append(f" (95 % interval {lo_t} to {hi_t})" if lo_t != hi_t else
@@ -1086,6 +1135,18 @@ def _find_action(d: ReportData) -> Finding:
         parts.append(". This is the constant-drive bound, on the safe side: no drive model "
                      "could be checked against the log.")
     return Finding("action", q, tuple(parts), "info", "recommendation")
+
+
+def _assumed(d: ReportData) -> bool:
+    """The target Cs is a machine class's common-practice value, not one given."""
+    return bool(d.target_from) and d.size is not None
+
+
+def _class_words(t: Mapping[str, Any]) -> str:
+    """``"shearing machinery (0.03 to 0.05)"``: a machine class and its typical Cs range."""
+    lo, hi = t["range"]
+    span = f"{lo:g} to {hi:g}" if lo != hi else f"{lo:g}"
+    return f"{t['machine_class'].replace('-', ' ')} ({span})"
 
 
 def _find_flywheel(d: ReportData) -> Finding:
@@ -1110,7 +1171,7 @@ def _shaft_strength(d: ReportData) -> Finding | None:
     state = sh.get("after") or sh.get("before") or {}
     st = state.get("strength")
     if st:
-        text = str(st.get("margin_text", "")).rsplit(": ", 1)[0]
+        text = _trim_digits(str(st.get("margin_text", "")).rsplit(": ", 1)[0])
         return Finding("shaft-fine", "Is the shaft fine with it?",
                        (f"Strength: {text}.",), str(st.get("verdict", "info")), "shaft")
     st = d.extra.get("strength")
@@ -1119,6 +1180,18 @@ def _shaft_strength(d: ReportData) -> Finding | None:
     return Finding("shaft-fine", "Is the shaft fine with it?",
                    (f"Strength: {st.get('governing', 'governing check not named')}.",),
                    str(st.get("verdict", "info")), "shaft")
+
+
+def _trim_digits(text: str) -> str:
+    """A stage's sentence with every number of four or more significant figures cut to
+    three (``162.8 Hz`` -> ``163 Hz``); shorter numbers and integers stay as written."""
+    import re
+
+    def cut(m: re.Match[str]) -> str:
+        digits = m.group(0).replace(".", "").lstrip("0")  # significant figures as written
+        return sig(float(m.group(0))) if len(digits) > 3 else m.group(0)
+
+    return re.sub(r"(?<![\d,.])\d+\.\d+(?![\d,.]*\d)", cut, text)
 
 
 def _find_shaft(d: ReportData) -> Finding:
@@ -1138,7 +1211,7 @@ def _find_shaft(d: ReportData) -> Finding:
     verdict = ("fail" if failed or (strength and strength.verdict == "fail") else
                "marginal" if strength and strength.verdict == "marginal" else "pass")
     who = "with the flywheel" if state == "after" else "as it is"
-    text = gov["margin_text"].rsplit(": ", 1)[0]
+    text = _trim_digits(gov["margin_text"].rsplit(": ", 1)[0])
     parts: list[Any] = [f"Shaft {who}: the {name} check {'fails' if failed else 'governs'}"
                         f"; {text}."]
     parts.append(" " + strength.text if strength is not None else
@@ -1179,9 +1252,8 @@ def _find_drift(d: ReportData) -> Finding:
     t = d.trend
     q = "Is it getting worse?"
     if t is None:
-        return Finding("drift", q, (
-            "Not assessed: " + _clean_reason(d.skipped.get("trend", "no trend")),),
-            "not assessed", "trends")
+        return Finding("drift", q, ("Not assessed: " + _trend_reason(d) + " The trend "
+                                    "section says what to add.",), "not assessed", "trends")
     on = t.get("drift_onset") or {}
     if on.get("date"):
         figs = [t[:1].lower() + t[1:] for t in dict.fromkeys(
@@ -1192,6 +1264,16 @@ def _find_drift(d: ReportData) -> Finding:
                        "fail", "trends")
     return Finding("drift", q, (f"No drift flagged over {len(t.get('shifts', []))} shift "
                                 "rows.",), "pass", "trends")
+
+
+def _trend_reason(d: ReportData) -> str:
+    """Why there is no trend, as a sentence for people (the full reason is in the
+    appendix's table of stages that did not run)."""
+    why = d.skipped.get("trend", "no trend")
+    if "no start time" in why:
+        return ("The logs state no start time (no timestamp column, 'Start:' line or time "
+                "in the file name), so they cannot be placed in shifts.")
+    return _clean_reason(why)
 
 
 def _with_anomalies(extra: dict[str, Any], design: Any) -> dict[str, Any]:
@@ -1259,25 +1341,59 @@ def _section_recommendation(d: ReportData) -> Section:
         return Section("recommendation", title,
                        ((_clean_reason(d.skipped.get("size", "no sizing")),),),
                        _advice("target", "motor"))
-    paras: list[tuple[Any, ...]] = []
+    paras, advice = _assumptions(d)
     if z.get("model_reason"):
         paras.append((f"Answer from the {z.get('model')} model: {z['model_reason']}.",))
     if z.get("bound_constant_drive_required_inertia_kgm2") is not None:
+        added = z.get("bound_constant_drive_added_inertia_kgm2")
         paras.append(("For comparison, the constant-drive bound I = ΔE/(Cs·ω̄²), which "
                       "takes the drive torque as constant, asks for ",
                       _cell("size", "bound_constant_drive_required_inertia_kgm2",
                             z["bound_constant_drive_required_inertia_kgm2"]),
-                      " in all at the logged shaft; a motor that slows under load carries "
-                      "part of each cycle itself, so the bound is the safe side.",))
+                      " in all at the logged shaft" + ("" if added is None else ", that is "),
+                      *(() if added is None else (
+                          _cell("size", "bound_constant_drive_added_inertia_kgm2", added,
+                                "added_inertia_kgm2"), " added to the existing inertia")),
+                      "; a motor that slows under load carries part of each cycle itself, "
+                      "so the bound is the safe side.",))
     tables = [Table("key-figures", "Sizing", ("Figure", "Value"), _sizing_rows(z))]
     now = z.get("machine_now") or {}
     if now:
         tables.append(_motor_table(z))
-    advice = () if now.get("drive_torque_rms_share_of_rated") else _advice("motor")
+    if not now.get("drive_torque_rms_share_of_rated"):
+        advice += _advice("motor")
     return Section("recommendation", title, tuple(paras), advice, tuple(tables),
                    tuple(d.figures_in("recommendation")),
                    tuple(z.get("messages", [])) +
                    tuple(f"Caution: {c}" for c in specific_cautions(z)))
+
+
+def _assumptions(d: ReportData) -> tuple[list[tuple[Any, ...]], tuple[Advice, ...]]:
+    """What the sizing assumed for lack of profile data (the target Cs from a machine
+    class; the existing inertia identified on the log), each with the TOML to paste."""
+    z = d.size or {}
+    paras: list[tuple[Any, ...]] = []
+    advice: tuple[Advice, ...] = ()
+    t = d.target_from
+    if t:
+        which = ("assumed" if t["assumed"] else "taken from the machine class given")
+        paras.append((f"No target Cs was given, so the target is {which}: ",
+                      _cell("size", "target_cs", z.get("target_cs")),
+                      f", the stricter end of the common-practice range for "
+                      f"{_class_words(t)} in the machine-class table ({t['source']}). "
+                      "Set your own target to replace it.",))
+        advice += (Advice("To size for your own target, paste into the machine profile "
+                          "(the value shown is the one assumed here):",
+                          f"[machine]\ntarget_cs = {t['target_cs']:g}"),)
+    src = str((z.get("options") or {}).get("existing_inertia_source") or "")
+    if z.get("existing_inertia_kgm2") is not None and "identified" in src:
+        paras.append(("The existing inertia, ", _cell("size", "existing_inertia_kgm2",
+                                                      z["existing_inertia_kgm2"]),
+                      f", is {src}; give the known value to use it instead.",))
+        advice += (Advice("A known existing inertia replaces the identified one; paste:",
+                          f"[machine]\ninertia_kgm2 = {sig(z['existing_inertia_kgm2'])}"
+                          "      # existing, referred to the logged shaft"),)
+    return paras, advice
 
 
 def _sizing_rows(z: Mapping[str, Any]) -> tuple[tuple[Cell, ...], ...]:
@@ -1412,8 +1528,8 @@ def _section_trends(d: ReportData) -> Section:
     title = "Across the logs: is it getting worse?"
     used = f"The sizing used the first log, {d.design['name']}."
     if t is None:
-        return Section("trends", title, ((_clean_reason(d.skipped.get("trend", "no trend"))
-                                          + " " + used,),), _advice("shifts"))
+        return Section("trends", title, ((_trend_reason(d) + " " + used,),),
+                       _advice("shifts"))
     rows = tuple((Cell(str(r.get("date"))), Cell(str(r.get("shift"))),
                   Cell(sig(r.get("cycles"))),
                   Cell(sig(r.get("energy_swing_J_median"), 3, 1e-3)),

@@ -138,18 +138,20 @@ def _table(t: Any, st: dict[str, Any], width: float) -> list[Any]:
 
 def _figure(f: Any, st: dict[str, Any], width: float, height: float) -> Any:
     from PIL import Image as PILImage  # pillow: a matplotlib dependency
-    from reportlab.lib.utils import ImageReader
     from reportlab.platypus import Image, KeepTogether, Paragraph
 
-    with PILImage.open(io.BytesIO(f.png)) as pic:  # flatten alpha: one image per figure
-        buf = io.BytesIO()
-        pic.convert("RGB").save(buf, format="PNG")
-    w_px, h_px = ImageReader(io.BytesIO(buf.getvalue())).getSize()
+    data = f.png  # the figures are RGB PNGs: embedded as drawn, not drawn again
+    with PILImage.open(io.BytesIO(data)) as pic:  # reads the header only
+        w_px, h_px = pic.size
+        if pic.mode != "RGB":  # a PNG with alpha would embed as two images: flatten it
+            buf = io.BytesIO()
+            pic.convert("RGB").save(buf, format="PNG")
+            data = buf.getvalue()
     w = width
     h = w * h_px / w_px
     if h > height:
         w, h = w * height / h, height
-    img = Image(io.BytesIO(buf.getvalue()), width=w, height=h)
+    img = Image(io.BytesIO(data), width=w, height=h)
     return KeepTogether([img, Paragraph(f"<b>{escape(f.title)}.</b> {escape(f.caption)}",
                                         st["figcap"])])
 
