@@ -924,6 +924,49 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     return res
 
 
+def shape_model_from_log(path: str | Path, cycle_options: CycleOptions | None = None,
+                         options: Any = None, max_cycles: int = 2000,
+                         **read: Any) -> Any:
+    """Learn the cycle-shape model from a known-good reference log (its first clean cycles).
+
+    The reference log runs through the same cycle engine as the logs it will judge, with
+    the shape check learning from up to ``max_cycles`` clean cycles; the model learned is
+    returned (:class:`torqlog.signal.anomaly.ShapeModel`, its ``source`` naming the log).
+
+    Parameters
+    ----------
+    path : str or Path
+        The reference log.
+    cycle_options : CycleOptions, optional
+    options : AnomalyOptions, optional
+        The shape check's options (:class:`torqlog.signal.anomaly.AnomalyOptions`).
+    max_cycles : int
+        Most clean cycles learned from [count] (a bounded buffer).
+    **read
+        Reading options, as for :func:`analyse_cycles`.
+
+    Returns
+    -------
+    ShapeModel
+
+    Raises
+    ------
+    DataError
+        Fewer clean cycles than the model needs, stating the count.
+    """
+    from dataclasses import replace
+
+    from torqlog.signal import anomaly as an
+
+    o = options or an.AnomalyOptions()
+    res = analyse_cycles(path, cycle_options, anomaly=replace(o, learn_cycles=max_cycles),
+                         **read)
+    if res.shape_model is None:
+        why = res.anomaly.notes[0] if res.anomaly is not None and res.anomaly.notes else ""
+        raise DataError(f"{path}: cannot serve as shape reference: {why}")
+    return replace(res.shape_model, source=f"reference log {path}")
+
+
 @dataclass(frozen=True)
 class _Plan:
     """What a log holds and how its cycles are cut, chosen once from its layout."""
