@@ -222,6 +222,14 @@ def test_shaft_check_equals_the_shaft_command(press):
              if cmd["after"].get(k)]
     worst = "FAIL" if "fail" in after else "MARGINAL" if "marginal" in after else "PASS"
     assert _text(row.find("td[@class='v']")) == worst
+    # its numbers are the shaft command's (lateral) and the report's shaft JSON (strength,
+    # which the report also loads with the log's mean-cycle torque)
+    spans = {s.get("data-key"): float(s.get("data-value")) for s in row.iter("span")
+             if s.get("data-stage") == "shaft"}
+    assert {"after.lateral.fe_hz.0", "after.lateral.ratio"} <= set(spans)
+    for key, value in spans.items():  # the speed went to the command as rpm text: 1e-12
+        assert value == pytest.approx(_lookup(cmd if ".lateral." in key else sh, key),
+                                      rel=1e-12), key
 
 
 def test_every_img_is_an_embedded_png_at_print_resolution(press):
