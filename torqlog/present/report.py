@@ -1391,7 +1391,8 @@ def _assumptions(d: ReportData) -> tuple[list[tuple[Any, ...]], tuple[Advice, ..
                           "(the value shown is the one assumed here):",
                           f"[machine]\ntarget_cs = {t['target_cs']:g}"),)
     src = str((z.get("options") or {}).get("existing_inertia_source") or "")
-    if z.get("existing_inertia_kgm2") is not None and "identified" in src:
+    given = (d.options.get("cycles") or {}).get("inertia")
+    if z.get("existing_inertia_kgm2") is not None and "identified" in src and given is None:
         paras.append(("The existing inertia, ", _cell("size", "existing_inertia_kgm2",
                                                       z["existing_inertia_kgm2"]),
                       f", is {src}; give the known value to use it instead.",))

@@ -118,13 +118,7 @@ def _table(t: Any, st: dict[str, Any], width: float) -> list[Any]:
                 cells.append(Paragraph(escape(c.text), cs if i else
                                        (st["small"] if small else st["cellb"])))
         rows.append(cells)
-    n = len(t.header)
-    lengths = [max(len(h), *(len(r[i].text) for r in t.rows)) if t.rows else len(h)
-               for i, h in enumerate(t.header)]
-    lengths = [min(max(v, 6), 60) for v in lengths]
-    total = float(sum(lengths))
-    widths = [width * v / total for v in lengths] if n > 1 else [width]
-    table = Table(rows, colWidths=widths, repeatRows=1, hAlign="LEFT")
+    table = Table(rows, colWidths=_column_widths(t, cs, width), repeatRows=1, hAlign="LEFT")
     table.setStyle(TableStyle([
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
         ("BACKGROUND", (0, 0), (-1, 0), colors.HexColor("#eef4f8")),
@@ -134,6 +128,28 @@ def _table(t: Any, st: dict[str, Any], width: float) -> list[Any]:
         ("LEFTPADDING", (0, 0), (-1, -1), 3), ("RIGHTPADDING", (0, 0), (-1, -1), 3),
     ]))
     return [Paragraph(escape(t.caption), st["caption"]), table]
+
+
+def _column_widths(t: Any, style: Any, width: float) -> list[float]:
+    """Column widths [pt]: each at least its longest word (bold, plus padding), so no word
+    is broken across lines; the rest of the width shared in proportion to the longest
+    text of each column."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    n = len(t.header)
+    if n == 1:
+        return [width]
+    texts = [[h] + [r[i].text if not r[i].verdict else _WORDS.get(r[i].verdict, r[i].verdict)
+                    for r in t.rows] for i, h in enumerate(t.header)]
+    bold = "TorqSans-Bold"  # the widest face used in a cell
+    # a word longer than a sixth of the width (a hash, a path) may break, as in the HTML
+    floor = [min(max(stringWidth(w, bold, style.fontSize) for x in col
+                     for w in x.split() or [""]) + 7.0, width / 6.0) for col in texts]
+    share = [min(max(max(len(x) for x in col), 6), 60) for col in texts]
+    spare = width - sum(floor)
+    if spare <= 0:  # still too wide: shrink in proportion (words may then break)
+        return [width * f / sum(floor) for f in floor]
+    return [f + spare * s / sum(share) for f, s in zip(floor, share, strict=True)]
 
 
 def _figure(f: Any, st: dict[str, Any], width: float, height: float) -> Any:
