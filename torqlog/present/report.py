@@ -1100,8 +1100,10 @@ def _find_action(d: ReportData) -> Finding:
         return Finding("action", q, (
             "The machine needs ", _cell("size", "required_inertia_kgm2",
                                         z["required_inertia_kgm2"]),
-            " in all at the logged shaft; its existing inertia is unknown, so the amount "
-            "to add is too.",), "info", "recommendation")
+            " in all at the logged shaft. Its existing inertia is unknown (not given, and "
+            "not identified on the log), so taking it as zero, on the safe side, at most "
+            "that much is to be added; the recommendation section says what to give.",),
+            "info", "recommendation")
     if added <= 0:
         return Finding("action", q, (
             "Nothing to add: the machine meets the target Cs with its existing inertia.",),
@@ -1399,6 +1401,14 @@ def _assumptions(d: ReportData) -> tuple[list[tuple[Any, ...]], tuple[Advice, ..
         advice += (Advice("A known existing inertia replaces the identified one; paste:",
                           f"[machine]\ninertia_kgm2 = {sig(z['existing_inertia_kgm2'])}"
                           "      # existing, referred to the logged shaft"),)
+    elif z and z.get("existing_inertia_kgm2") is None:
+        paras.append(("The existing inertia is neither given nor identified on the log (that "
+                      "needs torque and speed within the cycle), so the required inertia is "
+                      "the total at the logged shaft; taking the existing parts as zero, on "
+                      "the safe side, all of it would be added.",))
+        advice += (Advice("Give the existing inertia to size the addition; paste (the value "
+                          "is an example):", "[machine]\ninertia_kgm2 = 310.0      # existing, "
+                          "referred to the logged shaft"),)
     return paras, advice
 
 
