@@ -363,6 +363,7 @@ class _Stream:
         self.shape_scores: list[tuple[np.ndarray, np.ndarray]] = []
 
     def feed(self, chunk: Chunk, final: bool) -> None:
+        """Condition a chunk's channels, track its angle, and cut the cycles it completes."""
         t = chunk.time
         self.samples += len(t)
         if self.dt is None and len(t) > 1:
@@ -540,6 +541,8 @@ class _Stream:
         return theta
 
     def _process(self, buf: dict[str, np.ndarray], final: bool) -> None:
+        """Emit the complete cycles of the carried and new samples, holding back the
+        look-ahead (none at the end); carry the rest to the next chunk."""
         theta = buf["theta"]
         finite = np.isfinite(theta)
         if not finite.any():
@@ -855,6 +858,8 @@ def _recycle_temporaries() -> None:
 
 def _tracker_for(source: str, opts: CycleOptions, first: Chunk, path: str
                  ) -> tuple[ang.AngleTracker, list[str], dict[str, Any]]:
+    """The angle tracker of a cycle source (the period estimated from the first chunk when
+    the source is ``"period"``), with its notes and the options it adds to the record."""
     notes: list[str] = []
     extra: dict[str, Any] = {}
     period = None
@@ -1265,6 +1270,7 @@ def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
 
 
 def _isnat(x: Any) -> bool:
+    """A missing time stamp (None, NaT or NaN)."""
     return x is None or (isinstance(x, np.datetime64) and bool(np.isnat(x))) or x != x
 
 
