@@ -21,6 +21,7 @@ from torqlog.cli.base import (
     cycle_stage_options,
     emit,
     output_options,
+    output_settings,
     positive_float,
     run_cycles,
 )
@@ -274,7 +275,7 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
     if plot_path:
         from torqlog.present.plots import plot_shaft
 
-        plot_shaft(result, plot_path, spectrum=spectrum)
+        plot_shaft(result, plot_path, spectrum=spectrum, units=output_settings()["units"])
         click.echo(f"wrote {plot_path}", err=True)
         if speed_range is not None:
             from torqlog.present.campbell import plot_campbell
@@ -430,7 +431,7 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
     if plot_path:
         from torqlog.present.plots import plot_flywheel_stresses
 
-        plot_flywheel_stresses(result, plot_path)
+        plot_flywheel_stresses(result, plot_path, units=output_settings()["units"])
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, None, fmt, output, text=_flywheel_text if fmt == "table" else None)
     if data["verdict"] != "pass":

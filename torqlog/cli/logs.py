@@ -22,6 +22,7 @@ from torqlog.cli.base import (
     log_options,
     make_cycle_options,
     output_options,
+    output_settings,
     parse_quantile,
     positive_float,
     read_kwargs,
@@ -83,24 +84,30 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 
 
 # --------------------------------------------------------------------------- cycles
-def _cycles_text(res: Any) -> str:
-    """Readable summary of a cycles result."""
+def _cycles_text(res: Any, system: str = "si") -> str:
+    """Readable summary of a cycles result, in the unit system ``system`` (the units of
+    :func:`torqlog.present.labels.label_of`: kJ and kN·m, or ft·lbf and lbf·ft)."""
+    from torqlog.present.labels import label_of, sig
+
     s = res.summary
     de, cs = s["energy_swing_J"], s["cs"]
+    e_lab, t_lab = label_of("energy_swing_J", system), label_of("torque_peak_Nm_p99", system)
 
     def g(x: float | None, scale: float = 1.0, unit: str = "") -> str:
-        return "-" if x is None else f"{x * scale:.4g}{unit}"
+        return "-" if x is None else f"{sig(x, 4, scale)}{unit}"
+
+    def e(x: float | None) -> str:
+        return g(x, e_lab.scale, " " + e_lab.unit)
 
     q = s.get("quantiles") or {}
     return "\n".join([
         f"{res.source}: {s['cycles']} clean cycles of {s['cycles_total']} "
         f"(cycle source: {res.options['cycle_source']}, {res.options['revs_per_cycle']} "
         f"rev/cycle), {g(s['cycle_rate_per_min'])} cycles/min at {g(s['speed_mean_rpm'])} rpm",
-        f"energy swing  median {g(de['median'], 1e-3, ' kJ')}, p95 {g(de['p95'], 1e-3, ' kJ')},"
-        f" max {g(de['max'], 1e-3, ' kJ')}",
+        f"energy swing  median {e(de['median'])}, p95 {e(de['p95'])}, max {e(de['max'])}",
         f"Cs            median {g(cs['median'])}, p95 {g(cs['p95'])}, max {g(cs['max'])}"
         f"  (speed low-passed at {res.options['speed_cutoff_orders']:g} cycle orders)",
-        f"peak torque   p99 {g(s['torque_peak_Nm_p99'], 1e-3, ' kN·m')}",
+        f"peak torque   p99 {g(s['torque_peak_Nm_p99'], t_lab.scale, ' ' + t_lab.unit)}",
         *([f"note: quantiles from a sketch (more than {q['exact_budget_cycles']} clean "
            f"cycles), within {100 * q['relative_error_bound']:g} % of the exact values"
            + ("" if q.get("bound_holds") else " except the smallest values")]
@@ -143,7 +150,7 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     once the model has its reference cycles), csv, xlsx, Parquet and ``--units us`` build
     the table in memory first.
     """
-    from torqlog.cli.base import _flat, output_settings
+    from torqlog.cli.base import _flat
     from torqlog.cli.cycle_output import make_writer
     from torqlog.cli.watch import shape_kwargs
 
@@ -173,10 +180,10 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     if shape_plot and res.anomaly is not None:
         from torqlog.present.plots import plot_anomaly
 
-        plot_anomaly(res.anomaly, shape_plot)
+        plot_anomaly(res.anomaly, shape_plot, units=output_settings()["units"])
         click.echo(f"wrote {shape_plot}", err=True)
     if plot:
-        res.plot(plot)
+        res.plot(plot, units=output_settings()["units"])
         click.echo(f"wrote {plot}", err=True)
     if stream:
         return
@@ -187,11 +194,13 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
         table = pd.DataFrame([_flat(res.summary)])
     elif fmt in TABULAR:
         table = res.table
-    elif fmt == "table":
+    elif fmt == "table" and not summary_only:
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
                            "torque_peak_Nm", "work_J", "energy_swing_J", "cs",
                            "cs_constant_drive", "flag", "anomaly", "anomaly_score"]]
-    emit(res.to_dict(rows=not summary_only), table, fmt, output, text=_cycles_text(res))
+    system = output_settings()["units"]
+    emit(res.to_dict(rows=not summary_only), table, fmt, output,
+         text=lambda _data: _cycles_text(res, system))
 
 
 # --- size
@@ -373,7 +382,8 @@ def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
                              "motor (--motor-power, --sync-rpm, --rated-rpm, --motor-ratio, "
                              "or [motor] in the profile)")
         plot_drive_curve(result.to_pandas(), plot_path, target_cs=target_cs,
-                         recommended=data["added_inertia_kgm2"])
+                         recommended=data["added_inertia_kgm2"],
+                         units=output_settings()["units"])
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, result.to_pandas() if fmt in TABULAR and result.curve is not None else None,
          fmt, output, text=lambda d: _size_text(d, res.source))
