@@ -199,6 +199,9 @@ def _given_log_only(ctx: click.Context) -> list[str]:
 @click.option("--speed-range", nargs=2, type=QuantityType("speed", "rpm"), default=None,
               help="Speed range MIN MAX [rpm] of a Campbell diagram (with --plot, written "
                    "next to it as NAME_campbell.png).")
+@click.option("--materials", "materials_path", type=click.Path(dir_okay=False),
+              default=None, help="The plant's own materials table (TOML, one table per "
+                                 "material), where [shaft] material names are looked up.")
 @click.option("--strict", is_flag=True,
               help="Exit with code 3 when a check fails (the result is still written).")
 @click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
@@ -211,17 +214,20 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
               min_share: float | None, self_weight: bool | None,
               separation_margin: float | None, damping_ratio: float | None,
               fatigue_method: str | None, speed_range: tuple[float, float] | None,
-              strict: bool, plot_path: str | None, fmt: str, output: str | None,
-              **kw: Any) -> None:
+              materials_path: str | None, strict: bool, plot_path: str | None, fmt: str,
+              output: str | None, **kw: Any) -> None:
     """Shaft natural frequencies, lateral and torsional, against the running speed."""
     from torqlog.errors import CheckFailed, UsageError
     from torqlog.io.profile import load_profile
     from torqlog.io.units import si_factor
+    from torqlog.rotor.materials import load_materials
     from torqlog.shaft.check import check_shaft
     from torqlog.signal.spectrum import mean_cycle_spectrum
 
     check_outputs({"-o": output, "--plot": plot_path},
-                  {"--profile": profile_path, "--log": log, "--from-flywheel": flywheel_file})
+                  {"--profile": profile_path, "--log": log, "--from-flywheel": flywheel_file,
+                   "--materials": materials_path})
+    materials = load_materials(materials_path) if materials_path else None
     if flywheel_file is not None:
         if add_mass is not None or add_inertia is not None:
             raise UsageError("give either --from-flywheel or --add-mass/--add-inertia, "
@@ -267,7 +273,8 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
                          band=band, min_share=min_share, self_weight=self_weight or None,
                          revs_per_cycle=revs, margin=separation_margin,
                          cycle_torque=cycle_torque, torque_peak_logged=torque_peak,
-                         damping_ratio=damping_ratio, fatigue_method=fatigue_method)
+                         damping_ratio=damping_ratio, fatigue_method=fatigue_method,
+                         materials=materials)
     data = result.to_dict()
     if log_info is not None:
         log_info["orders"] = spectrum.significant(data["options"]["min_share"]).to_dict()

@@ -45,7 +45,7 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "overspeed": ((int, float), 1.0),
     },
     "shaft": {
-        "material": (str, None),
+        "material": ((str, dict), None),
         "bearings_m": (list, None),
         "segments": (list, None),
         "masses": (list, None),
