@@ -104,6 +104,6 @@ def test_fleet_page_is_sortable_and_cautions(tmp_path):
                            "cs": [0.1, 0.3], "flag": ["", ""]})
     page = fleet_table(cycles, targets={"M": 0.2, "N": 0.2}).write_html(tmp_path / "f.html")
     text = page.read_text(encoding="utf-8")
-    assert "<table id=fleet><tr><th>rank</th>" in text
+    assert "<table id=fleet class=sortable><tr><th>rank</th>" in text
     assert "approved by a qualified, licensed engineer" in text
     assert text.index("<td>N</td>") < text.index("<td>M</td>")  # N is further over target

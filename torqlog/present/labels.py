@@ -124,6 +124,18 @@ LABELS: Mapping[str, Label] = MappingProxyType({
     "date": _L("Date"),
     "shift": _L("Shift"),
     "flags": _L("Control-chart signals"),
+    # fleet (torqlog.fleet.compare.FLEET_COLUMNS)
+    "rank": _L("Rank", digits=9),
+    "machine": _L("Machine"),
+    "logs": _L("Logs", digits=9),
+    "last_log": _L("Last log"),
+    "cs_p90": _L("Cs, worst tenth of cycles (90th percentile)"),
+    "cs_p90_over_target": _L("Worst tenth against the target (Cs p90 / target)"),
+    "status": _L("Status"),
+    "motor_rms_load": _L("Motor RMS load, share of rated", "%", 100.0),
+    "anomaly_rate": _L("Abnormal cycle shapes", "%", 100.0),
+    "flagged_share": _L("Flagged cycles", "%", 100.0),
+    "drift": _L("Drift"),
     # log facts
     "name": _L("Column"),
     "role": _L("Role"),
