@@ -1511,7 +1511,7 @@ def _section_fleet(d: ReportData) -> Section:
     f = d.fleet or {}
     header, rows = people_table(f, d.units)
     o = f.get("options", {})
-    by = label_of(str(o.get("sort_by", "cs_p90_over_target"))).text.lower()
+    by = label_of(str(o.get("sort_by", "cs_p90_over_target"))).text
     first = "largest" if o.get("descending", True) else "smallest"
     paras: list[tuple[Any, ...]] = [(
         f"{len(rows)} machines, ranked by {by} ({first} first); in the HTML report a click "
@@ -1613,7 +1613,9 @@ def document(data: ReportData) -> Document:
     secs += [_section_glossary(), _section_appendix(data)]
     n = len(data.logs)
     sub = (f"Design log {data.design['name']}" + (f" and {n - 1} more" if n > 1 else "") +
-           f" · torqlog {data.version} · {data.created}")
+           f" · torqlog {data.version} · {data.created}" +
+           (" · US customary units (notes quoted from the stages and the appendix in SI)"
+            if data.units == "us" else ""))
     return Document(f"Flywheel and shaft report: {data.machine}", sub,
                     tuple(page_one(data)), tuple(data.cautions), tuple(secs))
 
