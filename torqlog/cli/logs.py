@@ -577,7 +577,8 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
         with atomic_path(out / "cycles.parquet") as tmp:
             pq.write_table(table, tmp)
         write_text(out / "shifts.csv", res.to_pandas().to_csv(index=False))
-        written = [out / "cycles.parquet", out / "shifts.csv", *res.plot(out)]
+        written = [out / "cycles.parquet", out / "shifts.csv",
+                   *res.plot(out, units=output_settings()["units"])]
         click.echo("wrote " + ", ".join(str(p) for p in written), err=True)
     table = res.to_pandas()
     if fmt == "table":

@@ -167,10 +167,13 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
     profile = load_profile_opt(profile_path)
     read = read_kwargs(kw)
     opts = make_cycle_options(kw, profile)
+    units = output_settings()["units"]  # --units, else the --profile's [output] units
+    if folder_profiles and "units" not in click.get_current_context().meta.get(
+            "torqlog.output", {}):
+        units = profile.output.get("units", "si")  # the first machine's profile
     data = build_report(list(logs), profile_path, cycle_options=opts, read=read,
                         target_cs=target_cs, quantile=parse_quantile(quantile),
-                        figure_dir=figure_dir, fleet=fleet,
-                        units=output_settings()["units"])
+                        figure_dir=figure_dir, fleet=fleet, units=units)
     for stage, why in data.skipped.items():
         if not stage.startswith("log "):
             click.echo(f"note: {why}", err=True)

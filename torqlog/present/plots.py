@@ -112,6 +112,8 @@ def plot_cycles(result: object, path: str | Path, *, units: str = "si") -> Path:
     ``units`` "si" or "us" (axes in kN·m and kJ, or lbf·ft and ft·lbf)."""
     import numpy as np
 
+    from torqlog.present.labels import sig
+
     kt, ut = axis_unit("torque_mean_Nm", units)
     ke, ue = axis_unit("energy_swing_J", units)
 
@@ -142,7 +144,8 @@ def plot_cycles(result: object, path: str | Path, *, units: str = "si") -> Path:
         xm = edeg[-1] * 0.02
         ax_e.annotate("", xy=(xm, e[imax] * ke), xytext=(xm, e[imin] * ke),
                       arrowprops={"arrowstyle": "<->", "color": PALETTE["mean"], "lw": 1.5})
-        ax_e.text(xm * 2.5, (e[imax] + e[imin]) / 2 * ke, f"ΔE = {de * ke:.3g} {ue} (mean cycle)",
+        ax_e.text(xm * 2.5, (e[imax] + e[imin]) / 2 * ke,
+                  f"ΔE = {sig(de * ke, 3)} {ue} (mean cycle)",
                   color=PALETTE["mean"], va="center", fontweight="bold",
                   bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.8})
         ax_e.set_ylabel(f"E(θ) [{ue}]")
