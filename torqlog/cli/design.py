@@ -46,7 +46,20 @@ def _flywheel_json(path: str) -> tuple[float, float]:
     return values[0], values[1]
 
 
-def _shaft_text(d: dict[str, Any], name: str) -> str:
+def _q(key: str, value: float | None, system: str, fmt: str = ".4g") -> str:
+    """A value of an SI output key with its unit, in ``system``'s unit (the labels' map:
+    N·m or lbf·ft, kg or lb, m or in, MPa or ksi, N or lbf)."""
+    from torqlog.present.labels import label_of
+
+    if value is None:
+        return "-"
+    lab = label_of(key, system)
+    return f"{value * lab.scale:{fmt}} {lab.unit}".rstrip()
+
+
+def _shaft_text(d: dict[str, Any], name: str, system: str = "si") -> str:
+    """Readable shaft check of the SI JSON ``d``; masses, lengths, torques, stresses and
+    forces in the units of ``system``."""
     o = d["options"]
     lines = [f"Shaft check{': ' + name if name else ''}  (running speed "
              f"{o['speed_rpm']:.1f} rpm = {o['speed_hz']:.3f} Hz; forcing up to order "
@@ -68,16 +81,21 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
         if label == "after":
             added = []
             if o["add_mass_kg"] is not None:
-                added.append(f"+{o['add_mass_kg']:g} kg at {o['add_mass_at_m']:g} m")
+                added.append(f"+{_q('mass_kg', o['add_mass_kg'], system)} at "
+                             f"{_q('at_m', o['add_mass_at_m'], system)}")
             if o["add_inertia_kgm2"] is not None:
-                added.append(f"+{o['add_inertia_kgm2']:g} kg·m² at {o['add_inertia_at']}")
+                added.append(f"+{_q('inertia_kgm2', o['add_inertia_kgm2'], system)} at "
+                             f"{o['add_inertia_at']}")
             label = f"after ({', '.join(added)})"
         lat = st["lateral"]
         lines.append(f"\n[{label}]")
+        deflection = (f"{lat['static_deflection_max_mm']:.3f} mm" if system == "si" else
+                      _q("static_deflection_max_mm", lat["static_deflection_max_mm"], system,
+                         ".3g"))
         lines.append(f"  lateral: Rayleigh {lat['rayleigh_hz']:.1f} Hz, Dunkerley "
                      f"{lat['dunkerley_hz']:.1f} Hz, FE "
                      + ", ".join(f"{f:.1f}" for f in lat["fe_hz"]) + " Hz; "
-                     f"max static deflection {lat['static_deflection_max_mm']:.3f} mm")
+                     f"max static deflection {deflection}")
         lines.append(f"    {lat['margin_text']}")
         tor = st["torsional"]
         if tor is not None:
@@ -90,8 +108,8 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
                 lines.append(f"    ! mode {hit['mode_hz']:.1f} Hz near order {hit['order']:g} "
                              f"({hit['order_hz']:.2f} Hz, share {share}, detune "
                              f"{hit['detune'] * 100:+.1f} %)")
-        lines += _response_lines(st.get("forced_response"))
-        lines += _strength_lines(st.get("strength"))
+        lines += _response_lines(st.get("forced_response"), system)
+        lines += _strength_lines(st.get("strength"), system)
     state = "after" if d["after"] is not None else "current"
     lines.append(f"\nVerdict ({state}): {d['verdict']}"
                  + (f" (failed: {', '.join(d['failed'])})" if d["failed"] else ""))
@@ -100,46 +118,58 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
     return "\n".join(lines) + "\n"
 
 
-def _response_lines(fr: dict[str, Any] | None) -> list[str]:
+def _response_lines(fr: dict[str, Any] | None, system: str = "si") -> list[str]:
     if not fr:
         return []
     o = fr["options"]
+
+    def nm(x: float) -> str:
+        return _q("torque_Nm", x, system, ".0f")
+
     lines = [f"  forced response (log torque at {o['excitation_at']}, damping ratio "
              f"{o['damping_ratio']:g}):"]
     for i, name in enumerate(fr["sections"]):
-        lines.append(f"    {name}: mean {fr['torque_mean_Nm'][i]:.0f} N·m, dynamic peak "
-                     f"{fr['torque_dynamic_peak_Nm'][i]:.0f} N·m, peak "
-                     f"{fr['torque_peak_Nm'][i]:.0f} N·m")
+        lines.append(f"    {name}: mean {nm(fr['torque_mean_Nm'][i])}, dynamic peak "
+                     f"{nm(fr['torque_dynamic_peak_Nm'][i])}, peak "
+                     f"{nm(fr['torque_peak_Nm'][i])}")
     if fr["governing_section"]:
         amp = fr["governing_amplification"]
         lines.append(f"    largest single order: order {fr['governing_order']:g} in "
-                     f"{fr['governing_section']}, {fr['governing_torque_dynamic_Nm']:.0f} N·m"
+                     f"{fr['governing_section']}, {nm(fr['governing_torque_dynamic_Nm'])}"
                      + (f" ({amp:.2f}× quasi-static)" if amp is not None else ""))
     return lines
 
 
-def _strength_lines(sd: dict[str, Any] | None) -> list[str]:
+def _strength_lines(sd: dict[str, Any] | None, system: str = "si") -> list[str]:
     if not sd:
         return []
     t, o = sd["torque"], sd["options"]
+
+    def nm(x: float, fmt: str = ".0f") -> str:
+        return _q("torque_Nm", x, system, fmt)
+
+    def diameter(mm: float) -> str:  # a shaft diameter: mm, or inches (not mils)
+        return f"{mm:5.0f} mm" if system == "si" else _q("diameter_m", mm / 1e3, system, "5.2f")
+
     lines = [f"  strength ({o['material']}, {o['method']}; shaft torque mean "
-             f"{t['torque_mean_Nm']:.0f}, alternating {t['torque_alt_Nm']:.0f}, peak "
-             f"{t['torque_peak_Nm']:.0f} N·m):"]
+             f"{nm(t['torque_mean_Nm']).split()[0]}, alternating "
+             f"{nm(t['torque_alt_Nm']).split()[0]}, peak {nm(t['torque_peak_Nm'])}):"]
     for r in sd["sections"]:
-        lines.append(f"    {r['section']:<34} d {r['diameter_mm']:5.0f} mm  Kf {r['kf']:.2f} "
-                     f"Kfs {r['kfs']:.2f}  M {r['moment_alt_Nm']:7.0f} N·m  n_fatigue "
+        lines.append(f"    {r['section']:<34} d {diameter(r['diameter_mm'])}  Kf {r['kf']:.2f} "
+                     f"Kfs {r['kfs']:.2f}  M {nm(r['moment_alt_Nm'], '7.0f')}  n_fatigue "
                      f"{r['fatigue_safety_factor']:5.2f}  n_yield "
                      f"{r['yield_safety_factor']:5.2f}")
     for k in sd["keys"]:
         lines.append(f"    key of {k['part']}: n shear {k['shear_safety_factor']:.2f}, n bearing "
-                     f"{k['bearing_safety_factor']:.2f} at {k['torque_design_Nm']:.0f} N·m")
+                     f"{k['bearing_safety_factor']:.2f} at {nm(k['torque_design_Nm'])}")
     for f in sd["fits"]:
-        lines.append(f"    shrink fit of {f['part']}: p {f['pressure_MPa']:.1f} MPa carries "
-                     f"{f['torque_capacity_Nm']:.0f} N·m vs {f['torque_design_Nm']:.0f} N·m")
+        lines.append(f"    shrink fit of {f['part']}: p "
+                     f"{_q('pressure_MPa', f['pressure_MPa'], system, '.1f')} carries "
+                     f"{nm(f['torque_capacity_Nm'])} vs {nm(f['torque_design_Nm'])}")
     for b in sd["bearings"]:
         life = (f", L10 {b['l10_hours']:.3g} h" if b.get("l10_hours") is not None else "")
-        lines.append(f"    bearing {b['bearing']} at {b['x_m']:g} m: reaction "
-                     f"{b['reaction_N']:.0f} N{life}")
+        lines.append(f"    bearing {b['bearing']} at {_q('x_m', b['x_m'], system)}: "
+                     f"reaction {_q('reaction_N', b['reaction_N'], system, '.0f')}{life}")
     lines.append(f"    {sd['margin_text']}")
     return lines
 
@@ -293,7 +323,8 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
     elif speed_range is not None:
         raise UsageError("--speed-range draws a Campbell diagram: give --plot FILE.png too")
     emit(data, result.to_pandas(), fmt, output,
-         text=lambda d: _shaft_text(d, profile.machine.get("name", "")))
+         text=lambda _: _shaft_text(data, profile.machine.get("name", ""),
+                                    output_settings()["units"]))
     if strict and result.failures:
         reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
         raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")

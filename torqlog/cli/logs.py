@@ -204,10 +204,19 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
 
 
 # --- size
-def _size_text(d: dict[str, Any], source: str) -> str:
-    """Readable summary of a sizing result: the leading answer first, then why."""
+def _size_text(d: dict[str, Any], source: str, system: str = "si") -> str:
+    """Readable summary of a sizing result (SI JSON ``d``): the leading answer first, then
+    why; inertia, torque and energy in the units of ``system`` (:func:`label_of`)."""
+    from torqlog.present.labels import label_of, sig
+
+    units = {k: (label_of(k, system).scale, label_of(k, system).unit)
+             for k in ("inertia_kgm2", "motor_torque_rms_Nm", "design_energy_swing_J")}
+    ki, ui = units["inertia_kgm2"]
+    kt, ut = units["motor_torque_rms_Nm"]
+    ke, ue = units["design_energy_swing_J"]
+
     def kg(x: float | None) -> str:
-        return "-" if x is None else f"{x:,.4g} kg·m²"
+        return "-" if x is None else f"{sig(x, 4, ki)} {ui}"
 
     def pct(x: float | None) -> str:
         return "-" if x is None else f"{100 * x:.0f} %"
@@ -244,11 +253,11 @@ def _size_text(d: dict[str, Any], source: str) -> str:
     parts = d.get("ci95_parts_kgm2") or {}
     if parts:
         lines.append("interval parts        " + ", ".join(
-            f"{k.removesuffix('_kgm2').replace('_', ' ')} {v[0]:+.3g}/{v[1]:+.3g}"
-            for k, v in parts.items()) + " kg·m²")
+            f"{k.removesuffix('_kgm2').replace('_', ' ')} {v[0] * ki:+.3g}/{v[1] * ki:+.3g}"
+            for k, v in parts.items()) + f" {ui}")
     lines.append(f"constant-drive bound  {kg(d['bound_constant_drive_required_inertia_kgm2'])} "
                  f"required, {kg(d['bound_constant_drive_added_inertia_kgm2'])} added "
-                 f"(design swing {d['design_energy_swing_J'] / 1e3:.4g} kJ, "
+                 f"(design swing {d['design_energy_swing_J'] * ke:.4g} {ue}, "
                  f"{'max' if q == 'max' else f'p{100 * float(q):g}'} of the cycles; "
                  f"assumes a constant drive torque: an upper bound)")
     now, after = d.get("machine_now"), d.get("machine_after")
@@ -268,7 +277,8 @@ def _size_text(d: dict[str, Any], source: str) -> str:
                 share = f"drive_torque_{key}_share_of_rated"
                 extra = (f"   {pct(now[share])} → {pct(after[share])} of rated"
                          if share in now else "")
-                lines.append(f"{label + ' N·m':22}{now[k]:>12.4g}{after[k]:>12.4g}{extra}")
+                lines.append(f"{label + ' ' + ut:22}{now[k] * kt:>12.4g}"
+                             f"{after[k] * kt:>12.4g}{extra}")
         if "copper_loss_change_kWh_per_year" in after:
             lines.append(f"copper loss change    {after['copper_loss_change_rel']:+.0%}, "
                          f"{after['copper_loss_change_kWh_per_year']:+,.0f} kWh/year at "
@@ -277,7 +287,7 @@ def _size_text(d: dict[str, Any], source: str) -> str:
     if choice:
         lines += ["", f"sized on {choice['sized_on']}: {choice['why']} "
                       f"(--size-on {choice['size_on']})"]
-        lines += [f"  {r['log']}: design swing {r['design_energy_swing_J'] / 1e3:.4g} kJ at "
+        lines += [f"  {r['log']}: design swing {r['design_energy_swing_J'] * ke:.4g} {ue} at "
                   f"{r['speed_mean_rpm']:.4g} rpm" for r in choice["logs"]]
     rf = d.get("retrofit")
     if rf:
@@ -290,8 +300,8 @@ def _size_text(d: dict[str, Any], source: str) -> str:
         if rf.get("drive_torque_rms_predicted_Nm") is not None and \
                 rf.get("drive_torque_rms_after_log_Nm") is not None:
             lines.append(f"  drive torque RMS      predicted "
-                         f"{rf['drive_torque_rms_predicted_Nm']:.4g} N·m, after-log "
-                         f"{rf['drive_torque_rms_after_log_Nm']:.4g} N·m")
+                         f"{rf['drive_torque_rms_predicted_Nm'] * kt:.4g} {ut}, after-log "
+                         f"{rf['drive_torque_rms_after_log_Nm'] * kt:.4g} {ut}")
         lines += [f"  {m}" for m in rf["messages"]]
     lines += [""] + [f"note: {m}" for m in d["messages"]]
     lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
@@ -386,7 +396,7 @@ def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
                          units=output_settings()["units"])
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, result.to_pandas() if fmt in TABULAR and result.curve is not None else None,
-         fmt, output, text=lambda d: _size_text(d, res.source))
+         fmt, output, text=lambda _: _size_text(data, res.source, output_settings()["units"]))
 
 
 
