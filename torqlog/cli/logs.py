@@ -437,7 +437,7 @@ def _short_flags(flags: list[str]) -> str:
     return "; ".join(f"{k} {' '.join(v)}" for k, v in per.items())
 
 
-def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | None,
+def trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | None,
                 machine: str | None, folder_profiles: bool
                 ) -> tuple[list[Any], list[dict[str, str]], Any]:
     """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
@@ -551,7 +551,7 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     from torqlog.io.outputs import OUTPUT_NAMES, parquet_metadata, write_text
 
     profile_path = kw.get("profile")
-    jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
+    jobs, missing, profile = trend_jobs(paths, kw, name_time, machine, folder_profiles)
     figure_names = [f"trend_{f.strip()}.png" for f in figures.split(",") if f.strip()]
     out_files = ([Path(out_dir) / n for n in (*OUTPUT_NAMES, *figure_names,
                                                "energy_swing_box.png")]

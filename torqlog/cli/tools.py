@@ -146,7 +146,7 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
     fleet = None
     if folder_profiles:
         from torqlog.cli.fleet import fleet_of_jobs
-        from torqlog.cli.logs import _trend_jobs
+        from torqlog.cli.logs import trend_jobs
         from torqlog.fleet.compare import rank_rows
 
         if profile_path:
@@ -154,7 +154,7 @@ def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, ou
                              "--folder-profiles each machine's profile is the .toml "
                              "beside its logs")
         rank_rows([], fleet_sort)  # an unknown column is refused before any reading
-        jobs, missing, _ = _trend_jobs(logs, dict(kw), name_time, None, True)
+        jobs, missing, _ = trend_jobs(logs, dict(kw), name_time, None, True)
         if missing:
             raise UsageError(f"no such log: {', '.join(str(m) for m in missing)}")
         fleet = fleet_of_jobs(jobs, fleet_sort)
