@@ -170,3 +170,26 @@ def test_flywheel_and_drive_figures_axes_in_us_units(monkeypatch):
     assert fig.axes[0].get_xlabel() == "added inertia at the logged shaft [lb·ft²]"
     assert fig.axes[1].get_ylabel() == "peak motor torque [lbf·ft]"
     assert fig.axes[0].lines[0].get_xdata()[1] == pytest.approx(100.0 / LB_FT2, rel=NIST_REL)
+
+
+def test_shaft_figure_axes_in_us_units(monkeypatch):
+    from torqlog.io.profile import parse_profile
+    from torqlog.shaft.check import check_shaft
+
+    prof = parse_profile({"machine": {"speed_rpm": 45.0}, "shaft": {
+        "bearings_m": [0.0, 1.10],
+        "segments": [{"length_m": 0.35, "diameter_m": 0.14},
+                     {"length_m": 0.75, "diameter_m": 0.16},
+                     {"length_m": 0.40, "diameter_m": 0.14}],
+        "masses": [{"name": "flywheel", "mass_kg": 900.0, "at_m": 1.40}]}}, "p.toml")
+    res = check_shaft(prof, add_mass=600.0)
+    fig = _figure_of(monkeypatch, lambda p: p.plot_shaft(res, "s.png", units="us"))
+    top = fig.axes[0]
+    assert (top.get_xlabel(), top.get_ylabel()) == ("position along shaft x [in]",
+                                                    "deflection (down) [mil]")
+    # bearings drawn at 0 and 1.10 m / 0.0254 m/in; deflection 1 mil = 0.0254 mm
+    bearings = next(ln for ln in top.lines if ln.get_label() == "bearing (simple support)")
+    assert list(bearings.get_xdata()) == pytest.approx([0.0, 1.10 / INCH], rel=1e-12)
+    before = top.lines[0].get_ydata()
+    assert np.max(np.abs(before)) == pytest.approx(
+        res.before.lateral.static_deflection_max / INCH * 1e3, rel=1e-9)

@@ -189,12 +189,13 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None,
         elastic torsional mode as a vertical line and the band of order frequencies that
         would be flagged (f / (1 + band) to f / (1 - band)) shaded.
     units : str
-        "si" (positions in m, deflection in mm, torque in N·m) or "us" (in, in, lbf·ft).
+        "si" (positions in m, deflection in mm, torque in N·m) or "us" (in, mil, lbf·ft).
     """
     import numpy as np
 
     kx, ux = axis_unit("position_m", units)
-    kd, ud = axis_unit("outer_diameter_m", units)
+    kd, ud = axis_unit("static_deflection_max_mm", units)  # mm, or mil (thou)
+    kd *= 1e3  # the deflections are in m
     kt, ut = axis_unit("motor_torque_rms_Nm", units)
     km, um = axis_unit("mass_kg", units)
 
