@@ -86,7 +86,8 @@ def test_report_prints_its_path_and_parses_strictly_with_every_section_in_order(
     assert press["stdout"] == f"{press['html']}\n"
     tree = parse(press["text"])
     ids = [e.get("id") for e in tree.iter("section")]
-    assert ids == [s for s in SECTIONS if s != "trends"]  # one log: no trend section
+    # one log of one machine: no trend and no fleet section
+    assert ids == [s for s in SECTIONS if s not in ("trends", "fleet")]
     assert tree.find(".//title").text == "torqlog report: Press 4, line B"
     # self-contained: nothing is fetched from elsewhere
     for tag, attr in (("img", "src"), ("link", "href"), ("script", "src")):
@@ -341,7 +342,7 @@ def test_a_log_alone_gives_a_report_that_names_the_profile_lines_to_add(compress
     assert res.exit_code == 0, res.output
     tree = parse(html.read_text(encoding="utf-8"))
     assert [s.get("id") for s in tree.iter("section")] == [
-        s for s in SECTIONS if s != "trends"]
+        s for s in SECTIONS if s not in ("trends", "fleet")]
     # No target Cs: the common-practice target of the default machine class, said to be
     # assumed (machine-class table after Norton, *Design of Machinery*, values from memory:
     # shearing machinery 0.03-0.05, the stricter end taken)
