@@ -13,7 +13,6 @@ from torqlog.cli.base import (
     FIGURE_FILE,
     TABULAR,
     QuantityType,
-    atomic_path,
     check_outputs,
     cli,
     cycle_options,
@@ -528,7 +527,7 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
 
     from torqlog.fleet.batch import dask_client
     from torqlog.fleet.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
-    from torqlog.io.outputs import OUTPUT_NAMES, parquet_metadata, write_text
+    from torqlog.io.outputs import OUTPUT_NAMES, write_text
 
     profile_path = kw.get("profile")
     jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
@@ -553,19 +552,11 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
                                                         file=sys.stderr))
             progress = lambda: bar.update(1)  # noqa: E731
         res = run_trend(jobs, calendar, by=by, drift=drift, baseline=baseline,
-                        workers=n_jobs, client=client, progress=progress, missing=missing)
+                        workers=n_jobs, client=client, progress=progress, missing=missing,
+                        cycles_path=Path(out_dir) / "cycles.parquet" if out_dir else None)
     d = res.to_dict()
     if out_dir:
         out = Path(out_dir)
-        out.mkdir(parents=True, exist_ok=True)
-        import pyarrow as pa
-        import pyarrow.parquet as pq
-
-        table = pa.Table.from_pandas(res.cycles_table(), preserve_index=False)
-        table = table.replace_schema_metadata({**(table.schema.metadata or {}),
-                                               **parquet_metadata("trend-cycles")})
-        with atomic_path(out / "cycles.parquet") as tmp:
-            pq.write_table(table, tmp)
         write_text(out / "shifts.csv", res.to_pandas().to_csv(index=False))
         written = [out / "cycles.parquet", out / "shifts.csv", *res.plot(out)]
         click.echo("wrote " + ", ".join(str(p) for p in written), err=True)
@@ -574,7 +565,8 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
         table = table.assign(start_time=[t.strftime("%Y-%m-%d %H:%M") for t in
                                          table["start_time"]],
                              flags=[_short_flags(f) for f in res.groups["flags"]])
-        table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95"])
+        table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95",
+                                    "cycles_scored", "cycles_abnormal"])
     sheets = None
     if fleet_flag:
         from torqlog.cli.fleet import fleet_for

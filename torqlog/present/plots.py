@@ -624,9 +624,8 @@ def plot_trend_box(result: object, path: str | Path) -> Path:
     import numpy as np
     from matplotlib.patches import Patch
 
-    cyc = result.cycles[result.cycles["flag"] == ""]
-    by_group = {int(k): v.dropna().to_numpy()
-                for k, v in cyc.groupby("group")["energy_swing_J"]}
+    # box statistics from each group's running summary (exact below its budget)
+    boxes = [g.box("energy_swing_J") for g in result.stats]
     groups = result.groups
     machines = list(dict.fromkeys(groups["machine"])) or [""]
     by = result.options["by"]
@@ -639,14 +638,13 @@ def plot_trend_box(result: object, path: str | Path) -> Path:
         result.options["drift"]["baseline"].split()[1])
     for ax, m in zip(axes[:, 0], machines, strict=True):
         rows = np.flatnonzero((groups["machine"] == m).to_numpy())
-        data = [by_group[r] if r in by_group else np.zeros(0) for r in rows]
-        keep = [i for i, v in enumerate(data) if v.size]
+        keep = [i for i, r in enumerate(rows) if boxes[r] is not None]
         if not keep:
             ax.set_title(f"Energy swing per {by}: no clean cycles")
             continue
-        bp = ax.boxplot([data[i] for i in keep], positions=np.arange(len(rows))[keep],
-                        widths=0.6, showfliers=False, patch_artist=True,
-                        medianprops={"color": "black", "lw": 1.2})
+        bp = ax.bxp([boxes[rows[i]] for i in keep], positions=np.arange(len(rows))[keep],
+                    widths=0.6, showfliers=False, patch_artist=True,
+                    medianprops={"color": "black", "lw": 1.2})
         for b, i in zip(bp["boxes"], keep, strict=True):
             g = groups.iloc[rows[i]]
             s = g["shift"]
