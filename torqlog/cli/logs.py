@@ -399,15 +399,16 @@ def _trend_text(d: dict[str, Any], n_files: int) -> str:
         lines.append("drift: none flagged after the baseline")
     lines += [f"note: {n}" for n in d["notes"]]
     lines += [f"failed: {f['file']}: {f['reason']}" for f in d["failed"]]
-    lines.append("flags: limits = beyond the individuals-chart limits, ewma = EWMA beyond its "
-                 "limits, run = run rule; + above, - below")
+    lines.append("flags: limits = beyond the individuals-chart limits (the p-chart limits "
+                 "for anomaly_rate), ewma = EWMA beyond its limits, run = run rule; + above, "
+                 "- below")
     return "\n".join(lines) + "\n"
 
 
 def _short_flags(flags: list[str]) -> str:
     """``cs_median:individuals_high`` and friends as ``cs_median limits+ ewma+`` for a
     table (words, not letters: a lone ``R`` reads as a range chart)."""
-    sym = {"individuals": "limits", "ewma": "ewma", "run": "run"}
+    sym = {"individuals": "limits", "p_chart": "limits", "ewma": "ewma", "run": "run"}
     per: dict[str, list[str]] = {}
     for f in flags:
         fig, _, rule = f.partition(":")
@@ -485,7 +486,8 @@ def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | Non
 @click.option("--baseline", "baseline_path", type=click.Path(dir_okay=False), default=None,
               help="Take the limits from an earlier run instead (its shifts.csv or JSON).")
 @click.option("--figures", default=",".join(("energy_swing_J_median", "cs_median",
-                                              "torque_peak_Nm_p99")), show_default=True,
+                                              "torque_peak_Nm_p99", "anomaly_rate")),
+              show_default=True,
               help="Row figures to chart and judge, comma-separated.")
 @click.option("--limits", "limits_method", type=click.Choice(["prediction", "classic"]),
               default="prediction", show_default=True,
@@ -566,7 +568,8 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
                                          table["start_time"]],
                              flags=[_short_flags(f) for f in res.groups["flags"]])
         table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95",
-                                    "cycles_scored", "cycles_abnormal"])
+                                    "cycles_scored", "cycles_abnormal", "anomaly_rate_lcl",
+                                    "anomaly_rate_ucl"])
     sheets = None
     if fleet_flag:
         from torqlog.cli.fleet import fleet_for

@@ -34,6 +34,8 @@ from torqlog.fleet.control import (
     baseline_factors,
     ewma_chart,
     individuals_limits,
+    p_chart_centre,
+    p_chart_limits,
     run_rule,
 )
 from torqlog.fleet.groupstats import (
@@ -55,8 +57,12 @@ GROUP_BY: tuple[str, ...] = ("shift", "day", "file", "hour")
 GROUP_FIGURES: tuple[str, ...] = (
     "cycles_per_min", "energy_swing_J_median", "energy_swing_J_p95", "cs_median", "cs_p95",
     "torque_peak_Nm_p99", "work_J_mean", "flagged_share", "anomaly_rate")
-#: Figures charted unless told otherwise: energy swing, speed fluctuation, peak torque.
-DEFAULT_FIGURES: tuple[str, ...] = ("energy_swing_J_median", "cs_median", "torque_peak_Nm_p99")
+#: Figures charted unless told otherwise: energy swing, speed fluctuation, peak torque and
+#: the share of cycles of abnormal shape.
+DEFAULT_FIGURES: tuple[str, ...] = ("energy_swing_J_median", "cs_median", "torque_peak_Nm_p99",
+                                    "anomaly_rate")
+#: The figure that is a rate of counts, charted as a p chart (binomial limits per group).
+P_FIGURE = "anomaly_rate"
 
 # ----------------------------------------------------------------------------- tables
 def combine(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
@@ -288,8 +294,9 @@ def detect_drift(groups: pd.DataFrame, options: DriftOptions = DriftOptions(),
     -------
     (flags, charts, limits, onsets)
         ``flags[i]``: codes for row i, ``"<figure>:<chart>_<high|low>"`` with chart
-        ``individuals`` (beyond ±k·σ), ``ewma`` (EWMA beyond its limits) or ``run``
-        (the run rule); ``charts``: long table (row, machine, figure, value, centre, lcl,
+        ``individuals`` (beyond ±k·σ; ``p_chart`` for the anomaly rate, beyond its
+        binomial limits, see :func:`_p_chart`), ``ewma`` (EWMA beyond its limits) or
+        ``run`` (the run rule); ``charts``: long table (row, machine, figure, value, centre, lcl,
         ucl, ewma, ewma_lcl, ewma_ucl, baseline); ``limits``: one dict per machine and
         figure; ``onsets``: per machine, the first flagged row after the baseline (or
         None).
@@ -315,42 +322,90 @@ def detect_drift(groups: pd.DataFrame, options: DriftOptions = DriftOptions(),
             bx = (base[fig].to_numpy(dtype=np.float64) if baseline is not None
                   else x[in_base])
             if np.isfinite(bx).sum() < 2:
-                limits.append({"machine": machine, "figure": fig, "centre": None,
-                               "sigma": None, "lcl": None, "ucl": None,
+                limits.append({"machine": machine, "figure": fig,
+                               "chart": "p" if fig == P_FIGURE else "individuals",
+                               "centre": None, "sigma": None, "lcl": None, "ucl": None,
                                "baseline_groups": int(np.isfinite(bx).sum()),
                                "note": "too few baseline values: not charted"})
                 continue
             m_base = int(np.isfinite(bx).sum())
-            k_eff, l_eff, c_var = baseline_factors(o.k, o.L, m_base, o.limits)
-            centre, sigma, lcl, ucl = individuals_limits(bx, k_eff)
-            z, zl, zu = ewma_chart(x, centre, sigma, o.lam, l_eff, c_var)
+            if fig == P_FIGURE:  # a rate of counts: the p chart, binomial limits per group
+                base_rows = base if baseline is not None else rows[in_base]
+                centre, sigma, lcl, ucl, z, zl, zu, lim = _p_chart(rows, base_rows, o)
+                beyond = "p_chart"
+            else:
+                k_eff, l_eff, c_var = baseline_factors(o.k, o.L, m_base, o.limits)
+                centre, sigma, lcl, ucl = individuals_limits(bx, k_eff)
+                z, zl, zu = ewma_chart(x, centre, sigma, o.lam, l_eff, c_var)
+                lim = {"chart": "individuals", "centre": centre, "sigma": sigma, "lcl": lcl,
+                       "ucl": ucl, "k_eff": k_eff, "ewma_L_eff": l_eff, "note": ""}
+                beyond = "individuals"
             # runs are counted afresh from the first group after the baseline: the
             # baseline points set the centre line, so a run among them says little
             hi_r, lo_r = np.zeros(x.size, bool), np.zeros(x.size, bool)
             for part in (in_base, ~in_base):
                 hi_r[part], lo_r[part] = run_rule(x[part], centre, run_len)
-            marks = {"individuals_high": x > ucl, "individuals_low": x < lcl,
+            marks = {f"{beyond}_high": x > ucl, f"{beyond}_low": x < lcl,
                      "ewma_high": z > zu, "ewma_low": z < zl,
                      "run_high": hi_r, "run_low": lo_r}
             for name, m in marks.items():
                 for j in np.flatnonzero(m):
                     flags[idx[j]].append(f"{fig}:{name}")
                 hit |= m
-            limits.append({"machine": machine, "figure": fig, "centre": centre,
-                           "sigma": sigma, "lcl": lcl, "ucl": ucl, "k_eff": k_eff,
-                           "ewma_L_eff": l_eff, "baseline_groups": m_base, "note": ""})
+            limits.append({"machine": machine, "figure": fig, **lim,
+                           "baseline_groups": m_base})
             charts.append(pd.DataFrame({
-                "row": idx, "machine": machine, "figure": fig, "value": x,
-                "centre": centre, "sigma": sigma, "lcl": lcl, "ucl": ucl, "ewma": z, "ewma_lcl": zl,
-                "ewma_ucl": zu, "baseline": in_base,
+                "row": idx, "machine": machine, "figure": fig, "chart": lim["chart"],
+                "value": x, "centre": centre, "sigma": sigma, "lcl": lcl, "ucl": ucl,
+                "ewma": z, "ewma_lcl": zl, "ewma_ucl": zu, "baseline": in_base,
                 "flagged": np.any(np.column_stack(list(marks.values())), axis=1)}))
         after = np.flatnonzero(hit & ~in_base)
         onsets.append({"machine": machine,
                        "row": int(idx[after[0]]) if after.size else None})
     chart = pd.concat(charts, ignore_index=True) if charts else pd.DataFrame(
-        columns=["row", "machine", "figure", "value", "centre", "sigma", "lcl", "ucl", "ewma",
-                 "ewma_lcl", "ewma_ucl", "baseline", "flagged"])
+        columns=["row", "machine", "figure", "chart", "value", "centre", "sigma", "lcl", "ucl",
+                 "ewma", "ewma_lcl", "ewma_ucl", "baseline", "flagged"])
     return flags, chart, limits, onsets
+
+
+def _p_chart(rows: pd.DataFrame, base: pd.DataFrame, o: DriftOptions) -> tuple[Any, ...]:
+    """The p chart of the anomaly rate of one machine's group rows.
+
+    Centre p̄ = Σ abnormal / Σ scored over the baseline groups
+    (:func:`torqlog.fleet.control.p_chart_centre`), limits p̄ ± k·√(p̄(1 − p̄)/n_i) with n_i
+    the cycles scored in group i, the lower limit clipped at 0
+    (:func:`torqlog.fleet.control.p_chart_limits`). The EWMA and run rule are the same
+    as for every figure; the EWMA runs on the standardized rate (p_i − p̄)/σ_i, so that
+    groups of different size weigh alike (its centre 0, σ 1, limits ±L·√(λ/(2 − λ)·…)).
+    σ comes from the binomial model, not from the spread of the baseline, so the limits
+    are not widened for the baseline's size. A baseline table without the counts (an
+    earlier run's rows) gives p̄ as the mean of its rates (noted).
+
+    References
+    ----------
+    Montgomery, *Introduction to Statistical Quality Control*, 7th ed., sec. 7.2.2
+    (variable sample size; the standardized chart z_i = (p̂_i − p̄)/σ_i).
+    """
+    x = rows[P_FIGURE].to_numpy(dtype=np.float64)
+    n = rows["cycles_scored"].to_numpy(dtype=np.float64)
+    note = ""
+    if "cycles_scored" in base and "cycles_abnormal" in base:
+        centre, note = p_chart_centre(base["cycles_abnormal"].to_numpy(dtype=np.float64),
+                                      base["cycles_scored"].to_numpy(dtype=np.float64))
+    else:
+        centre = float(np.nanmean(base[P_FIGURE].to_numpy(dtype=np.float64)))
+        note = "baseline without cycle counts: centre is the mean of its rates"
+    sigma, lcl, ucl = p_chart_limits(centre, n, o.k)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        std = np.where(sigma > 0, (x - centre) / sigma, np.nan)
+    z, zl, zu = ewma_chart(std, 0.0, 1.0, o.lam, o.L)
+    lim = {"chart": "p", "centre": centre, "sigma": None, "lcl": None, "ucl": None,
+           "limits": f"p̄ ± {o.k:g}·√(p̄(1 − p̄)/n) per group, n = cycles scored; "
+                     "lower limit clipped at 0",
+           "baseline_cycles_scored": int(np.nansum(base["cycles_scored"]))
+           if "cycles_scored" in base else None,
+           "ewma_of": "(rate − p̄)/σ_n", "note": note}
+    return centre, sigma, lcl, ucl, z, zl, zu, lim
 
 
 # ----------------------------------------------------------------------------- result
@@ -517,6 +572,12 @@ def _result(stats: list[GroupStats], calendar: ShiftCalendar, *, by: str, drift:
     s0 = stats[0].stream if stats else None
     flags, charts, limits, onsets = detect_drift(groups, drift, baseline)
     groups = groups.copy()
+    # each group's own p-chart limits of the anomaly rate (they vary with its size)
+    pc = charts[charts["figure"] == P_FIGURE]
+    for side in ("lcl", "ucl"):
+        col = np.full(len(groups), np.nan)
+        col[pc["row"].to_numpy(dtype=np.int64)] = pc[side].to_numpy(dtype=np.float64)
+        groups[f"{P_FIGURE}_{side}"] = col
     groups["flags"] = flags
     notes: list[str] = []
     for m, idx in groups.groupby("machine", sort=False).indices.items():
@@ -557,6 +618,9 @@ def _result(stats: list[GroupStats], calendar: ShiftCalendar, *, by: str, drift:
                   "baseline": "table" if baseline is not None else
                   f"first {drift.baseline_groups} groups per machine",
                   "individuals": f"mean ± {drift.k:g}·MR̄/{D2_MR2}", "k": drift.k,
+                  "p_chart": f"{P_FIGURE}: p̄ ± {drift.k:g}·√(p̄(1 − p̄)/n), n = cycles "
+                             "scored in the group, lower limit clipped at 0; EWMA of "
+                             "(rate − p̄)/σ_n",
                   "limits": drift.limits,
                   "ewma_lambda": drift.lam, "ewma_L": drift.L,
                   "run_rule": drift.run_rule, "run_length": RUN_RULES[drift.run_rule]},

@@ -522,6 +522,7 @@ _TREND_LABELS = {  # figure: (title, short axis label, unit)
     "torque_peak_Nm_p99": ("peak torque, 99th percentile", "peak torque p99", "N·m"),
     "work_J_mean": ("work per cycle, mean", "work mean", "J"),
     "flagged_share": ("share of flagged cycles", "flagged share", "-"),
+    "anomaly_rate": ("share of cycles of abnormal shape", "anomaly rate", "-"),
 }
 
 
@@ -573,11 +574,19 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
                 a.axvspan(*span, color=PALETTE["band"], alpha=0.35, lw=0,
                           label="baseline" if a is ax else None)
         ax.plot(t, x, "-o", color=PALETTE["data"], ms=4, lw=1.2, label=f"{by} value")
-        ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre {c0:.4g}")
-        ax.axhline(ucl, color=PALETTE["limit"], ls="--", lw=1.2,
-                   label=f"limits ±{(ucl - c0) / d['sigma'].iloc[0]:.2f}σ ({drift['limits']}):"
-                         f" {lcl:.4g} … {ucl:.4g}")
-        ax.axhline(lcl, color=PALETTE["limit"], ls="--", lw=1.2)
+        pchart = "chart" in d and (d["chart"] == "p").all()
+        if pchart:  # binomial limits that vary with each group's scored cycles
+            ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre p̄ = {c0:.4g}")
+            ax.step(t, d["ucl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2,
+                    label="p-chart limits p̄ ± 3·√(p̄(1−p̄)/n)\n(n = cycles scored; "
+                          "lower clipped at 0)")
+            ax.step(t, d["lcl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2)
+        else:
+            ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre {c0:.4g}")
+            ax.axhline(ucl, color=PALETTE["limit"], ls="--", lw=1.2,
+                       label=f"limits ±{(ucl - c0) / d['sigma'].iloc[0]:.2f}σ "
+                             f"({drift['limits']}): {lcl:.4g} … {ucl:.4g}")
+            ax.axhline(lcl, color=PALETTE["limit"], ls="--", lw=1.2)
         if flagged.any():
             ax.plot(t[flagged], x[flagged], "o", ms=9, mfc="none", mew=2,
                     color=PALETTE["limit"], label="flagged (any rule)")
@@ -587,7 +596,7 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
             for a in (ax, ax_e):
                 a.axvline(ts, color=PALETTE["limit"], lw=1.0, ls=":",
                           label="drift onset\n(first flag, any figure)" if a is ax else None)
-        ax.set_title(f"{label} per {by}{name} — individuals chart")
+        ax.set_title(f"{label} per {by}{name} — {'p' if pchart else 'individuals'} chart")
         ax.set_ylabel(f"{short} [{unit}]")
         ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
         ax_e.plot(t, d["ewma"], "-o", color=PALETTE["data"], ms=3, lw=1.2,
@@ -595,13 +604,17 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
         ax_e.step(t, d["ewma_ucl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2,
                   label=f"EWMA limits (L = {drift['ewma_L']:g})")
         ax_e.step(t, d["ewma_lcl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2)
-        ax_e.axhline(c0, color=PALETTE["mean"], lw=1.4, label="centre")
+        ax_e.axhline(0.0 if pchart else c0, color=PALETTE["mean"], lw=1.4, label="centre")
         ef = (d["ewma"] > d["ewma_ucl"]) | (d["ewma"] < d["ewma_lcl"])
         if ef.any():
             ax_e.plot(t[ef.to_numpy()], d["ewma"][ef], "o", ms=8, mfc="none", mew=2,
                       color=PALETTE["limit"], label="beyond EWMA limits")
-        ax_e.set_title(f"EWMA of {label}{name}")
-        ax_e.set_ylabel(f"EWMA of {short} [{unit}]")
+        if pchart:  # the EWMA runs on the standardized rate (p − p̄)/σ_n
+            ax_e.set_title(f"EWMA of the standardized {short} (rate − p̄)/σ_n{name}")
+            ax_e.set_ylabel(f"EWMA of standardized {short} [σ]")
+        else:
+            ax_e.set_title(f"EWMA of {label}{name}")
+            ax_e.set_ylabel(f"EWMA of {short} [{unit}]")
         ax_e.set_xlabel(f"{by} start ({zone})")
         ax_e.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
         for a in (ax, ax_e):
