@@ -342,6 +342,8 @@ def _reduce_file(job: FileJob, cols: dict[str, Any], start: pd.Timestamp, groupi
     finally:
         if writer is not None:
             writer.close()
+    for g in groups.values():
+        g.compact()
     # the part's `group` column is the position of the group in `groups` (both number
     # the groups in the order they were met)
     return groups, part

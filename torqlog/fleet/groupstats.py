@@ -204,6 +204,13 @@ class GroupStats:
                                                             other.date, other.file)
         self.last = max(self.last, other.last)
 
+    def compact(self) -> None:
+        """Trim the exact-value buffers to the values held (they grow by doubling), before
+        the summary is kept or sent to another process."""
+        for q in self.stream.keepers.values():
+            if q.sketch is None and q._buf.size > q.n:  # the keeper's own buffer
+                q._buf = q._buf[: q.n].copy()
+
     def row(self) -> dict[str, Any]:
         """The group's figures (over clean cycles; NaN where no clean cycle has one):
         ``cycles``, ``cycles_total``, ``cycles_per_min`` (60 / median duration),

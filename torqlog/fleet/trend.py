@@ -181,6 +181,8 @@ def merge_outcomes(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
                 merged[key].merge(g)
             else:
                 merged[key] = g
+    for g in merged.values():
+        g.compact()
     return ordered(merged), files, failed
 
 
