@@ -390,6 +390,8 @@ def _trend_text(d: dict[str, Any], n_files: int) -> str:
              f"limits: {dr['baseline']}; individuals {dr['individuals']} ({dr['limits']}), "
              f"EWMA λ = {dr['ewma_lambda']:g}, L = {dr['ewma_L']:g}; run rule {dr['run_rule']} "
              f"({dr['run_length']} in a row on one side)"]
+    if dr.get("p_chart") and "anomaly_rate" in dr["figures"]:
+        lines.append("anomaly rate: p chart, " + dr["p_chart"].partition(": ")[2])
     on = d["drift_onset"]
     if on:
         who = f"{on['machine']}: " if on["machine"] else ""
