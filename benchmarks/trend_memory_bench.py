@@ -59,6 +59,7 @@ def main() -> None:
     ap.add_argument("--logs", default="1,3", help="numbers of logs to compare, e.g. 1,3,9")
     a = ap.parse_args()
     root = Path(a.dir) if a.dir else Path(tempfile.mkdtemp(prefix="trend-mem-", dir="/tmp"))
+    root.mkdir(parents=True, exist_ok=True)
     counts = [int(c) for c in a.logs.split(",")]
     names = [f"press_202603{2 + i // 3:02d}_{('0620', '1420', '2220')[i % 3]}.csv"
              for i in range(max(counts))]
