@@ -154,6 +154,24 @@ def test_merged_summaries_equal_the_summary_of_the_concatenated_rows(by):
     assert (r["cycles_scored"], r["cycles_abnormal"]) == (np.isfinite(sc).sum(), (sc > 1).sum())
 
 
+def test_groups_past_a_low_budget_answer_within_the_sketch_bound():
+    times, cols = _rows(6000, 3)
+    files = np.full(times.size, "a.csv", dtype=object)
+    exact, low = {}, {}
+    fold(exact, "K2", times, cols, files, UTC, "shift")
+    for part in np.array_split(np.arange(times.size), 4):
+        fold(low, "K2", times[part], {k: v[part] for k, v in cols.items()}, files[part], UTC,
+             "shift", quantile_budget=200, sketch_error=1e-4)
+    for ge, gl in zip(ordered(exact), ordered(low), strict=True):
+        assert gl.stream.keepers["cs"].method == "sketch"
+        re, rl = ge.row(), gl.row()
+        for k in ("energy_swing_J_median", "energy_swing_J_p95", "cs_median", "cs_p95",
+                  "torque_peak_Nm_p99"):
+            assert abs(rl[k] - re[k]) <= 1e-4 * abs(re[k]), k
+        assert rl["cycles"] == re["cycles"] and rl["work_J_mean"] == pytest.approx(
+            re["work_J_mean"], rel=1e-12)
+
+
 def test_merged_sketches_equal_a_sketch_of_all_values_past_the_budget():
     rng = np.random.default_rng(5)
     parts = [rng.lognormal(6.5, 0.05, 700), rng.lognormal(6.6, 0.05, 900),
@@ -220,7 +238,7 @@ def test_streamed_trend_equals_the_in_memory_table(compressor_logs, tmp_path):
     pd.testing.assert_frame_equal(res.groups.drop(columns="flags"),
                                   mem.groups.drop(columns="flags"), rtol=1e-12)
     assert res.to_dict()["options"]["quantiles"] == {
-        "method": "exact", "exact_budget_cycles_per_group": 500_000,
+        "method": "exact", "exact_budget_cycles_per_group": 20_000,
         "relative_error_bound": None}
     # cycles.parquet, streamed by row groups, holds every cycle with its group row
     got = pd.read_parquet(path)

@@ -25,11 +25,11 @@ import numpy as np
 import pandas as pd
 
 from torqlog.errors import DataError, TorqlogError, UsageError
-from torqlog.fleet.groupstats import GroupStats
+from torqlog.fleet.groupstats import TREND_QUANTILE_BUDGET, GroupStats
 from torqlog.fleet.shifts import ShiftCalendar
 from torqlog.io.outputs import is_torqlog_output
 from torqlog.signal.cycles import CycleOptions
-from torqlog.signal.streamstats import DEFAULT_QUANTILE_BUDGET, DEFAULT_SKETCH_ERROR
+from torqlog.signal.streamstats import DEFAULT_SKETCH_ERROR
 
 #: File endings read when a folder is given.
 LOG_SUFFIXES: tuple[str, ...] = (".csv", ".csv.gz", ".txt", ".parquet", ".pq")
@@ -176,7 +176,7 @@ class Grouping:
 
     calendar: ShiftCalendar
     by: str = "shift"
-    quantile_budget: int = DEFAULT_QUANTILE_BUDGET
+    quantile_budget: int = TREND_QUANTILE_BUDGET
     sketch_error: float = DEFAULT_SKETCH_ERROR
     parts: str | None = None
 

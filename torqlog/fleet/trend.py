@@ -40,6 +40,7 @@ from torqlog.fleet.control import (
 )
 from torqlog.fleet.groupstats import (
     BLOCK_COLUMNS,
+    TREND_QUANTILE_BUDGET,
     GroupStats,
     fold,
     group_table,
@@ -49,7 +50,7 @@ from torqlog.fleet.groupstats import (
 from torqlog.fleet.shifts import ShiftCalendar
 from torqlog.io.notebook import result_html
 from torqlog.signal.cycles import CycleOptions
-from torqlog.signal.streamstats import DEFAULT_QUANTILE_BUDGET, DEFAULT_SKETCH_ERROR
+from torqlog.signal.streamstats import DEFAULT_SKETCH_ERROR
 
 #: Ways to group cycles into rows.
 GROUP_BY: tuple[str, ...] = ("shift", "day", "file", "hour")
@@ -101,7 +102,7 @@ def combine(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
 
 
 def group_cycles(cycles: pd.DataFrame, calendar: ShiftCalendar, by: str = "shift", *,
-                 quantile_budget: int = DEFAULT_QUANTILE_BUDGET,
+                 quantile_budget: int = TREND_QUANTILE_BUDGET,
                  sketch_error: float = DEFAULT_SKETCH_ERROR
                  ) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Put each cycle in a group and reduce every group to one row.
@@ -556,7 +557,7 @@ def trend_table(cycles: pd.DataFrame, calendar: ShiftCalendar, *, by: str = "shi
         t = t.tz_localize(calendar.zone, ambiguous=np.ones(len(t), dtype=bool),
                           nonexistent="shift_forward")
     c["start_time"] = t.tz_convert("UTC")
-    stats = _fold_table(c.reset_index(drop=True), calendar, by, DEFAULT_QUANTILE_BUDGET,
+    stats = _fold_table(c.reset_index(drop=True), calendar, by, TREND_QUANTILE_BUDGET,
                         DEFAULT_SKETCH_ERROR)[0]
     files = files or []
     any_tz = any(f.get("tz_given") for f in files) if files else not naive
@@ -636,7 +637,7 @@ def run_trend(jobs: Sequence[FileJob], calendar: ShiftCalendar, *, by: str = "sh
               workers: int | None = None, client: Any = None,
               progress: Callable[[], None] | None = None,
               missing: Sequence[dict[str, str]] = (), cycles_path: str | Path | None = None,
-              quantile_budget: int = DEFAULT_QUANTILE_BUDGET,
+              quantile_budget: int = TREND_QUANTILE_BUDGET,
               sketch_error: float = DEFAULT_SKETCH_ERROR) -> TrendResult:
     """Run the batch and build the trend.
 
