@@ -268,6 +268,73 @@ def test_summary_only_and_failed_run_leaves_no_file(flagged_log, tmp_path):
     w.start("x.csv", {})
     w.write({k: np.zeros(3) for k in COLUMNS} | {"flag": np.array(["", "", ""])})
     w._flush(w.batch.take())
-    assert len(list(tmp_path.glob(".out.json.*.part"))) == 1
+    assert len(list(tmp_path.glob(".out.json.*.tmp"))) == 1
     w.abort()
     assert not target.exists() and list(tmp_path.glob(".out.json.*")) == []
+
+
+# --------------------------------------------------------------------------- held blocks
+def _blocks(rng, n_blocks):
+    """Blocks of 1..40 cycles, about a third flagged (numbers run 1..n)."""
+    out, c = [], 1
+    for _ in range(n_blocks):
+        m = int(rng.integers(1, 40))
+        flag = np.where(rng.random(m) < 0.35, "gap", "").astype(object)
+        out.append({"cycle": np.arange(c, c + m), "flag": flag,
+                    "anomaly": np.zeros(m, dtype=bool), "anomaly_score": np.full(m, np.nan)})
+        c += m
+    return out
+
+
+@pytest.mark.parametrize("memory_rows", [10**6, 25])
+def test_held_blocks_get_their_scores_in_order_spilled_or_not(memory_rows):
+    # the shape model learns after `learn` clean cycles: every block before that waits,
+    # then each block waits only for its own scores; the released rows must carry the
+    # scores of exactly their cycles, in cycle order (reference: the scores set by index)
+    from torqlog.signal.cycle_table import ScoredBlocks
+
+    rng = np.random.default_rng(3)
+    blocks = _blocks(rng, 60)
+    got = []
+    join = ScoredBlocks(got.append, memory_rows=memory_rows)
+    truth = {}
+    learn, buffered, waiting_scores = 120, [], True
+    for b in blocks:
+        join.add(b)
+        clean = b["cycle"][b["flag"] == ""]
+        sc = rng.random(clean.size) * 1.4
+        truth.update(zip(clean.tolist(), sc.tolist(), strict=True))
+        if waiting_scores:
+            buffered.append((clean, sc))
+            if sum(c.size for c, _ in buffered) >= learn:
+                join.add_scores(buffered)
+                waiting_scores = False
+        else:
+            join.add_scores([(clean, sc)])
+        if not waiting_scores:  # once learned, nothing is left waiting after a chunk
+            assert join.held == []
+    join.close()
+    rows = {k: np.concatenate([g[k] for g in got]) for k in got[0]}
+    n = sum(b["cycle"].size for b in blocks)
+    assert rows["cycle"].tolist() == list(range(1, n + 1))
+    want = np.array([truth.get(c, np.nan) for c in range(1, n + 1)])
+    np.testing.assert_array_equal(rows["anomaly_score"], want)
+    np.testing.assert_array_equal(rows["anomaly"], want > 1.0)
+    assert join.scored == len(truth) and join.abnormal == int((want > 1.0).sum())
+    assert (join.spilled_blocks > 0) == (memory_rows == 25)
+    assert join.rows_in_memory == 0 and join.pending == []
+
+
+def test_held_blocks_pass_at_once_when_no_score_will_come():
+    from torqlog.signal.cycle_table import ScoredBlocks
+
+    blocks = _blocks(np.random.default_rng(4), 5)
+    got = []
+    join = ScoredBlocks(got.append, memory_rows=10)
+    for b in blocks[:3]:
+        join.add(b)
+    assert got == [] and join.spilled_blocks >= 1  # waiting for a model, spilled
+    join.stop_waiting()  # the model could not be learned
+    join.add(blocks[3])
+    assert [g["cycle"][0] for g in got] == [b["cycle"][0] for b in blocks[:4]]
+    assert all(np.isnan(g["anomaly_score"]).all() for g in got)

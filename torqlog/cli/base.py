@@ -257,12 +257,17 @@ def _store(key: str) -> Callable[[click.Context, click.Parameter, Any], Any]:
     return callback
 
 
-def output_options(f: Callable) -> Callable:
+def output_options(f: Callable | None = None, *, formats: tuple[str, ...] = FORMATS
+                   ) -> Callable:
     """Add ``--format``, ``-o/--output`` and the unit/precision options to a command.
 
     ``--units``, ``--digits``, ``--full-precision`` and ``--units-row`` are read by
-    :func:`emit` (through :func:`output_settings`), not passed to the command.
+    :func:`emit` (through :func:`output_settings`), not passed to the command. Used bare
+    (``@output_options``) or with the command's own ``formats``
+    (``@output_options(formats=...)``).
     """
+    if f is None:
+        return lambda g: output_options(g, formats=formats)
     f = click.option("--units-row", is_flag=True, default=None, expose_value=False,
                      callback=_store("units_row"),
                      help="CSV: a second line with each column's unit.")(f)
@@ -278,7 +283,7 @@ def output_options(f: Callable) -> Callable:
                           "ksi, lb, hp, rpm)  [default: si, or the profile].")(f)
     f = click.option("-o", "--output", "output", type=click.Path(dir_okay=False),
                      default=None, help="Write the result to this file instead of stdout.")(f)
-    f = click.option("--format", "fmt", type=click.Choice(FORMATS), default="table",
+    f = click.option("--format", "fmt", type=click.Choice(formats), default="table",
                      show_default=True, help="Output format.")(f)
     return f
 
