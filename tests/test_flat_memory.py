@@ -338,3 +338,45 @@ def test_held_blocks_pass_at_once_when_no_score_will_come():
     join.add(blocks[3])
     assert [g["cycle"][0] for g in got] == [b["cycle"][0] for b in blocks[:4]]
     assert all(np.isnan(g["anomaly_score"]).all() for g in got)
+
+
+def test_shape_monitor_keeps_only_flagged_cycles_and_gives_the_dense_runs():
+    # the run analysis (isolated / recurring / sustained) from the flagged cycles alone
+    # must equal flag_runs over every scored cycle (the dense reference), also after a
+    # bounded watch forgets old cycles
+    from torqlog.signal import anomaly as an
+
+    rng = np.random.default_rng(5)
+    x = np.linspace(0, TWO_PI, 36, endpoint=False)
+    normal = 100 + 40 * np.sin(x)
+
+    def cycles(n, bad):
+        c = normal + rng.normal(0, 1.0, (n, 36)) + rng.normal(0, 2.0, (n, 1)) * np.cos(x)
+        c[bad] += 25 * np.exp(-((x - 2.0) ** 2) / 0.05)  # a dent at 115°
+        return c
+
+    model = an.fit_model({"torque": cycles(400, np.zeros(400, bool))}, duration=0.5)
+    mon = an.ShapeMonitor(an.AnomalyOptions(), 1, {"torque"}, model)
+    n = 900
+    bad = np.zeros(n, bool)
+    bad[100:700:9] = True     # recurring first
+    bad[820:] = True          # then sustained to the end
+    curves = cycles(n, bad)
+    cyc = np.arange(1, n + 1)
+    ts = cyc * 0.5
+    scores = []
+    for lo in range(0, n, 64):  # in chunks, as the engine hands them over
+        sl = slice(lo, lo + 64)
+        scores += mon.push(cyc[sl], ts[sl], np.full(cyc[sl].size, 0.5),
+                           {"torque": curves[sl]})
+    flagged = np.concatenate([s for _, s in scores]) > 1.0
+    assert flagged[bad].all()
+    dense = an.flag_runs(flagged, cyc, ts)
+    assert dense["pattern"] == "sustained" and dense["from_cycle"] <= 821
+    assert mon.result().runs == dense
+    mon.compact(0)
+    pos, fc, _ = mon.flags_all[0]
+    assert mon.window_n == n and pos.tolist() == np.flatnonzero(flagged).tolist()
+    assert fc.tolist() == cyc[flagged].tolist() and pos.size < n / 5  # the flagged alone
+    mon.forget(150)
+    assert mon.result().runs == an.flag_runs(flagged[-150:], cyc[-150:], ts[-150:])
