@@ -116,12 +116,24 @@ def to_csv_text(table: pd.DataFrame, *, digits: int | None = DEFAULT_DIGITS,
     if digits is not None and not 1 <= int(digits) <= 17:
         raise UsageError(f"--digits must be 1 to 17, got {digits}")
     fmt = None if digits is None else f"%.{int(digits)}g"
-    body = table.to_csv(index=False, float_format=fmt, lineterminator="\n", header=header)
-    if not units_row or not header:
+    body = table.to_csv(index=False, float_format=fmt, lineterminator="\n", header=False)
+    if not header:
         return body
-    header, _, rest = body.partition("\n")
-    units = ",".join(_csv_cell(u) for u in column_units(list(table.columns), system))
-    return f"{header}\n{units}\n{rest}"
+    return csv_header(list(table.columns), units_row=units_row, system=system) + body
+
+
+def csv_header(columns: list[str], *, units_row: bool = False, system: str = "si") -> str:
+    """The header line of a CSV table (and its units row under it), as
+    :func:`to_csv_text` writes them."""
+    import csv
+    import io
+
+    out = io.StringIO()
+    csv.writer(out, lineterminator="\n").writerow([str(c) for c in columns])  # as pandas
+    head = out.getvalue()
+    if not units_row:
+        return head
+    return head + ",".join(_csv_cell(u) for u in column_units(columns, system)) + "\n"
 
 
 def _csv_cell(text: str) -> str:
