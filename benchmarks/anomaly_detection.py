@@ -19,7 +19,7 @@ import numpy as np
 
 from torqlog.demo.simulate import FAULTS, Fault, simulate, truth_cycles, write_log
 from torqlog.signal import anomaly as an
-from torqlog.signal.cycles import CycleOptions, analyse_cycles
+from torqlog.signal.cycles import CycleOptions, analyse_cycles, shape_model_from_log
 
 PLAN = {  # machine: (revs, rate Hz, reference s, healthy s, fault s, faults)
     "compressor": (1, 1000.0, 120.0, 240.0, 60.0, ["valve-leak"]),
@@ -52,7 +52,7 @@ def main() -> None:
             continue
         o = CycleOptions(revs_per_cycle=revs)
         ref = write_log(simulate(machine, duration=t_ref, rate=rate, seed=1), d / "ref.csv")
-        model = an.model_from_log(ref, o)
+        model = shape_model_from_log(ref, o)
         ok = write_log(simulate(machine, duration=t_ok, rate=rate, seed=2), d / "ok.csv")
         m = {"model": model.summary(), "healthy": rates(ok, o, model)}
         for name in faults:

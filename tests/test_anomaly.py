@@ -13,7 +13,7 @@ from scipy import stats
 from torqlog.demo.simulate import Fault, simulate, truth_cycles, write_log
 from torqlog.errors import DataError
 from torqlog.signal import anomaly as an
-from torqlog.signal.cycles import CycleOptions, analyse_cycles
+from torqlog.signal.cycles import CycleOptions, analyse_cycles, shape_model_from_log
 
 NB = 36
 ANG = np.linspace(0.0, 2.0 * np.pi, NB, endpoint=False)
@@ -163,7 +163,7 @@ def test_simulated_faults_detected(logs, key: str, ref: str, revs: int) -> None:
     # flagged at the default severity, few false alarms (the full campaign with ≥ 2000
     # healthy cycles is benchmarks/anomaly_detection.py).
     o = CycleOptions(revs_per_cycle=revs)
-    model = an.model_from_log(logs[ref][0], o)
+    model = shape_model_from_log(logs[ref][0], o)
     res = analyse_cycles(logs[key][0], o, shape_model=model)
     c = res.columns
     truth, touched = truth_cycles(logs[key][1].options["fault"]["events"], c["t_start_s"],
@@ -189,10 +189,10 @@ def test_self_learned_model_finds_valve_leak_window(logs) -> None:
 
 
 def test_reference_of_another_machine_refused(logs) -> None:
-    model = an.model_from_log(logs["healthy_p"][0])
+    model = shape_model_from_log(logs["healthy_p"][0])
     with pytest.raises(DataError, match=r"reference cycles last .* s, this log's .* another"):
         analyse_cycles(logs["leak"][0], shape_model=model)
-    eng = an.model_from_log(logs["healthy_e"][0], CycleOptions(revs_per_cycle=2))
+    eng = shape_model_from_log(logs["healthy_e"][0], CycleOptions(revs_per_cycle=2))
     with pytest.raises(DataError, match="2 rev per cycle .* has 1"):
         analyse_cycles(logs["leak"][0], shape_model=eng)
 
@@ -203,7 +203,7 @@ def test_short_log_gets_a_note_not_scores(tmp_path) -> None:
     assert np.isnan(res.columns["anomaly_score"]).all()
     assert any("cycle shape not checked" in n and "at least 40" in n for n in res.notes)
     with pytest.raises(DataError, match=r"cannot serve as shape reference: \d+ clean cycles"):
-        an.model_from_log(p)
+        shape_model_from_log(p)
 
 
 def test_abnormal_effect_on_design_energy_swing() -> None:

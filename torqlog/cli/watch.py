@@ -44,6 +44,7 @@ def shape_kwargs(log: str, kw: dict[str, Any]) -> dict[str, Any]:
     """
     from torqlog.errors import UsageError
     from torqlog.signal import anomaly as an
+    from torqlog.signal.cycles import shape_model_from_log
 
     ref, path = kw.pop("reference"), kw.pop("shape_model")
     off = kw.pop("no_shape_check")
@@ -58,7 +59,7 @@ def shape_kwargs(log: str, kw: dict[str, Any]) -> dict[str, Any]:
         peek = dict(kw)
         profile = load_profile_opt(peek.pop("profile", None))
         read = read_kwargs(peek)
-        model = an.model_from_log(ref, make_cycle_options(peek, profile), ao, **read)
+        model = shape_model_from_log(ref, make_cycle_options(peek, profile), ao, **read)
     if off:
         return {"anomaly": False}
     return {"anomaly": ao, "shape_model": model}

@@ -112,8 +112,7 @@ def find_demo_fault(out_dir: str | Path) -> dict[str, object]:
 
     from torqlog.demo.simulate import Fault, simulate, write_log, write_truth
     from torqlog.present.plots import plot_anomaly
-    from torqlog.signal.anomaly import model_from_log
-    from torqlog.signal.cycles import analyse_cycles
+    from torqlog.signal.cycles import analyse_cycles, shape_model_from_log
 
     folder = Path(out_dir) / "compressor-fault"
     folder.mkdir(parents=True, exist_ok=True)
@@ -124,7 +123,7 @@ def find_demo_fault(out_dir: str | Path) -> dict[str, object]:
                    fault=Fault("valve-leak", seed=5))
     path = write_log(log, folder / "compressor_valve_leak.csv")
     truth = write_truth(log, folder / "compressor_valve_leak.truth.json")
-    res = analyse_cycles(path, shape_model=model_from_log(ref))
+    res = analyse_cycles(path, shape_model=shape_model_from_log(ref))
     plot = plot_anomaly(res.anomaly, folder / "shape_anomalies.png")
     out = folder / "shape_anomalies.json"
     out.write_text(json.dumps(res.anomaly.to_dict(), indent=1, default=float) + "\n",

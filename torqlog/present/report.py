@@ -32,11 +32,12 @@ References
 from __future__ import annotations
 
 import base64
+import contextlib
 import hashlib
 import importlib.util
 import math
 import tempfile
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
@@ -380,40 +381,85 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
 
     if not logs:
         raise UsageError("give at least one log file")
+    with _figure_folder(figure_dir) as out:
+        return _build(logs, profile, cycle_options, dict(read or {}), target_cs, quantile,
+                      seed, out, trend, survey, dict(extra or {}))
+
+
+@contextlib.contextmanager
+def _figure_folder(figure_dir: str | Path | None) -> Iterator[Path]:
+    """The folder for the figures: the one given (created), else a temporary one."""
     if figure_dir is None:
         with tempfile.TemporaryDirectory(prefix="torqlog-report-") as tmp:
-            return _build(logs, profile, cycle_options, dict(read or {}), target_cs,
-                          quantile, seed, Path(tmp), trend, survey, dict(extra or {}))
+            yield Path(tmp)
+        return
     out = Path(figure_dir)
     out.mkdir(parents=True, exist_ok=True)
-    return _build(logs, profile, cycle_options, dict(read or {}), target_cs, quantile, seed,
-                  out, trend, survey, dict(extra or {}))
+    yield out
 
 
 def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_options: Any,
            read: dict[str, Any], target_cs: float | None, quantile: float | str, seed: int,
            fig_dir: Path, with_trend: bool, with_survey: bool,
            extra: dict[str, Any]) -> ReportData:
-    from concurrent.futures import ThreadPoolExecutor
-
+    """Run the stages in order and collect their JSON, figures and skip reasons."""
     from torqlog.io.profile import MachineProfile, load_profile
-    from torqlog.signal.cycles import analyse_cycles, options_from_profile
-    from torqlog.signal.survey import survey_log
+    from torqlog.signal.cycles import options_from_profile
 
     prof = load_profile(profile_path) if profile_path else MachineProfile()
     opts = cycle_options if cycle_options is not None else options_from_profile(prof)
     machine = prof.machine.get("name") or (Path(profile_path).stem if profile_path
                                            else Path(logs[0]).stem)
-    notes: list[str] = []
     skipped: dict[str, str] = {}
     figures: list[ReportFigure] = []
+    entries, results, failed = _read_logs(logs, opts, read, with_survey, skipped)
+    logs = [e["path"] for e in entries]
+    design = results[0]
+    _return_freed_memory()
+
+    notes = _design_notes(design, logs)
+    _measured_figures(design, prof, target_cs, quantile, fig_dir, figures)
+    spectrum = _order_spectrum(design, prof, fig_dir, figures, skipped)
+    size, _ = _run_sizing(design, prof, target_cs, quantile, seed, fig_dir, figures, skipped)
+    fw_res, fw, fw_options, material_choice = _run_flywheel(
+        prof, size, design, profile_path, fig_dir, figures, skipped)
+    shaft = _run_shaft(prof, design, spectrum, fw_res, fig_dir, figures, skipped)
+    trend = None
+    if len(logs) > 1 and with_trend:
+        if _trend_available():
+            trend = _run_trend(logs, prof, opts, read, machine, fig_dir, figures, skipped)
+        else:
+            skipped["trend"] = "no trend: this torqlog has no trend module"
+
+    cautions = collect_cautions([size, fw, shaft], flywheel=fw is not None or bool(fw_options))
+    options = _report_options(design, logs, read, quantile, seed, with_survey, target_cs,
+                              size=size, flywheel=fw, shaft=shaft, trend=trend)
+    return ReportData(
+        machine=str(machine), profile=_profile_record(profile_path),
+        logs=entries, spectrum=_plain(spectrum.to_dict()) if spectrum is not None else None,
+        size=size, flywheel=fw, shaft=shaft, trend=trend, skipped=skipped,
+        options=_plain(options), figures=figures, cautions=cautions, notes=notes,
+        version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
+        flywheel_options=fw_options, material_choice=material_choice,
+        extra=_plain(_with_anomalies(extra, design)), cs_p90=_cs_p90(design),
+        failed_logs=failed)
+
+
+def _read_logs(logs: Sequence[str | Path], opts: Any, read: dict[str, Any],
+               with_survey: bool, skipped: dict[str, str]
+               ) -> tuple[list[dict[str, Any]], list[Any], list[dict[str, str]]]:
+    """The one pass over each log's samples: (log entries, cycle results, failed logs)."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    from torqlog.signal.cycles import analyse_cycles
+    from torqlog.signal.survey import survey_log
 
     entries: list[dict[str, Any]] = []
-    results = []
+    results: list[Any] = []
     failed: list[dict[str, str]] = []
-    # The one pass over each log's samples; the file hash runs in a thread beside it
-    # (hashlib releases the GIL). The pass's freed buffers go back to the system before
-    # the sizing and plotting, so the report's peak stays near that of one pass.
+    # The file hash runs in a thread beside the pass (hashlib releases the GIL). The
+    # pass's freed buffers go back to the system before the sizing and plotting, so the
+    # report's peak stays near that of one pass.
     with ThreadPoolExecutor(max_workers=2) as pool:
         # the sizing and plotting libraries load beside the pass (mostly while pyarrow
         # parses, which releases the GIL); they are used only after it
@@ -438,25 +484,32 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
     if not results:
         raise DataError("no log could be used: "
                         + "; ".join(f["reason"] for f in failed))
-    logs = [e["path"] for e in entries]
-    design = results[0]
-    _return_freed_memory()
+    return entries, results, failed
 
-    from torqlog.present import plots
-    from torqlog.shaft.check import check_shaft
-    from torqlog.signal.spectrum import mean_cycle_spectrum
-    from torqlog.sizing.inertia import size_log, size_log_dict
 
+def _cs_p90(design: Any) -> float | None:
+    """Worst-decile (90th percentile) Cs of the design log's clean cycles."""
     ok = design.columns["flag"].astype(str) == ""
     cs_clean = design.columns["cs"].astype(float)[ok]
     cs_clean = cs_clean[np.isfinite(cs_clean)]
-    cs_p90 = float(np.quantile(cs_clean, 0.9)) if cs_clean.size else None
+    return float(np.quantile(cs_clean, 0.9)) if cs_clean.size else None
+
+
+def _design_notes(design: Any, logs: Sequence[str]) -> list[str]:
+    """Notes for the reader: which log the design uses, and the design log's own notes."""
+    notes: list[str] = []
     if len(logs) > 1:
         notes.append(f"{len(logs)} logs: the recommendation, flywheel and shaft checks are "
                      f"from the first, {Path(logs[0]).name}; every log is in the summary.")
-    notes += [f"{Path(design.source).name}: {n}" for n in design.notes]
+    return notes + [f"{Path(design.source).name}: {n}" for n in design.notes]
 
-    # --- measured state
+
+def _measured_figures(design: Any, prof: Any, target_cs: float | None,
+                      quantile: float | str, fig_dir: Path,
+                      figures: list[ReportFigure]) -> None:
+    """The figures of the measured state: cycles over the angle, and the distributions."""
+    from torqlog.present import plots
+
     figures.append(_figure("cycles", "measured", "Torque, E(θ) and speed over the cycle",
                            "Every clean cycle faint, the mean cycle bold. E(θ) is the energy "
                            "above the mean torque; its range over the cycle is the energy "
@@ -468,28 +521,43 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
                                  target_cs=target_cs or prof.machine.get("target_cs"),
                                  quantile=quantile,
                                  title=f"Distributions over {Path(design.source).name}")))
-    spectrum = None
+
+
+def _order_spectrum(design: Any, prof: Any, fig_dir: Path, figures: list[ReportFigure],
+                    skipped: dict[str, str]) -> Any:
+    """The order spectrum of the design log's mean-cycle torque and its figure, or None."""
     has_torque = "torque" in design.layout.roles and \
         bool(np.isfinite(design.mean_cycle["torque_mean"].to_numpy(float)).all())
-    if has_torque:
-        spectrum = mean_cycle_spectrum(design)
-        min_share = prof.torsional.get("min_share", 0.05)
-        figures.append(_figure(
-            "spectrum", "measured", "Order spectrum of the torque",
-            "Which multiples of the shaft speed drive the machine; the significant orders "
-            "are held against the shaft's natural frequencies.",
-            plots.plot_order_spectrum(spectrum, fig_dir / "spectrum.png",
-                                      min_share=min_share,
-                                      speed_rpm=design.summary["speed_mean_rpm"])))
-    else:
+    if not has_torque:
         skipped["spectrum"] = (
             "the design log has no torque channel, so no order spectrum"
             if "torque" not in design.layout.roles else
             f"the design log has no clean cycle to average (flagged: "
             f"{', '.join(f'{k} {v}' for k, v in design.summary['flags'].items())}), so no "
             "order spectrum")
+        return None
+    from torqlog.present import plots
+    from torqlog.signal.spectrum import mean_cycle_spectrum
 
-    # --- recommendation
+    spectrum = mean_cycle_spectrum(design)
+    min_share = prof.torsional.get("min_share", 0.05)
+    figures.append(_figure(
+        "spectrum", "measured", "Order spectrum of the torque",
+        "Which multiples of the shaft speed drive the machine; the significant orders "
+        "are held against the shaft's natural frequencies.",
+        plots.plot_order_spectrum(spectrum, fig_dir / "spectrum.png",
+                                  min_share=min_share,
+                                  speed_rpm=design.summary["speed_mean_rpm"])))
+    return spectrum
+
+
+def _run_sizing(design: Any, prof: Any, target_cs: float | None, quantile: float | str,
+                seed: int, fig_dir: Path, figures: list[ReportFigure],
+                skipped: dict[str, str]) -> tuple[dict[str, Any] | None, Any]:
+    """The recommendation (``size`` JSON and result) and the drive-curve figure."""
+    from torqlog.present import plots
+    from torqlog.sizing.inertia import size_log, size_log_dict
+
     size = size_res = None
     try:
         size_res = size_log(design, prof, target_cs=target_cs, quantile=quantile, seed=seed)
@@ -504,89 +572,95 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
             plots.plot_drive_curve(size_res.to_pandas(), fig_dir / "drive.png",
                                    target_cs=size_res.target_cs,
                                    recommended=size_res.added_inertia)))
+    return size, size_res
 
-    # --- flywheel
-    fw = fw_res = None
-    fw_options: list[dict[str, Any]] = []
-    material_choice = ""
+
+def _run_flywheel(prof: Any, size: dict[str, Any] | None, design: Any,
+                  profile_path: str | Path | None, fig_dir: Path,
+                  figures: list[ReportFigure], skipped: dict[str, str]
+                  ) -> tuple[Any, dict[str, Any] | None, list[dict[str, Any]], str]:
+    """The flywheel proposal (result, JSON, compared materials, why this material) and
+    its stress figure; nothing when the sizing asks for no added inertia."""
     if size is None:
         skipped["flywheel"] = "no flywheel proposal: the sizing did not run"
-    elif not (size["added_inertia_kgm2"] or 0.0) > 0:
+        return None, None, [], ""
+    if not (size["added_inertia_kgm2"] or 0.0) > 0:
         skipped["flywheel"] = ("no flywheel proposal: no inertia needs adding"
                                if size["added_inertia_kgm2"] == 0.0 else
                                "no flywheel proposal: the existing inertia is unknown, so "
                                "the inertia to add is unknown")
-    else:
-        fw_res, fw, fw_options, material_choice = _propose_flywheel(
-            prof, size, f"sizing of {design.source}", profile_path, skipped)
+        return None, None, [], ""
+    fw_res, fw, fw_options, material_choice = _propose_flywheel(
+        prof, size, f"sizing of {design.source}", profile_path, skipped)
     if fw_res is not None:
+        from torqlog.present import plots
+
         figures.append(_figure(
             "flywheel", "flywheel", "Flywheel stresses at the operating speed",
             "Radial and hoop stress across the disc, with the allowable stress and strength.",
             plots.plot_flywheel_stresses(fw_res, fig_dir / "flywheel.png")))
+    return fw_res, fw, fw_options, material_choice
 
-    # --- shaft
-    shaft = None
+
+def _run_shaft(prof: Any, design: Any, spectrum: Any, fw_res: Any, fig_dir: Path,
+               figures: list[ReportFigure], skipped: dict[str, str]) -> dict[str, Any] | None:
+    """The shaft check before and after the flywheel (``shaft`` JSON) and its figure."""
     if not prof.shaft:
         skipped["shaft"] = "no shaft check: the profile has no [shaft] section"
-    else:
-        ratio = float(prof.machine.get("flywheel_speed_ratio", 1.0))
-        add_mass = fw_res.mass if fw_res is not None else None
-        add_inertia = fw_res.inertia * ratio ** 2 if fw_res is not None else None
-        if add_inertia is not None and not prof.torsional:
-            add_inertia = None
-        mean_rpm = design.summary["speed_mean_rpm"]
-        try:
-            sh = check_shaft(prof, speed=mean_rpm / _RPM if mean_rpm else None, orders=spectrum,
-                             add_mass=add_mass, add_inertia=add_inertia,
-                             cycle_torque=(design.mean_cycle["torque_mean"].to_numpy(float)
-                                           if spectrum is not None else None))
-            shaft = _plain(sh.to_dict())
-            shaft["options"]["speed_source"] = ("mean speed of the design log" if mean_rpm
-                                                else "profile [machine] speed_rpm")
-            if add_inertia is not None:
-                shaft["options"]["add_inertia_referred_to"] = (
-                    f"the logged shaft (flywheel inertia × {ratio:g}²)")
-            figures.append(_figure(
-                "shaft", "shaft", "Shaft deflection, lateral modes and torque orders",
-                "Static deflection and the first lateral mode shapes; the measured torque "
-                "orders against the torsional natural frequencies.",
-                plots.plot_shaft(sh, fig_dir / "shaft.png", spectrum=spectrum)))
-        except TorqlogError as exc:
-            skipped["shaft"] = f"no shaft check: {exc}"
+        return None
+    from torqlog.present import plots
+    from torqlog.shaft.check import check_shaft
 
-    # --- trend
-    trend = None
-    if len(logs) > 1 and with_trend:
-        if _trend_available():
-            trend = _run_trend(logs, prof, opts, read, machine, fig_dir, figures, skipped)
-        else:
-            skipped["trend"] = "no trend: this torqlog has no trend module"
+    ratio = float(prof.machine.get("flywheel_speed_ratio", 1.0))
+    add_mass = fw_res.mass if fw_res is not None else None
+    add_inertia = fw_res.inertia * ratio ** 2 if fw_res is not None else None
+    if add_inertia is not None and not prof.torsional:
+        add_inertia = None
+    mean_rpm = design.summary["speed_mean_rpm"]
+    try:
+        sh = check_shaft(prof, speed=mean_rpm / _RPM if mean_rpm else None, orders=spectrum,
+                         add_mass=add_mass, add_inertia=add_inertia,
+                         cycle_torque=(design.mean_cycle["torque_mean"].to_numpy(float)
+                                       if spectrum is not None else None))
+        shaft = _plain(sh.to_dict())
+        shaft["options"]["speed_source"] = ("mean speed of the design log" if mean_rpm
+                                            else "profile [machine] speed_rpm")
+        if add_inertia is not None:
+            shaft["options"]["add_inertia_referred_to"] = (
+                f"the logged shaft (flywheel inertia × {ratio:g}²)")
+        figures.append(_figure(
+            "shaft", "shaft", "Shaft deflection, lateral modes and torque orders",
+            "Static deflection and the first lateral mode shapes; the measured torque "
+            "orders against the torsional natural frequencies.",
+            plots.plot_shaft(sh, fig_dir / "shaft.png", spectrum=spectrum)))
+    except TorqlogError as exc:
+        skipped["shaft"] = f"no shaft check: {exc}"
+        return None
+    return shaft
 
-    cautions = collect_cautions([size, fw, shaft], flywheel=fw is not None or bool(fw_options))
-    options = {
+
+def _report_options(design: Any, logs: Sequence[str], read: dict[str, Any],
+                    quantile: float | str, seed: int, with_survey: bool,
+                    target_cs: float | None, **stages: dict[str, Any] | None
+                    ) -> dict[str, Any]:
+    """Every option that produced the report, by stage."""
+    size = stages["size"]
+    return {
         "cycles": design.options,
         "report": {"design_log": str(logs[0]), "quantile": quantile, "seed": seed,
                    "survey": with_survey,
                    "target_cs": size["target_cs"] if size else target_cs,
                    "read": {k: v for k, v in read.items() if v}},
-        "size": size["options"] if size else None,
-        "flywheel": fw["options"] if fw else None,
-        "shaft": shaft["options"] if shaft else None,
-        "trend": trend["options"] if trend else None,
+        **{name: (st["options"] if st else None) for name, st in stages.items()},
     }
-    extra = _with_anomalies(extra, results[0])
-    return ReportData(
-        machine=str(machine),
-        profile=({"path": str(profile_path), "sha256": file_sha256(profile_path),
-                  "text": Path(profile_path).read_text(encoding="utf-8")} if profile_path
-                 else {"path": None, "sha256": None, "text": ""}),
-        logs=entries, spectrum=_plain(spectrum.to_dict()) if spectrum is not None else None,
-        size=size, flywheel=fw, shaft=shaft, trend=trend, skipped=skipped,
-        options=_plain(options), figures=figures, cautions=cautions, notes=notes,
-        version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
-        flywheel_options=fw_options, material_choice=material_choice, extra=_plain(extra),
-        cs_p90=cs_p90, failed_logs=failed)
+
+
+def _profile_record(profile_path: str | Path | None) -> dict[str, Any]:
+    """``path``, ``sha256`` and ``text`` of the machine profile (all None/'' without one)."""
+    if not profile_path:
+        return {"path": None, "sha256": None, "text": ""}
+    return {"path": str(profile_path), "sha256": file_sha256(profile_path),
+            "text": Path(profile_path).read_text(encoding="utf-8")}
 
 
 def _propose_flywheel(prof: Any, size: dict[str, Any], source: str,
@@ -1178,13 +1252,13 @@ def _section_measured(d: ReportData) -> Section:
 
 
 def _section_recommendation(d: ReportData) -> Section:
+    """What to do: the model that answers, the bound beside it, the sizing and the motor."""
     z = d.size
     title = "What to do: inertia"
     if z is None:
         return Section("recommendation", title,
                        ((_clean_reason(d.skipped.get("size", "no sizing")),),),
                        _advice("target", "motor"))
-    r = _ratio(z)
     paras: list[tuple[Any, ...]] = []
     if z.get("model_reason"):
         paras.append((f"Answer from the {z.get('model')} model: {z['model_reason']}.",))
@@ -1195,6 +1269,20 @@ def _section_recommendation(d: ReportData) -> Section:
                             z["bound_constant_drive_required_inertia_kgm2"]),
                       " in all at the logged shaft; a motor that slows under load carries "
                       "part of each cycle itself, so the bound is the safe side.",))
+    tables = [Table("key-figures", "Sizing", ("Figure", "Value"), _sizing_rows(z))]
+    now = z.get("machine_now") or {}
+    if now:
+        tables.append(_motor_table(z))
+    advice = () if now.get("drive_torque_rms_share_of_rated") else _advice("motor")
+    return Section("recommendation", title, tuple(paras), advice, tuple(tables),
+                   tuple(d.figures_in("recommendation")),
+                   tuple(z.get("messages", [])) +
+                   tuple(f"Caution: {c}" for c in specific_cautions(z)))
+
+
+def _sizing_rows(z: Mapping[str, Any]) -> tuple[tuple[Cell, ...], ...]:
+    """Rows of the sizing table: target, design swing, inertia now, required, added."""
+    r = _ratio(z)
     ci = z["ci95_kgm2"]
     rows = [
         (Cell(label("target_cs")), _cell("size", "target_cs", z["target_cs"], unit=False)),
@@ -1219,24 +1307,22 @@ def _section_recommendation(d: ReportData) -> Section:
                 "bound_constant_drive_required_inertia_kgm2"):
         if z.get(key) is not None:
             rows.append((Cell(label(key)), _cell("size", key, z[key], unit=False)))
-    tables = [Table("key-figures", "Sizing", ("Figure", "Value"), tuple(rows))]
+    return tuple(rows)
+
+
+def _motor_table(z: Mapping[str, Any]) -> Table:
+    """The machine now and with the added inertia: Cs, speeds, drive torque."""
     now, after = z.get("machine_now") or {}, z.get("machine_after") or {}
-    if now:
-        at = now.get("drive_torque_at", "drive")
-        keys = [k for k in ("cs", "speed_min_rpm", "speed_max_rpm", "drive_torque_rms_Nm",
-                            "drive_torque_peak_Nm", "drive_torque_rms_share_of_rated",
-                            "drive_torque_peak_share_of_rated") if k in now]
-        tables.append(Table(
-            "motor-table", f"The machine now and with the added inertia ({now.get('model')} "
-            "model, median cycle)", ("Figure", "Now", "After"), tuple(
-                (Cell(label_of(k).full + (f" (at the {at})" if "torque" in k else "")),
-                 _cell("size", f"machine_now.{k}", now.get(k), k, False),
-                 _cell("size", f"machine_after.{k}", after.get(k), k, False)) for k in keys)))
-    advice = () if now.get("drive_torque_rms_share_of_rated") else _advice("motor")
-    return Section("recommendation", title, tuple(paras), advice, tuple(tables),
-                   tuple(d.figures_in("recommendation")),
-                   tuple(z.get("messages", [])) +
-                   tuple(f"Caution: {c}" for c in specific_cautions(z)))
+    at = now.get("drive_torque_at", "drive")
+    keys = [k for k in ("cs", "speed_min_rpm", "speed_max_rpm", "drive_torque_rms_Nm",
+                        "drive_torque_peak_Nm", "drive_torque_rms_share_of_rated",
+                        "drive_torque_peak_share_of_rated") if k in now]
+    return Table(
+        "motor-table", f"The machine now and with the added inertia ({now.get('model')} "
+        "model, median cycle)", ("Figure", "Now", "After"), tuple(
+            (Cell(label_of(k).full + (f" (at the {at})" if "torque" in k else "")),
+             _cell("size", f"machine_now.{k}", now.get(k), k, False),
+             _cell("size", f"machine_after.{k}", after.get(k), k, False)) for k in keys))
 
 
 #: Logs shown side by side in the summary table (the rest are in the trend).

@@ -789,40 +789,6 @@ def learn_model(fine: dict[str, np.ndarray], options: AnomalyOptions, revs_per_c
                      template=template)
 
 
-def model_from_log(path: str | Path, cycle_options: Any = None,
-                   options: AnomalyOptions | None = None, max_cycles: int = 2000,
-                   **read: Any) -> ShapeModel:
-    """Learn the shape model from a known-good reference log (its first clean cycles).
-
-    Parameters
-    ----------
-    path : str or Path
-        The reference log.
-    cycle_options : CycleOptions, optional
-    options : AnomalyOptions, optional
-    max_cycles : int
-        Most clean cycles learned from (a bounded buffer).
-    **read
-        Reading options, as for :func:`torqlog.signal.cycles.analyse_cycles`.
-
-    Raises
-    ------
-    DataError
-        Fewer clean cycles than the model needs, stating the count.
-    """
-    from dataclasses import replace
-
-    from torqlog.signal.cycles import analyse_cycles
-
-    o = options or AnomalyOptions()
-    res = analyse_cycles(path, cycle_options, anomaly=replace(o, learn_cycles=max_cycles),
-                         keep_rows=False, **read)
-    if res.shape_model is None:
-        why = res.anomaly.notes[0] if res.anomaly is not None and res.anomaly.notes else ""
-        raise DataError(f"{path}: cannot serve as shape reference: {why}")
-    return replace(res.shape_model, source=f"reference log {path}")
-
-
 def abnormal_effect(columns: dict[str, np.ndarray], quantile: float | str = 0.95
                     ) -> dict[str, Any] | None:
     """Whether the abnormal-shape cycles move the design energy swing.

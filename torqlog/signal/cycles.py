@@ -562,135 +562,177 @@ class _Stream:
         bounds_all = self.span * np.arange(self.next_m, m_last + 1, dtype=np.float64)
         seg = slice(0, last + 1)
         t, thv = buf["time"][seg], th[seg]
-        self._emit(buf, t, thv, bounds_all, n_emit, n_all)
+        self._emit(buf, t, thv, bounds_all, n_emit)
         cut = self.span * m_stop
         keep_from = max(int(np.searchsorted(thv, cut, side="right")) - 1, 0)
         self.carry = {k: v[keep_from:] for k, v in buf.items()}
         self.next_m = m_stop
 
     def _emit(self, buf: dict[str, np.ndarray], t: np.ndarray, th: np.ndarray,
-              bounds_all: np.ndarray, n_emit: int, n_all: int) -> None:
-        o = self.o
-        bounds = bounds_all[: n_emit + 1]
-        sg_all = en.Segments.build(th, bounds_all)
-        if np.any(sg_all.counts < 2):
-            raise DataError("fewer than two samples in a cycle: the sample rate is too low for "
-                            "this speed, or the cycle source is wrong")
+              bounds_all: np.ndarray, n_emit: int) -> None:
+        """Reduce the first ``n_emit`` complete cycles of ``buf`` to their figures and flags,
+        hand them on as one block, and add the clean ones to the mean cycle.
+
+        Steps: cut → time and mean speed → torque → sample faults → gaps → filtered
+        speed → length, quiet torque, unsteady speed → flags → block → mean cycle.
+        """
+        sg_all = self._segments(th, bounds_all)
         sg = sg_all.head(n_emit)
-        lo, stop, cid = sg.lo, sg.stop, sg.cid
+        bounds = bounds_all[: n_emit + 1]
         tb = np.interp(bounds, th, t)
         duration = np.diff(tb)
         w_mean = self.span / duration
         row: dict[str, np.ndarray] = {
             "t_start_s": tb[:-1], "duration_s": duration, "speed_mean": w_mean}
-        # flags: find the few offending samples, then the cycles they lie in
-        clipped = np.zeros(n_emit, dtype=bool)
+        tq, ce = self._torque_figures(buf, t, th, bounds, sg, row)
+        fault, clipped, frozen = self._sample_faults(buf, t, sg, n_emit)
+        gap = self._gap_check(t, sg, n_emit)
+        mine = self._speed_figures(buf, t, th, sg_all, bounds_all, n_emit, row,
+                                   angles_from_speed=tq is None)
+        length = self._length_check(duration)
+        if ce is not None and ("speed" not in self.has or "speed" in self.dead):
+            self._quiet_torque(ce, tb, fault)
+        unsteady = self._steady_check(w_mean)
+        if mine is not None:  # steady running ends a cycle at the speed it began with
+            unsteady |= np.abs(mine[:, -1] - mine[:, 0]) > health.UNSTEADY_TOL * w_mean
+        B = health.BITS
+        row["flag"] = _flag_text(n_emit, (
+            ("gap", gap), ("nan", (fault & B["nan"]) != 0), ("clipped", clipped),
+            *((k, (fault & B[k]) != 0) for k in
+              ("nonfinite", "spikes", "dropout", "stop", "reversal")),
+            ("frozen", frozen), ("length", length), ("unsteady", unsteady)))
+        row["cycle"] = self.cycle_no + 1 + np.arange(n_emit)
+        self.cycle_no += n_emit
+        self.on_block(row)
+        self._add_clean(buf, t, th, bounds, sg, tq, row)
+
+    @staticmethod
+    def _segments(th: np.ndarray, bounds_all: np.ndarray) -> en.Segments:
+        """The samples of each complete cycle; refuses a cycle of fewer than two samples."""
+        sg_all = en.Segments.build(th, bounds_all)
+        if np.any(sg_all.counts < 2):
+            raise DataError("fewer than two samples in a cycle: the sample rate is too low for "
+                            "this speed, or the cycle source is wrong")
+        return sg_all
+
+    def _torque_figures(self, buf: dict[str, np.ndarray], t: np.ndarray, th: np.ndarray,
+                        bounds: np.ndarray, sg: en.Segments, row: dict[str, np.ndarray]
+                        ) -> tuple[np.ndarray | None, Any]:
+        """Work, torque mean/peak/min, energy swing and the angles of least and most speed
+        into ``row``; returns (torque samples, cycle energy), or (None, None) without torque."""
         tq = buf.get("torque")
-        if tq is not None:
-            tq = tq[: len(t)]
-            # the emitted cycles end before sample ``stop``: integrate no further
-            end = min(stop + 1, len(t))
-            ce = en.cycle_energy(th[:end], tq[:end], bounds, sg)
-            row.update(work=ce.work, torque_mean=ce.torque_mean, torque_peak=ce.torque_peak,
-                       torque_min=ce.torque_min, energy_swing=ce.energy_swing)
-            if o.torque_role == "load":
-                row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_max, ce.angle_e_min
-            else:
-                row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_min, ce.angle_e_max
-        # sample faults (torqlog.signal.health bits): OR over each cycle's samples
+        if tq is None:
+            return None, None
+        tq = tq[: len(t)]
+        # the emitted cycles end before sample ``stop``: integrate no further
+        end = min(sg.stop + 1, len(t))
+        ce = en.cycle_energy(th[:end], tq[:end], bounds, sg)
+        row.update(work=ce.work, torque_mean=ce.torque_mean, torque_peak=ce.torque_peak,
+                   torque_min=ce.torque_min, energy_swing=ce.energy_swing)
+        if self.o.torque_role == "load":
+            row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_max, ce.angle_e_min
+        else:
+            row["angle_speed_min"], row["angle_speed_max"] = ce.angle_e_min, ce.angle_e_max
+        return tq, ce
+
+    def _sample_faults(self, buf: dict[str, np.ndarray], t: np.ndarray, sg: en.Segments,
+                       n_emit: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """The sample fault bits OR-ed over each cycle, and the clipped and frozen cycles."""
+        lo, stop = sg.lo, sg.stop
         fault_s = buf["fault"][lo:stop]
         fault = np.bitwise_or.reduceat(fault_s, sg.offsets)
+        clipped = np.zeros(n_emit, dtype=bool)
         frozen = np.zeros(n_emit, dtype=bool)
         for role in ("torque", "speed"):
             if role in self.has and role not in self.dead:
                 self._flat(buf[role][lo:stop], role, sg, fault_s, t[lo:stop], clipped,
                            frozen)
-        gap = np.zeros(n_emit, dtype=bool)
-        if self.dt is not None:  # a step longer than GAP_FACTOR median steps
-            limit = cond.GAP_FACTOR * self.dt
-            if lo == 0:
-                big = np.flatnonzero(np.diff(t[:stop]) > limit) + 1
-            else:
-                big = np.flatnonzero(np.diff(t[lo - 1:stop]) > limit)
-            # the cycle after the gap, and the one before when a boundary fell inside it
-            gap[cid[big]] = True
-            gap[cid[np.maximum(big - 1, 0)]] = True
-        # speed, per angle bin, low-passed in the angle domain
-        wmax = wmin = mine = None
-        sp_bins_all = None
-        bounds_sp = bounds_all
-        if "speed" in self.has or self.speed_from_angle:
-            if "speed" in self.has:
-                sp_bins_all = sg_all.bins(buf["speed"][: len(t)], self.nb_speed)
-            else:
-                sp_bins_all = en.speed_bins_from_angle(t, th, bounds_sp, self.nb_speed)
-            ctx = self.speed_ctx
-            series = sp_bins_all if ctx is None else np.vstack((ctx, sp_bins_all))
-            nctx = 0 if ctx is None else ctx.shape[0]
-            filled = en.fill_rows(series)
-            if o.speed_cutoff_orders > 0:
-                cutoff = o.speed_cutoff_orders / (self.nb_speed / 2.0)
-                smooth = cond.lowpass(filled.ravel(), cutoff).reshape(filled.shape)
-            else:
-                smooth = filled
-            mine = smooth[nctx: nctx + n_emit]
-            wmax, wmin = mine.max(axis=1), mine.min(axis=1)
-            self.speed_ctx = sp_bins_all[max(0, n_emit - 4): n_emit]
-            if tq is None:
-                centre = (np.arange(self.nb_speed) + 0.5) * self.span / self.nb_speed
-                row["angle_speed_min"] = centre[np.argmin(mine, axis=1)]
-                row["angle_speed_max"] = centre[np.argmax(mine, axis=1)]
-            row["speed_max"], row["speed_min"] = wmax, wmin
-        length = self._length_check(duration)
-        if tq is not None and ("speed" not in self.has or "speed" in self.dead):
-            # no speed to tell a stop by: a cycle whose torque hardly moves is not running
-            quiet = self._quiet(ce.torque_peak - ce.torque_min)
-            if quiet.any():
-                fault[quiet] |= health.BITS["stop"]
-                self.stretches.extend(
-                    (float(tb[k]), float(tb[k + 1]), "stop (torque quiet; no speed channel)")
-                    for k in np.flatnonzero(quiet))
-        unsteady = self._steady_check(w_mean)
-        if mine is not None:  # steady running ends a cycle at the speed it began with
-            unsteady |= np.abs(mine[:, -1] - mine[:, 0]) > health.UNSTEADY_TOL * w_mean
-        B = health.BITS
-        flags = np.full(n_emit, "", dtype=object)
-        for name, mask in (("gap", gap), ("nan", (fault & B["nan"]) != 0),
-                           ("clipped", clipped), *(
-                               (k, (fault & B[k]) != 0) for k in
-                               ("nonfinite", "spikes", "dropout", "stop", "reversal")),
-                           ("frozen", frozen), ("length", length),
-                           ("unsteady", unsteady)):
-            if mask.any():
-                flags[mask] = np.where(flags[mask] == "", name, flags[mask] + "+" + name)
-        row["flag"] = flags
-        row["cycle"] = self.cycle_no + 1 + np.arange(n_emit)
-        self.cycle_no += n_emit
-        self.on_block(row)
-        # mean cycle (clean cycles only) and curves for plots
-        clean = flags == ""
-        if clean.any():
-            bm = bounds
-            parts: dict[str, np.ndarray] = {}
-            if tq is not None:
-                parts["torque"] = en.fill_rows(sg.bins(tq, self.nb_mean, sequential=False))
-            if "speed" in self.has:
-                parts["speed"] = en.fill_rows(sg.bins(buf["speed"][: len(t)], self.nb_mean,
-                                                      sequential=False))
-            elif self.speed_from_angle:
-                parts["speed"] = en.fill_rows(en.speed_bins_from_angle(t, th, bm, self.nb_mean))
-            for k, a in parts.items():
-                a = a[clean]
-                self.moments.setdefault(k, RunningMoments()).add(a)
-                room = MAX_CURVES - self.n_curves
-                if room > 0:
-                    self.curves[k].append(a[:room])
-            if self.shape_sink is not None:
-                self.shape_sink(row["cycle"][clean], row["t_start_s"][clean],
-                                duration[clean], {k: a[clean] for k, a in parts.items()})
-            self.mean_n += int(clean.sum())
-            self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
+        return fault, clipped, frozen
 
+    def _gap_check(self, t: np.ndarray, sg: en.Segments, n_emit: int) -> np.ndarray:
+        """Cycles with a time step longer than GAP_FACTOR median steps: the cycle after the
+        gap, and the one before when a boundary fell inside it."""
+        gap = np.zeros(n_emit, dtype=bool)
+        if self.dt is None:
+            return gap
+        limit = cond.GAP_FACTOR * self.dt
+        lo, stop = sg.lo, sg.stop
+        if lo == 0:
+            big = np.flatnonzero(np.diff(t[:stop]) > limit) + 1
+        else:
+            big = np.flatnonzero(np.diff(t[lo - 1:stop]) > limit)
+        gap[sg.cid[big]] = True
+        gap[sg.cid[np.maximum(big - 1, 0)]] = True
+        return gap
+
+    def _speed_figures(self, buf: dict[str, np.ndarray], t: np.ndarray, th: np.ndarray,
+                       sg_all: en.Segments, bounds_all: np.ndarray, n_emit: int,
+                       row: dict[str, np.ndarray], angles_from_speed: bool
+                       ) -> np.ndarray | None:
+        """Speed per angle bin, low-passed in the angle domain: each emitted cycle's highest
+        and lowest speed into ``row`` (and where they fall, without torque); returns the
+        emitted cycles' filtered bins, or None without a speed."""
+        if "speed" not in self.has and not self.speed_from_angle:
+            return None
+        if "speed" in self.has:
+            sp_bins_all = sg_all.bins(buf["speed"][: len(t)], self.nb_speed)
+        else:
+            sp_bins_all = en.speed_bins_from_angle(t, th, bounds_all, self.nb_speed)
+        ctx = self.speed_ctx
+        series = sp_bins_all if ctx is None else np.vstack((ctx, sp_bins_all))
+        nctx = 0 if ctx is None else ctx.shape[0]
+        filled = en.fill_rows(series)
+        if self.o.speed_cutoff_orders > 0:
+            cutoff = self.o.speed_cutoff_orders / (self.nb_speed / 2.0)
+            smooth = cond.lowpass(filled.ravel(), cutoff).reshape(filled.shape)
+        else:
+            smooth = filled
+        mine = smooth[nctx: nctx + n_emit]
+        self.speed_ctx = sp_bins_all[max(0, n_emit - 4): n_emit]
+        if angles_from_speed:
+            centre = (np.arange(self.nb_speed) + 0.5) * self.span / self.nb_speed
+            row["angle_speed_min"] = centre[np.argmin(mine, axis=1)]
+            row["angle_speed_max"] = centre[np.argmax(mine, axis=1)]
+        row["speed_max"], row["speed_min"] = mine.max(axis=1), mine.min(axis=1)
+        return mine
+
+    def _quiet_torque(self, ce: Any, tb: np.ndarray, fault: np.ndarray) -> None:
+        """No speed to tell a stop by: a cycle whose torque hardly moves is not running
+        (marked as a stop in ``fault`` and listed as a non-running stretch)."""
+        quiet = self._quiet(ce.torque_peak - ce.torque_min)
+        if quiet.any():
+            fault[quiet] |= health.BITS["stop"]
+            self.stretches.extend(
+                (float(tb[k]), float(tb[k + 1]), "stop (torque quiet; no speed channel)")
+                for k in np.flatnonzero(quiet))
+
+    def _add_clean(self, buf: dict[str, np.ndarray], t: np.ndarray, th: np.ndarray,
+                   bounds: np.ndarray, sg: en.Segments, tq: np.ndarray | None,
+                   row: dict[str, np.ndarray]) -> None:
+        """The clean cycles of a block on the mean-cycle grid: into the running mean cycle,
+        the plot curves and the cycle-shape check."""
+        clean = row["flag"] == ""
+        if not clean.any():
+            return
+        parts: dict[str, np.ndarray] = {}
+        if tq is not None:
+            parts["torque"] = en.fill_rows(sg.bins(tq, self.nb_mean, sequential=False))
+        if "speed" in self.has:
+            parts["speed"] = en.fill_rows(sg.bins(buf["speed"][: len(t)], self.nb_mean,
+                                                  sequential=False))
+        elif self.speed_from_angle:
+            parts["speed"] = en.fill_rows(en.speed_bins_from_angle(t, th, bounds, self.nb_mean))
+        for k, a in parts.items():
+            a = a[clean]
+            self.moments.setdefault(k, RunningMoments()).add(a)
+            room = MAX_CURVES - self.n_curves
+            if room > 0:
+                self.curves[k].append(a[:room])
+        if self.shape_sink is not None:
+            self.shape_sink(row["cycle"][clean], row["t_start_s"][clean],
+                            row["duration_s"][clean], {k: a[clean] for k, a in parts.items()})
+        self.mean_n += int(clean.sum())
+        self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
 
     def _flat(self, x: np.ndarray, role: str, sg: en.Segments, fault: np.ndarray,
               t: np.ndarray, clipped: np.ndarray, frozen: np.ndarray) -> None:
@@ -753,6 +795,16 @@ class _Stream:
         ref = float(np.median(hist))
         self.durations = hist[-50:]
         return np.abs(duration / ref - 1.0) > health.CYCLE_LENGTH_TOL
+
+
+def _flag_text(n: int, masks: Any) -> np.ndarray:
+    """Each cycle's flag: the names of its faults joined by "+" in the order given ("" when
+    clean); ``masks`` is a sequence of (name, mask over the ``n`` cycles)."""
+    flags = np.full(n, "", dtype=object)
+    for name, mask in masks:
+        if mask.any():
+            flags[mask] = np.where(flags[mask] == "", name, flags[mask] + "+" + name)
+    return flags
 
 
 def _recycle_temporaries() -> None:
@@ -854,6 +906,95 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     reader = LogReader(path, block_rows=o.block_rows, roles=roles, units=units, rate=rate,
                        start=start, read_ahead=o.read_ahead)
     lay = reader.layout
+    plan = _plan(lay, o)
+    it = iter(reader)
+    first = next(it)
+    tracker, notes, extra = _tracker_for(plan.source, o, first, lay.path)
+    out = _Outputs(lay, o, plan, extra, keep_rows, sink, quantile_budget, sketch_error)
+    st = out.st = plan.stream(o, tracker, out.on_block)
+    monitor = _shape_monitor(st, o, anomaly, shape_model)
+    _run(reader, st, first, it, progress)
+    _check_cycle_count(st, lay.path, plan.source, o)
+    if monitor is not None:
+        st.shape_scores += monitor.finish()
+    notes += _reading_notes(lay, o, plan, st)
+    res = _assemble(out, st, monitor, notes)
+    if sink is not None:
+        sink.finish(res)
+    return res
+
+
+def shape_model_from_log(path: str | Path, cycle_options: CycleOptions | None = None,
+                         options: Any = None, max_cycles: int = 2000,
+                         **read: Any) -> Any:
+    """Learn the cycle-shape model from a known-good reference log (its first clean cycles).
+
+    The reference log runs through the same cycle engine as the logs it will judge, with
+    the shape check learning from up to ``max_cycles`` clean cycles; the model learned is
+    returned (:class:`torqlog.signal.anomaly.ShapeModel`, its ``source`` naming the log).
+
+    Parameters
+    ----------
+    path : str or Path
+        The reference log.
+    cycle_options : CycleOptions, optional
+    options : AnomalyOptions, optional
+        The shape check's options (:class:`torqlog.signal.anomaly.AnomalyOptions`).
+    max_cycles : int
+        Most clean cycles learned from [count] (a bounded buffer).
+    **read
+        Reading options, as for :func:`analyse_cycles`.
+
+    Returns
+    -------
+    ShapeModel
+
+    Raises
+    ------
+    DataError
+        Fewer clean cycles than the model needs, stating the count.
+    """
+    from dataclasses import replace
+
+    from torqlog.signal import anomaly as an
+
+    o = options or an.AnomalyOptions()
+    res = analyse_cycles(path, cycle_options, anomaly=replace(o, learn_cycles=max_cycles),
+                         **read)
+    if res.shape_model is None:
+        why = res.anomaly.notes[0] if res.anomaly is not None and res.anomaly.notes else ""
+        raise DataError(f"{path}: cannot serve as shape reference: {why}")
+    return replace(res.shape_model, source=f"reference log {path}")
+
+
+@dataclass(frozen=True)
+class _Plan:
+    """What a log holds and how its cycles are cut, chosen once from its layout."""
+
+    source: str  #: the cycle source (:data:`torqlog.signal.angle.CYCLE_SOURCES`)
+    has: frozenset[str]  #: the channels of {"torque", "speed"} present
+    speed_from_angle: bool  #: no speed channel: speed from a measured angle
+    nb_speed: int  #: speed bins per cycle for the filtered max − min
+    nb_mean: int  #: bins per cycle of the mean cycle and the curves
+
+    def stream(self, o: CycleOptions, tracker: ang.AngleTracker,
+               on_block: Callable[[dict[str, np.ndarray]], None] | None = None) -> _Stream:
+        """A cycle engine for this log."""
+        return _Stream(o, tracker, set(self.has), self.speed_from_angle, self.nb_mean,
+                       self.nb_speed, on_block)
+
+
+def speed_bins_per_cycle(o: CycleOptions) -> int:
+    """Speed bins per cycle [count]: 8 per order of the cut-off (32 to 2048), or two per
+    degree with the filter off."""
+    if o.speed_cutoff_orders:
+        return int(min(2048, max(32, 8 * o.speed_cutoff_orders)))
+    return 720 * o.revs_per_cycle
+
+
+def _plan(lay: Layout, o: CycleOptions) -> _Plan:
+    """The cycle source, channels and angle grids of a log; refuses a log with nothing
+    to compute."""
     roles_present = set(lay.roles)
     source = ang.pick_cycle_source(roles_present, nominal_speed=o.nominal_speed,
                                    forced=o.cycle_source, path=lay.path)
@@ -863,72 +1004,99 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                         "derive speed from): nothing to compute; name the columns with "
                         "--torque COL / --speed COL")
     speed_from_angle = "speed" not in has and source in ("angle", "counts")
-    it = iter(reader)
-    first = next(it)
-    tracker, notes, extra = _tracker_for(source, o, first, lay.path)
-    nb_speed = int(min(2048, max(32, 8 * o.speed_cutoff_orders))) if o.speed_cutoff_orders \
-        else 720 * o.revs_per_cycle
-    nb_mean = 360 * o.revs_per_cycle
-    stats = SummaryStream(quantile_budget, sketch_error)
-    store = ColumnStore() if keep_rows else None
-    # the running-segment and refusal checks read three columns of every cycle (17 bytes
-    # a cycle); without kept rows only those are stored
-    running = ColumnStore()
-    opts: dict[str, Any] = {}
-    started: list[bool] = []
+    return _Plan(source, frozenset(has), speed_from_angle, speed_bins_per_cycle(o),
+                 360 * o.revs_per_cycle)
 
-    def record() -> dict[str, Any]:  # every option that made the result
-        if not opts:
-            opts.update(asdict(o))
-            opts.update({"cycle_source": source, "speed_cutoff_bins_per_cycle": nb_speed,
-                         "angle_grid_bins": nb_mean,
-                         "sample_rate_hz": 1.0 / st.dt if st.dt else None, **extra,
-                         "quantile_budget_cycles": int(quantile_budget),
-                         "sketch_relative_error": float(sketch_error)})
-            opts.pop("block_rows")
-            opts.pop("read_ahead")
-        return opts
 
-    def on_block(row: dict[str, np.ndarray]) -> None:
-        block = _block_columns(row, lay, o, st.dead)
-        stats.add(block)
-        if store is not None:
-            store.add({k: v for k, v in block.items() if k != "start_time"})
+class _Outputs:
+    """Where each block of finished cycles goes — the running summary, the kept rows (or
+    only the columns the health checks read), the caller's sink — and the options record."""
+
+    def __init__(self, lay: Layout, o: CycleOptions, plan: _Plan, extra: dict[str, Any],
+                 keep_rows: bool, sink: CycleSink | None, quantile_budget: int,
+                 sketch_error: float) -> None:
+        self.lay, self.o, self.plan, self.extra, self.sink = lay, o, plan, extra, sink
+        self.budget, self.sketch_error = quantile_budget, sketch_error
+        self.stats = SummaryStream(quantile_budget, sketch_error)
+        self.store = ColumnStore() if keep_rows else None
+        # the running-segment and refusal checks read three columns of every cycle (17 bytes
+        # a cycle); without kept rows only those are stored
+        self.running = ColumnStore()
+        self.opts: dict[str, Any] = {}
+        self.started = False
+        self.st: _Stream | None = None  # the engine feeding this (its sample step, dead channels)
+
+    def record(self) -> dict[str, Any]:
+        """Every option that made the result (fixed at the first call)."""
+        if not self.opts:
+            dt = self.st.dt if self.st is not None else None
+            self.opts.update(asdict(self.o))
+            self.opts.update({"cycle_source": self.plan.source,
+                              "speed_cutoff_bins_per_cycle": self.plan.nb_speed,
+                              "angle_grid_bins": self.plan.nb_mean,
+                              "sample_rate_hz": 1.0 / dt if dt else None, **self.extra,
+                              "quantile_budget_cycles": int(self.budget),
+                              "sketch_relative_error": float(self.sketch_error)})
+            self.opts.pop("block_rows")
+            self.opts.pop("read_ahead")
+        return self.opts
+
+    def on_block(self, row: dict[str, np.ndarray]) -> None:
+        """A block of finished cycles: to the summary, the kept rows and the sink."""
+        dead = self.st.dead if self.st is not None else set()
+        block = _block_columns(row, self.lay, self.o, dead)
+        self.stats.add(block)
+        if self.store is not None:
+            self.store.add({k: v for k, v in block.items() if k != "start_time"})
         else:
-            running.add({k: block[k] for k in ("t_start_s", "duration_s", "flag")})
-        if sink is not None:
-            if not started:
-                started.append(True)
-                sink.start(lay.path, record())
-            sink.write(block)
+            self.running.add({k: block[k] for k in ("t_start_s", "duration_s", "flag")})
+        if self.sink is not None:
+            if not self.started:
+                self.started = True
+                self.sink.start(self.lay.path, self.record())
+            self.sink.write(block)
 
-    st = _Stream(o, tracker, has, speed_from_angle, nb_mean, nb_speed, on_block)
-    monitor = _shape_monitor(st, o, anomaly, shape_model)
+    def health_columns(self) -> dict[str, np.ndarray]:
+        """Start, duration and flag of every cycle (from the kept rows when kept)."""
+        return (self.store or self.running).columns()
+
+
+def _run(reader: LogReader, st: _Stream, first: Chunk, rest: Any,
+         progress: Callable[[float], None] | None) -> None:
+    """Feed every chunk to the engine (the last one marked final), reporting progress."""
     _recycle_temporaries()
     pending = first
     try:
-        for chunk in chain(it, [None]):
+        for chunk in chain(rest, [None]):
             st.feed(pending, final=chunk is None)
             pending = chunk
             if progress is not None:
                 progress(reader.fraction_read())
     except DataError as exc:  # the cycle stage does not know the file: name it here
-        raise naming_file(exc, lay.path) from None
+        raise naming_file(exc, reader.layout.path) from None
+
+
+def _check_cycle_count(st: _Stream, path: str, source: str, o: CycleOptions) -> None:
+    """Refuse a log of fewer than two complete cycles."""
     if st.cycle_no < 2:
-        raise DataError(f"{lay.path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
+        raise DataError(f"{path}: the log holds {st.cycle_no} complete cycle(s); at least 2 "
                         f"are needed — record a longer log (cycle source {source!r}, "
                         f"{o.revs_per_cycle} rev per cycle)")
-    if monitor is not None:
-        st.shape_scores += monitor.finish()
+
+
+def _reading_notes(lay: Layout, o: CycleOptions, plan: _Plan, st: _Stream) -> list[str]:
+    """What the reader should know about the channels: assumed units, missing channels,
+    filled samples, replaced spikes, dead sensors."""
+    notes = []
     for col in lay.columns:
         if col.role in ("time", "torque", "speed", "angle") and col.unit_source == "assumed":
             notes.append(f"column {col.name!r} states no unit: {col.role} taken as "
                          f"{col.unit}; if that is wrong give --{col.role}-unit")
-    if "torque" not in has:
+    if "torque" not in plan.has:
         notes.append("no torque channel: energy swing " + (
             "from ½·I·(ω_max² − ω_min²) with the given inertia" if o.inertia else
             "needs the inertia (--inertia or [machine] inertia_kgm2); left empty"))
-    if "speed" not in has and not speed_from_angle:
+    if "speed" not in plan.has and not plan.speed_from_angle:
         notes.append("no speed channel (and no angle/encoder): Cs left empty")
     if st.nan_filled:
         notes.append(f"{st.nan_filled} isolated missing sample(s) (runs of at most "
@@ -943,31 +1111,43 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
                          "and the energy swing off by up to about Cs (the angle ignores the "
                          "speed's swing)" if role == "speed"
                          else ""))
-    health_summary = _health(st, (store or running).columns(), lay.path, source)
-    summary = stats.result(spikes=st.spikes, samples=st.samples, **health_summary)
+    return notes
+
+
+def _assemble(out: _Outputs, st: _Stream, monitor: Any, notes: list[str]) -> CycleResult:
+    """The result: health checks and summary, kept rows with their shape scores, mean
+    cycle, curves, the shape check's findings and the options record."""
+    lay = out.lay
+    health_summary = _health(st, out.health_columns(), lay.path, out.plan.source)
+    summary = out.stats.result(spikes=st.spikes, samples=st.samples, **health_summary)
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
-    table = _stored_columns(store, lay) if store is not None else {}
+    table = _stored_columns(out.store, lay) if out.store is not None else {}
     scored, abnormal = _fill_scores(table, st.shape_scores)
     summary["anomaly"] = {"scored": scored, "abnormal": abnormal,
                           "rate": abnormal / scored if scored else None}
-    shape = None
-    if monitor is not None:
-        shape = monitor.result()
-        notes += [f"cycle shape not checked: {n}" for n in shape.notes]
-        dur = stats.keepers["duration_s"].median() or float("nan")
-        per_bin = dur / st.dt / monitor.bins if st.dt else 9.0
-        if shape.scored and per_bin < 2.0:
-            notes.append(f"cycle shape: {per_bin:.2g} samples per "
-                         f"{360 // monitor.o.bins_per_rev}° model bin (at least 2 are "
-                         "needed); where the cycle's sampling moves expect false alarms: "
-                         "log faster")
-    res = CycleResult(lay.path, table, summary, mean_cycle, curves, record(), lay, notes,
-                      anomaly=shape, shape_model=monitor.model if monitor is not None else None,
-                      rows_kept=keep_rows, stats=stats)
-    if sink is not None:
-        sink.finish(res)
-    return res
+    shape = _shape_findings(monitor, st, out.stats, notes)
+    return CycleResult(lay.path, table, summary, mean_cycle, curves, out.record(), lay, notes,
+                       anomaly=shape,
+                       shape_model=monitor.model if monitor is not None else None,
+                       rows_kept=out.store is not None, stats=out.stats)
+
+
+def _shape_findings(monitor: Any, st: _Stream, stats: SummaryStream, notes: list[str]) -> Any:
+    """The cycle-shape check's result (None when off); why it was not checked, and a
+    sampling too coarse for its bins, go into ``notes``."""
+    if monitor is None:
+        return None
+    shape = monitor.result()
+    notes += [f"cycle shape not checked: {n}" for n in shape.notes]
+    dur = stats.keepers["duration_s"].median() or float("nan")
+    per_bin = dur / st.dt / monitor.bins if st.dt else 9.0
+    if shape.scored and per_bin < 2.0:
+        notes.append(f"cycle shape: {per_bin:.2g} samples per "
+                     f"{360 // monitor.o.bins_per_rev}° model bin (at least 2 are "
+                     "needed); where the cycle's sampling moves expect false alarms: "
+                     "log faster")
+    return shape
 
 
 def _fill_scores(table: dict[str, np.ndarray], shape_scores: list[Any]) -> tuple[int, int]:
