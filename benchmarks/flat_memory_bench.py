@@ -195,6 +195,7 @@ def main() -> None:
                         if ref[k] is not None and not math.isnan(ref[k]))
             print(f"  10M summary vs {args.compare.name}: largest relative difference "
                   f"{worst:.2e} (floor ≤ 1e-9)")
+    shutil.rmtree(tmp, ignore_errors=True)
     if "288M" in logs and not args.keep_shift:
         logs["288M"].unlink()
         print(f"deleted {logs['288M']}")
