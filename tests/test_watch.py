@@ -33,8 +33,9 @@ WRITER = textwrap.dedent("""
         time.sleep(0.3)
 """)
 
-FIGS = ("t_start_s", "duration_s", "speed_mean_rpm", "torque_mean_Nm", "torque_peak_Nm",
-        "work_J", "energy_swing_J")
+FIGS = ("t_start_s", "duration_s", "speed_mean_rpm", "speed_min_rpm", "speed_max_rpm",
+        "torque_mean_Nm", "torque_peak_Nm", "torque_min_Nm", "work_J", "energy_swing_J",
+        "angle_speed_min_deg", "angle_speed_max_deg", "cs", "cs_constant_drive")
 
 
 @pytest.fixture(scope="module")
@@ -69,17 +70,18 @@ def test_watch_matches_cycles_on_finished_files(live) -> None:
         ref = analyse_cycles(path).columns
         assert len(part) == len(ref["cycle"])
         for k in FIGS:
-            got = np.array([r[k] for r in part], dtype=float)
-            np.testing.assert_allclose(got, ref[k], rtol=1e-9, atol=1e-9, err_msg=k)
-        # Cs divides a speed low-passed over the cycles at hand: the chunking changes the
-        # filter's window ends a little (as a different --block-rows does): agreement to 1e-4
-        got = np.array([r["cs"] for r in part], dtype=float)
-        np.testing.assert_allclose(got, ref["cs"], rtol=1e-4)
+            # Cs too: the speed filter reaches a fixed number of angle bins, and the
+            # cycle engine keeps that much context and look-ahead around every chunk
+            got = np.array([np.nan if r[k] is None else r[k] for r in part], dtype=float)
+            np.testing.assert_allclose(got, ref[k], rtol=1e-9, atol=1e-12, err_msg=k)
+        assert [r["flag"] for r in part] == ref["flag"].tolist()
     # the first file: the model is learned from its own first cycles, as `cycles` does
+    # (the second file is scored with that same model, kept across the rotation)
     ref = analyse_cycles(a).columns
     got = np.array([r["anomaly_score"] if r["anomaly_score"] is not None else np.nan
                     for r in rows[:cut]], dtype=float)
-    np.testing.assert_allclose(got, ref["anomaly_score"], rtol=1e-6)
+    assert np.isfinite(got).sum() > 100
+    np.testing.assert_allclose(got, ref["anomaly_score"], rtol=1e-9, atol=1e-12)
     assert [r["anomaly"] for r in rows[:cut]] == ref["anomaly"].tolist()
 
 

@@ -92,8 +92,10 @@ def watch_cmd(log: str, fmt: str, poll: float, idle_exit: float | None, exit_on_
 
     The file may end in a partial line, pause, or be replaced by a new file (rotation);
     memory stays bounded however long it runs. Cycles appear once the first chunk of
-    rows (100 000, as `cycles` reads them: same figures) and, without --reference, the
-    first --learn-cycles clean cycles are in; after that, two cycles behind the logger.
+    rows (100 000, as `cycles` reads them: the sample step and noise scales are taken
+    from it, so the figures are the same) and, without --reference, the first
+    --learn-cycles clean cycles are in; after that, two cycles behind the logger (more
+    with a speed cut-off below 6 orders: the filter's look-ahead).
     """
     from torqlog.errors import CheckFailed
     from torqlog.fleet.watch import watch_log

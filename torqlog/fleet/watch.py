@@ -178,7 +178,8 @@ def watch_log(path: str | Path, on_cycles: Callable[[dict[str, np.ndarray]], Non
         The CSV log being written.
     on_cycles : callable
         Receives a dict of per-cycle columns (:data:`torqlog.signal.cycles.COLUMNS`) each time
-        cycles complete (with a delay of two cycles, the look-ahead of the speed filter;
+        cycles complete (with a delay of the speed filter's look-ahead, two cycles at the
+        default cut-off;
         without a reference model, the first ``learn_cycles`` clean cycles are held until
         the model is learned from them).
     options : CycleOptions, optional
@@ -227,26 +228,18 @@ def watch_log(path: str | Path, on_cycles: Callable[[dict[str, np.ndarray]], Non
 def _follow(reader: TailReader, o: cy.CycleOptions, ao: an.AnomalyOptions,
             model: an.ShapeModel | None, on_cycles: Callable[[dict[str, np.ndarray]], None]
             ) -> tuple[an.ShapeMonitor, Any]:
-    from torqlog.signal import angle as ang
-
     lay = reader.layout
-    roles = set(lay.roles)
-    source = ang.pick_cycle_source(roles, nominal_speed=o.nominal_speed,
-                                   forced=o.cycle_source, path=lay.path)
-    has = roles & {"torque", "speed"}
-    speed_from_angle = "speed" not in has and source in ("angle", "counts")
-    nb_speed = int(min(2048, max(32, 8 * o.speed_cutoff_orders))) if o.speed_cutoff_orders \
-        else 720 * o.revs_per_cycle
+    plan = cy._plan(lay, o)
     rows_it = iter(reader)
     first, rest = _first_chunk(rows_it, o.block_rows)
     it = chain(rest, rows_it)
-    chans = set(has) | ({"speed"} if speed_from_angle else set())
+    chans = set(plan.has) | ({"speed"} if plan.speed_from_angle else set())
     monitor = an.ShapeMonitor(ao, o.revs_per_cycle, chans, model)
     monitor.recent = {}
     if first is None:
         return monitor, _Empty()
-    tracker, _, _ = cy._tracker_for(source, o, first, lay.path)
-    st = cy._Stream(o, tracker, has, speed_from_angle, 360 * o.revs_per_cycle, nb_speed)
+    tracker, _, _ = cy._tracker_for(plan.source, o, first, lay.path)
+    st = plan.stream(o, tracker)
 
     def sink(cycles: np.ndarray, t_start: np.ndarray, duration: np.ndarray,
              curves: dict[str, np.ndarray]) -> None:

@@ -46,8 +46,11 @@ RPM = 60.0 / TWO_PI
 
 #: Default low-pass cut-off for speed before Cs, in cycle orders (stated in every result).
 DEFAULT_SPEED_CUTOFF_ORDERS = 20.0
-#: Cycles of look-ahead kept back in each chunk so the speed filter has context.
+#: Fewest cycles of look-ahead kept back in each chunk (more when the speed filter is
+#: longer; see :func:`speed_filter`).
 _HOLD = 2
+#: Fewest emitted cycles kept in front of each chunk as the speed filter's context.
+_CONTEXT = 4
 #: Cycles kept for plotting every cycle faintly.
 MAX_CURVES = 300
 #: A block allocated and freed once before streaming (see :func:`_recycle_temporaries`).
@@ -80,7 +83,12 @@ class CycleOptions:
         Rotating inertia referred to the logged shaft (for ``cs_constant_drive`` and the
         speed-only energy swing).
     speed_cutoff_orders : float
-        Zero-phase low-pass of speed before max − min, in cycle orders (0 = off).
+        Zero-phase low-pass of speed before max − min, in cycle orders (0 = off): a
+        linear-phase FIR filter (Kaiser-windowed sinc, :func:`torqlog.signal.condition.lowpass`)
+        on the speed binned over the angle (:func:`speed_bins_per_cycle` bins a cycle),
+        passing orders below 0.75 × the cut-off, stopping those above 1.25 ×. It reaches
+        a fixed number of bins either side, and each chunk keeps that much context and
+        look-ahead, so Cs does not depend on ``block_rows``.
     cs_mean : {"cycle", "midrange"}
         Which mean speed Cs divides by.
     torque_role : {"load", "drive"}
@@ -319,6 +327,11 @@ class _Stream:
         self.rows: list[dict[str, np.ndarray]] = []
         self.on_block = on_block if on_block is not None else self.rows.append
         self.speed_ctx: np.ndarray | None = None  # raw speed bins of recent cycles
+        self.mean_ctx: dict[str, np.ndarray] = {}  # the last emitted cycle on the mean grid
+        # the speed filter (None: off) and the cycles it reaches either side of a cycle
+        self.speed_taps, reach = speed_filter(opts, nb_speed)
+        self.hold = max(_HOLD, reach)
+        self.context = max(_CONTEXT, reach)
         self.moments: dict[str, RunningMoments] = {}
         self.mean_n = 0
         self.curves: dict[str, list[np.ndarray]] = {"torque": [], "speed": []}
@@ -350,6 +363,7 @@ class _Stream:
         self.shape_scores: list[tuple[np.ndarray, np.ndarray]] = []
 
     def feed(self, chunk: Chunk, final: bool) -> None:
+        """Condition a chunk's channels, track its angle, and cut the cycles it completes."""
         t = chunk.time
         self.samples += len(t)
         if self.dt is None and len(t) > 1:
@@ -527,6 +541,8 @@ class _Stream:
         return theta
 
     def _process(self, buf: dict[str, np.ndarray], final: bool) -> None:
+        """Emit the complete cycles of the carried and new samples, holding back the
+        look-ahead (none at the end); carry the rest to the next chunk."""
         theta = buf["theta"]
         finite = np.isfinite(theta)
         if not finite.any():
@@ -549,7 +565,7 @@ class _Stream:
         if self.next_m is None:
             self.next_m = math.ceil(th[0] / self.span - 1e-12)
         m_last = math.floor(th[last] / self.span)
-        m_stop = m_last if final else m_last - _HOLD
+        m_stop = m_last if final else m_last - self.hold
         n_emit = m_stop - self.next_m
         n_all = m_last - self.next_m
         if n_emit < 1:
@@ -604,7 +620,7 @@ class _Stream:
         row["cycle"] = self.cycle_no + 1 + np.arange(n_emit)
         self.cycle_no += n_emit
         self.on_block(row)
-        self._add_clean(buf, t, th, bounds, sg, tq, row)
+        self._add_clean(buf, t, th, bounds_all, sg_all, n_emit, tq, row)
 
     @staticmethod
     def _segments(th: np.ndarray, bounds_all: np.ndarray) -> en.Segments:
@@ -682,13 +698,16 @@ class _Stream:
         series = sp_bins_all if ctx is None else np.vstack((ctx, sp_bins_all))
         nctx = 0 if ctx is None else ctx.shape[0]
         filled = en.fill_rows(series)
-        if self.o.speed_cutoff_orders > 0:
+        if self.speed_taps is not None:
             cutoff = self.o.speed_cutoff_orders / (self.nb_speed / 2.0)
-            smooth = cond.lowpass(filled.ravel(), cutoff).reshape(filled.shape)
+            smooth = cond.lowpass(filled.ravel(), cutoff, taps=self.speed_taps
+                                  ).reshape(filled.shape)
         else:
             smooth = filled
         mine = smooth[nctx: nctx + n_emit]
-        self.speed_ctx = sp_bins_all[max(0, n_emit - 4): n_emit]
+        # the last emitted cycles (raw) are the next chunk's context: the filter reaches
+        # no further back, so the figures do not depend on where chunks end
+        self.speed_ctx = series[max(0, nctx + n_emit - self.context): nctx + n_emit]
         if angles_from_speed:
             centre = (np.arange(self.nb_speed) + 0.5) * self.span / self.nb_speed
             row["angle_speed_min"] = centre[np.argmin(mine, axis=1)]
@@ -707,21 +726,14 @@ class _Stream:
                 for k in np.flatnonzero(quiet))
 
     def _add_clean(self, buf: dict[str, np.ndarray], t: np.ndarray, th: np.ndarray,
-                   bounds: np.ndarray, sg: en.Segments, tq: np.ndarray | None,
-                   row: dict[str, np.ndarray]) -> None:
+                   bounds_all: np.ndarray, sg_all: en.Segments, n_emit: int,
+                   tq: np.ndarray | None, row: dict[str, np.ndarray]) -> None:
         """The clean cycles of a block on the mean-cycle grid: into the running mean cycle,
         the plot curves and the cycle-shape check."""
         clean = row["flag"] == ""
+        parts = self._mean_grid(buf, t, th, bounds_all, sg_all, n_emit, tq)
         if not clean.any():
             return
-        parts: dict[str, np.ndarray] = {}
-        if tq is not None:
-            parts["torque"] = en.fill_rows(sg.bins(tq, self.nb_mean, sequential=False))
-        if "speed" in self.has:
-            parts["speed"] = en.fill_rows(sg.bins(buf["speed"][: len(t)], self.nb_mean,
-                                                  sequential=False))
-        elif self.speed_from_angle:
-            parts["speed"] = en.fill_rows(en.speed_bins_from_angle(t, th, bounds, self.nb_mean))
         for k, a in parts.items():
             a = a[clean]
             self.moments.setdefault(k, RunningMoments()).add(a)
@@ -733,6 +745,28 @@ class _Stream:
                             row["duration_s"][clean], {k: a[clean] for k, a in parts.items()})
         self.mean_n += int(clean.sum())
         self.n_curves = min(MAX_CURVES, self.n_curves + int(clean.sum()))
+
+    def _mean_grid(self, buf: dict[str, np.ndarray], t: np.ndarray, th: np.ndarray,
+                   bounds_all: np.ndarray, sg_all: en.Segments, n_emit: int,
+                   tq: np.ndarray | None) -> dict[str, np.ndarray]:
+        """Torque and speed of the emitted cycles on the mean-cycle grid, empty bins filled
+        by interpolation between the nearest samples — across the cycle before (kept from
+        the last block) and the one after (held back), so a chunk's ends change nothing."""
+        raw: dict[str, np.ndarray] = {}
+        if tq is not None:
+            raw["torque"] = sg_all.bins(tq, self.nb_mean, sequential=False)
+        if "speed" in self.has:
+            raw["speed"] = sg_all.bins(buf["speed"][: len(t)], self.nb_mean, sequential=False)
+        elif self.speed_from_angle:
+            raw["speed"] = en.speed_bins_from_angle(t, th, bounds_all, self.nb_mean)
+        parts = {}
+        for k, a in raw.items():
+            prev = self.mean_ctx.get(k)
+            series = a if prev is None else np.vstack((prev, a))
+            off = 0 if prev is None else 1
+            parts[k] = en.fill_rows(series)[off: off + n_emit]
+            self.mean_ctx[k] = a[n_emit - 1: n_emit]
+        return parts
 
     def _flat(self, x: np.ndarray, role: str, sg: en.Segments, fault: np.ndarray,
               t: np.ndarray, clipped: np.ndarray, frozen: np.ndarray) -> None:
@@ -824,6 +858,8 @@ def _recycle_temporaries() -> None:
 
 def _tracker_for(source: str, opts: CycleOptions, first: Chunk, path: str
                  ) -> tuple[ang.AngleTracker, list[str], dict[str, Any]]:
+    """The angle tracker of a cycle source (the period estimated from the first chunk when
+    the source is ``"period"``), with its notes and the options it adds to the record."""
     notes: list[str] = []
     extra: dict[str, Any] = {}
     period = None
@@ -992,6 +1028,19 @@ def speed_bins_per_cycle(o: CycleOptions) -> int:
     if o.speed_cutoff_orders:
         return int(min(2048, max(32, 8 * o.speed_cutoff_orders)))
     return 720 * o.revs_per_cycle
+
+
+def speed_filter(o: CycleOptions, nb_speed: int) -> tuple[np.ndarray | None, int]:
+    """The taps of the speed low-pass on the ``nb_speed``-bin angle grid (None when off or
+    when the cut-off is at or above the grid's Nyquist order) and its reach [cycles]: how
+    many whole cycles its half-length spans, so that context and look-ahead cover it."""
+    if not o.speed_cutoff_orders:
+        return None, 0
+    cutoff = o.speed_cutoff_orders / (nb_speed / 2.0)
+    if cutoff >= 1.0:
+        return None, 0
+    taps = cond.lowpass_taps(cutoff)
+    return taps, math.ceil((taps.size // 2) / nb_speed)
 
 
 def _plan(lay: Layout, o: CycleOptions) -> _Plan:
@@ -1229,6 +1278,7 @@ def _health(st: _Stream, table: dict[str, np.ndarray], path: str, source: str
 
 
 def _isnat(x: Any) -> bool:
+    """A missing time stamp (None, NaT or NaN)."""
     return x is None or (isinstance(x, np.datetime64) and bool(np.isnat(x))) or x != x
 
 
