@@ -127,3 +127,98 @@ def test_plant_materials_file(tmp_path):
     clash.write_text('["steel"]\ndensity_kg_per_m3 = 1\n', encoding="utf-8")
     with pytest.raises(UsageError, match="'steel' is a built-in material"):
         load_materials(clash)
+
+
+# ----------------------------------------------------------------------------- shaft
+_SHAFT_PROFILE = {
+    "machine": {"speed_rpm": 45.0},
+    "shaft": {"bearings_m": [0.0, 1.10], "ultimate_strength_MPa": 630.0,
+              "yield_strength_MPa": 530.0,
+              "segments": [{"length_m": 0.35, "diameter_m": 0.14},
+                           {"length_m": 0.75, "diameter_m": 0.16},
+                           {"length_m": 0.40, "diameter_m": 0.14}],
+              "masses": [{"name": "flywheel", "mass_kg": 900.0, "at_m": 1.40},
+                         {"name": "gear", "mass_kg": 150.0, "at_m": 0.50}]},
+    "torsional": {"names": ["motor", "flywheel", "crank"], "inertias_kgm2": [0.35, 310.0, 40.0],
+                  "stiffness_Nm_per_rad": [2.1e6, 8.5e6]},
+}
+#: steel-c45's own numbers (EN 10083-2 ReH 305 MPa; E 210 GPa, nu 0.3: EN 1993-1-1 cl.
+#: 3.2.6; 7850 kg/m^3: EN 1991-1-1 Annex A), given as a table of properties.
+_STEEL_TABLE = {"name": "shop bar", "density_kg_per_m3": 7850.0, "modulus_GPa": 210.0,
+                "poisson": 0.3, "yield_MPa": 305.0}
+
+
+def _shaft(material, materials=None):
+    import copy
+
+    import numpy as np
+
+    from torqlog.shaft.check import check_shaft
+
+    data = copy.deepcopy(_SHAFT_PROFILE)
+    data["shaft"]["material"] = material
+    phi = np.arange(360) * 2 * np.pi / 360
+    torque = 5000 + 8000 * np.cos(phi) + 3000 * np.cos(2 * phi)
+    return check_shaft(parse_profile(data, "p.toml"), add_mass=600.0, add_inertia=150.0,
+                       cycle_torque=torque, materials=materials).to_dict()
+
+
+def _leaves(d, prefix=""):
+    """Every number of a nested result by its path."""
+    out = {}
+    items = d.items() if isinstance(d, dict) else enumerate(d)
+    for k, v in items:
+        path = f"{prefix}.{k}" if prefix else str(k)
+        if isinstance(v, dict | list):
+            out.update(_leaves(v, path))
+        elif isinstance(v, float | int) and not isinstance(v, bool):
+            out[path] = v
+    return out
+
+
+def test_shaft_given_by_properties_matches_built_in_steel_exactly():
+    own, ref = _shaft(_STEEL_TABLE), _shaft("steel")
+    assert own["options"]["material"] == "shop bar"
+    assert own["options"]["material_designation"] == ""  # no standard claimed
+    assert own["options"]["material_source"] == "properties as given by the user"
+    assert ref["options"]["material_designation"] == "C45+N (EN 10083-2)"
+    a, b = _leaves(own), _leaves(ref)
+    assert set(a) == set(b) and len(a) > 50
+    for key in a:
+        assert a[key] == pytest.approx(b[key], rel=1e-12, abs=1e-300), key
+    assert own["verdict"] == ref["verdict"]
+
+
+def test_shaft_material_from_a_plant_file_and_on_the_command_line(tmp_path):
+    import tomllib
+
+    mats = tmp_path / "plant.toml"
+    mats.write_text('["shop-bar"]\nbehaviour = "ductile"\ndensity_kg_per_m3 = 7850\n'
+                    'modulus_GPa = 210\npoisson = 0.3\nyield_MPa = 305\n'
+                    'source = "mill certificate 26-031"\n', encoding="utf-8")
+    own = _shaft("shop-bar", load_materials(mats))
+    assert own["options"]["material_source"] == "mill certificate 26-031"
+    assert own["options"]["material_designation"] == ""
+    ref = _shaft("steel")
+    assert own["lateral"]["fe_hz"] == pytest.approx(ref["lateral"]["fe_hz"], rel=1e-12)
+    # the command line: --materials FILE for the shaft as for the flywheel
+    prof = tmp_path / "p.toml"
+    lines = ['[machine]\nspeed_rpm = 45.0\n[shaft]\nmaterial = "shop-bar"\n'
+             'bearings_m = [0.0, 1.10]\n'
+             'segments = [ { length_m = 0.35, diameter_m = 0.14 }, '
+             '{ length_m = 0.75, diameter_m = 0.16 } ]\n'
+             'masses = [ { name = "flywheel", mass_kg = 900.0, at_m = 1.0 } ]\n']
+    prof.write_text("".join(lines), encoding="utf-8")
+    tomllib.loads(prof.read_text())  # valid TOML
+    res = run(["shaft", "--profile", str(prof), "--materials", str(mats), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.output)["options"]["material"] == "shop-bar"
+    res = run(["shaft", "--profile", str(prof), "--format", "json"])
+    assert res.exit_code == 2
+    assert "unknown material 'shop-bar'; known: grey-iron-200" in res.output
+
+
+def test_shaft_material_table_refuses_an_unknown_key_by_name():
+    with pytest.raises(UsageError, match=r"p.toml: \[shaft\] material: unknown material key "
+                                         r"'yield_strength'; valid keys: name, "):
+        _shaft({**_STEEL_TABLE, "yield_strength": 300})

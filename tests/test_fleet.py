@@ -104,6 +104,57 @@ def test_fleet_page_is_sortable_and_cautions(tmp_path):
                            "cs": [0.1, 0.3], "flag": ["", ""]})
     page = fleet_table(cycles, targets={"M": 0.2, "N": 0.2}).write_html(tmp_path / "f.html")
     text = page.read_text(encoding="utf-8")
-    assert "<table id=fleet><tr><th>rank</th>" in text
+    assert "<table id=fleet class=sortable><tr><th>rank</th>" in text
     assert "approved by a qualified, licensed engineer" in text
     assert text.index("<td>N</td>") < text.index("<td>M</td>")  # N is further over target
+
+
+def test_report_of_three_machines_has_a_sortable_fleet_page_in_rank_order(fleet_dir, tmp_path):
+    # the same three machines, given to the report: the fleet page ranks them by how far
+    # their worst decile of Cs (2a, Shigley eq. 16-61) stands above the target 0.1
+    import html5lib
+
+    logs = sorted(fleet_dir.glob("*/*.csv"))
+    html, pdf = tmp_path / "r.html", tmp_path / "r.pdf"
+    res = CliRunner().invoke(cli, ["report", *map(str, logs), "--folder-profiles",
+                                   "--name-time", "%Y%m%d_%H%M", "-o", str(html),
+                                   "--pdf", str(pdf), "--units", "us"])
+    assert res.exit_code == 0, res.output
+    text = html.read_text(encoding="utf-8")
+    tree = html5lib.HTMLParser(strict=True, namespaceHTMLElements=False).parse(text)
+    assert tree.find(".//title").text == "torqlog report: Press 1"  # the first log's machine
+    table = next(t for t in tree.iter("table") if t.get("id") == "fleet-table")
+    assert table.get("class") == "sortable"
+    heads = ["".join(th.itertext()) for th in table.find("thead").iter("th")]
+    assert heads[:3] == ["Rank", "Machine", "Last log"]
+    assert "Added inertia at the logged shaft, lb·ft²" in heads  # the report's units
+    rows = [["".join(c.itertext()) for c in tr] for tr in table.find("tbody").iter("tr")]
+    assert [r[1] for r in rows] == ["Press 2", "Press 3", "Press 1"]
+    assert [r[0] for r in rows] == ["1", "2", "3"]
+    assert [r[heads.index("Status")] for r in rows] == ["over target", "within target",
+                                                        "within target"]
+    assert [r[heads.index("Last log")] for r in rows] == ["2026-03-03"] * 3
+    cs = [float(td.get("data-value")) for td in table.iter("td")
+          if td.get("data-key") == "cs_median"]
+    assert cs == pytest.approx([0.16, 0.08, 0.04], rel=0.02)  # 2a
+    # sorting needs no network: the one inline script of the page, no src
+    scripts = list(tree.iter("script"))
+    assert len(scripts) == 1 and scripts[0].get("src") is None
+    assert "table.sortable" in scripts[0].text
+    # and the PDF carries the same page
+    import subprocess
+
+    out = subprocess.run(["pdftotext", "-layout", str(pdf), "-"], capture_output=True,
+                         text=True, check=True).stdout
+    fleet = out[out.index("The fleet: Cs against"):]
+    assert fleet.index("Press 2") < fleet.index("Press 3") < fleet.index("Press 1")
+
+
+def test_report_fleet_options_are_refused_with_the_reason(fleet_dir):
+    log = str(next(fleet_dir.glob("press1/*.csv")))
+    res = CliRunner().invoke(cli, ["report", log, "--name-time", "%Y%m%d_%H%M"])
+    assert res.exit_code == 2
+    assert "--name-time applies with --folder-profiles" in res.output
+    res = CliRunner().invoke(cli, ["report", log, "--folder-profiles", "--fleet-sort", "speed"])
+    assert res.exit_code == 2
+    assert "unknown fleet column 'speed'; sort by one of rank," in res.output

@@ -131,3 +131,32 @@ def test_inspect_says_which_groups_were_found_and_used(tmp_path):
     res = CliRunner().invoke(cli, ["inspect", str(_hdf_datasets(tmp_path))])
     assert "group used: group /rig/log" in res.stdout
     assert "machine: Press 4, Brindlemoor Works" in res.stdout
+
+
+def test_inspect_labels_the_readers_own_entries_for_people(tmp_path):
+    # no internal key names ("mdf group", "hdf path", "hdf kind") in what inspect shows
+    d = json.loads(CliRunner().invoke(
+        cli, ["inspect", str(_mdf(tmp_path)), "--format", "json"]).stdout)
+    assert {k: d["preamble"][k] for k in ("channel group number", "rows in the group")} == {
+        "channel group number": "1", "rows in the group": "6000"}
+    d = json.loads(CliRunner().invoke(
+        cli, ["inspect", str(_hdf_table(tmp_path)), "--format", "json"]).stdout)
+    assert {k: d["preamble"][k] for k in ("location in the file", "stored as",
+                                          "rows in the group")} == {
+        "location in the file": "/log", "stored as": "one table (compound dataset)",
+        "rows in the group": "6000"}
+    text = CliRunner().invoke(cli, ["inspect", str(_hdf_datasets(tmp_path))]).stdout
+    assert "stored as: one dataset per channel" in text
+    assert not any(k in text for k in ("mdf group", "hdf path", "hdf kind"))
+
+
+@pytest.mark.parametrize("writer", [_mdf, _hdf_datasets, _hdf_table])
+def test_progress_counts_rows_read_of_the_rows_the_file_states(tmp_path, writer):
+    reader = LogReader(writer(tmp_path), block_rows=1500, read_ahead=False)
+    assert reader.fraction_read() == 0.0
+    seen = [reader.fraction_read() for _ in reader]
+    # 6000 rows in chunks of 1500: a quarter more per chunk; the readers' own blocks
+    # (65 536 HDF5 rows, 1 MiB MDF fragments) may run ahead of the chunk handed out
+    assert seen[-1] == 1.0 and len(seen) == 4
+    assert all(0.25 * (i + 1) <= f <= 1.0 for i, f in enumerate(seen))
+    assert seen == sorted(seen)

@@ -63,15 +63,17 @@ def test_readme_tour_commands_on_sample_data_run(tmp_path, monkeypatch):
                                     _section("Your own files, units and materials"),
                                     flags=re.S)
             for ln in ln.splitlines() if "sample_data" in ln or "--material-name" in ln]
-    assert len(cmds) == 3
+    assert len(cmds) == 4
     (tmp_path / "sample_data").symlink_to(ROOT / "sample_data")
     monkeypatch.chdir(tmp_path)
     outs = [CliRunner().invoke(cli, shlex.split(c)[1:]) for c in cmds]
-    assert [r.exit_code for r in outs] == [0, 0, 0], [r.output for r in outs]
+    assert [r.exit_code for r in outs] == [0, 0, 0, 0], [r.output for r in outs]
+    report = (tmp_path / "press_us.html").read_text(encoding="utf-8")
+    assert "US customary units" in report and "lb·ft²" in report
     wb = load_workbook(tmp_path / "press_cycles.xlsx")
     assert wb.sheetnames == ["summary", "table", "options"]
     header, units = outs[1].stdout.splitlines()[:2]
     assert header.split(",")[:2] == ["added_inertia_lbft2", "cs"]
     assert units.split(",")[:5] == ["lb·ft²", "", "rpm", "rpm", "lbf·ft"]
-    assert "  material                       frame iron\n" in outs[2].stdout
-    assert "  material_designation           \n" in outs[2].stdout  # none claimed
+    assert "  material                       frame iron\n" in outs[3].stdout
+    assert "  material_designation           \n" in outs[3].stdout  # none claimed

@@ -85,7 +85,8 @@ def test_report_prints_its_path_and_parses_strictly_with_every_section_in_order(
     assert press["stdout"] == f"{press['html']}\n"
     tree = parse(press["text"])
     ids = [e.get("id") for e in tree.iter("section")]
-    assert ids == [s for s in SECTIONS if s != "trends"]  # one log: no trend section
+    # one log of one machine: no trend and no fleet section
+    assert ids == [s for s in SECTIONS if s not in ("trends", "fleet")]
     assert tree.find(".//title").text == "torqlog report: Press 4, line B"
     # self-contained: nothing is fetched from elsewhere
     for tag, attr in (("img", "src"), ("link", "href"), ("script", "src")):
@@ -332,7 +333,7 @@ def test_a_log_alone_gives_a_report_that_names_the_profile_lines_to_add(compress
     assert res.exit_code == 0, res.output
     tree = parse(html.read_text(encoding="utf-8"))
     assert [s.get("id") for s in tree.iter("section")] == [
-        s for s in SECTIONS if s != "trends"]
+        s for s in SECTIONS if s not in ("trends", "fleet")]
     rough = _text(next(r for r in tree.iter("tr") if r.get("data-item") == "roughness"))
     assert "no target Cs is given" in rough
     rec = _text(_section(tree, "recommendation"))

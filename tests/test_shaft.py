@@ -330,29 +330,28 @@ def test_check_shaft_with_order_spectrum():
     assert not any("assumed significant" in c for c in d["cautions"])
 
 
-def test_materials_module_is_used_when_present(monkeypatch):
-    # the materials table is consulted through get_material(name).modulus/.density
-    import sys
-    import types
-
-    fake = types.ModuleType("torqlog.rotor.materials")
-
-    def get_material(name):
-        table = {"steel": (210e9, 7850.0, 81e9), "aluminium": (70e9, 2700.0, 26e9)}
-        e, rho, g = table[name]
-        return types.SimpleNamespace(modulus=e, density=rho, poisson=0.3, shear_modulus=g)
-
-    fake.get_material = get_material
-    monkeypatch.setitem(sys.modules, "torqlog.rotor.materials", fake)
+def test_segment_material_given_by_name_or_by_its_properties():
+    # The shaft's material comes from torqlog.rotor.materials (steel = steel-c45: E 210 GPa,
+    # EN 1993-1-1 cl. 3.2.6; 7850 kg/m^3, EN 1991-1-1 Annex A); a segment may name its own
+    # material or give it as a table of properties, through the parser flywheels use.
+    # Aluminium alloy E 70 GPa, 2700 kg/m^3: typical handbook values, from memory.
     from torqlog.shaft.lateral import shaft_model_from_profile
 
     data = {"shaft": dict(_PROFILE["shaft"])}
     data["shaft"]["segments"] = [dict(s) for s in data["shaft"]["segments"]]
-    data["shaft"]["segments"][1]["material"] = "aluminium"
+    data["shaft"]["segments"][1]["material"] = {
+        "name": "aluminium bar", "density_kg_per_m3": 2700, "modulus_GPa": 70,
+        "poisson": 0.33, "yield_MPa": 240}
+    data["shaft"]["segments"][2]["material"] = "ductile-iron"
     model = shaft_model_from_profile(parse_profile(data, "press.toml"))
-    assert model.modulus == 210e9
+    assert model.modulus == 210e9 and model.density == 7850.0
     assert model.segments[1].modulus == 70e9 and model.segments[1].density == 2700.0
+    assert model.segments[2].modulus == 169e9  # EN-GJS-400-15 of the table
     assert model.segments[0].modulus is None
+    data["shaft"]["segments"][1]["material"] = {"name": "aluminium bar", "modulus_GPa": 70}
+    with pytest.raises(UsageError, match=r"'aluminium bar' is given by its properties and "
+                       r"lacks 1\. density .*2\. poisson .*3\. strength"):
+        shaft_model_from_profile(parse_profile(data, "press.toml"))
 
 
 def test_dunkerley_ignores_a_mass_held_by_a_bearing():

@@ -11,6 +11,7 @@ seven significant digits:
 SI prefixes (k = 1e3, m = 1e-3) are exact by definition (NIST SP 811 sec. 4.3).
 """
 
+import json
 import math
 
 import pytest
@@ -126,3 +127,39 @@ def test_parse_quantity_errors_name_the_option():
         parse_quantity("12 blorp", "rpm", "speed", name="--speed-rpm")
     assert str(err.value) == ("--speed-rpm: unknown unit 'blorp' for speed; write it as "
                               "e.g. 'rpm'")
+
+
+# A rotational speed written as a frequency. ISO 80000-3:2019 (item 3-17.2, from memory)
+# gives rotational frequency n in s^-1 as revolutions per unit time, so 1 Hz = 1 r/s = 60
+# r/min; pint alone counts the radian as 1 and would read 1 Hz as 1 rad/s (9.55 r/min).
+@pytest.mark.parametrize(("text", "rpm"), [("0.75 Hz", 45.0), ("0.75 1/s", 45.0),
+                                           ("0.05 kHz", 3000.0), ("45 rpm", 45.0),
+                                           ("4.712388980384690 rad/s", 45.0),
+                                           ("270 deg/s", 45.0)])
+def test_rotational_speed_given_as_a_frequency_is_revolutions_per_time(text, rpm):
+    assert parse_quantity(text, "rpm", "speed", "--speed-rpm") == pytest.approx(
+        rpm * 2 * math.pi / 60, rel=1e-12)
+
+
+def test_speed_in_rpm_read_as_a_frequency_is_revolutions_per_second():
+    # the other way: 3000 r/min is 50 r/s, i.e. 50 Hz (the same rule)
+    assert si_factor("rpm", "frequency") == pytest.approx(1 / 60, rel=1e-12)
+    assert si_factor("rad/s", "frequency") == pytest.approx(1 / (2 * math.pi), rel=1e-12)
+    assert si_factor("kHz", "frequency") == 1e3
+
+
+def test_profile_speed_in_hz_and_the_speed_option_agree(tmp_path):
+    from click.testing import CliRunner
+
+    from torqlog.cli import cli
+    from torqlog.io.profile import parse_profile
+
+    prof = parse_profile({"machine": {"speed_rpm": "0.75 Hz"},
+                          "motor": {"sync_rpm": "25 Hz", "rated_rpm": "1440 rpm"}})
+    assert prof.machine["speed"] == pytest.approx(45 * 2 * math.pi / 60, rel=1e-12)
+    assert prof.motor["sync"] == pytest.approx(1500 * 2 * math.pi / 60, rel=1e-12)
+    res = CliRunner().invoke(cli, ["flywheel", "--inertia", "310", "--speed-rpm", "0.75 Hz",
+                                   "--material", "ductile-iron", "--outer-diameter", "1.4",
+                                   "--shape", "solid-disc", "--format", "json"])
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.output)["speed_rpm"] == pytest.approx(45.0, rel=1e-12)

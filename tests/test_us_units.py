@@ -21,6 +21,8 @@ NIST = {
     "power_W": ("power_hp", 7.456999e2),                       # hp (550 ft*lbf/s) -> W
     "rim_speed_m_s": ("rim_speed_ft_s", 3.048e-1),             # ft/s -> m/s (exact)
     "density_kg_per_m3": ("density_lb_per_in3", 2.767990e4),   # lb/in^3 -> kg/m^3
+    "reaction_N": ("reaction_lbf", 4.448222),                  # lbf -> N
+    "torque_peak_Nm_p99": ("torque_peak_lbfft_p99", 1.355818),  # a statistic after the unit
 }
 
 
@@ -100,3 +102,38 @@ def test_profile_keys_take_numbers_with_units():
     with pytest.raises(DataError) as err:
         parse_profile({"flywheel": {"bore_m": "3 kg"}}, "p.toml")
     assert str(err.value).startswith("p.toml: [flywheel] bore_m = '3 kg': give a number in m")
+
+
+def test_statistics_of_a_figure_convert_with_it_and_back():
+    # a summary's {median, p95, max} under a unit key, and a key with a statistic tail
+    d = {"energy_swing_J": {"median": 1000.0, "p95": 1200.0, "max": None},
+         "work_J_mean": 500.0, "cs": {"median": 0.1}}
+    us = convert_keys(d, "us")
+    assert set(us) == {"energy_swing_ftlbf", "work_ftlbf_mean", "cs"}
+    assert us["energy_swing_ftlbf"]["p95"] == pytest.approx(1200.0 / 1.355818, rel=5e-7)
+    assert us["energy_swing_ftlbf"]["max"] is None and us["cs"] == {"median": 0.1}
+    back = convert_keys(us, "us", back=True)
+    assert back["energy_swing_J"]["p95"] == pytest.approx(1200.0, rel=1e-12)
+    assert back["work_J_mean"] == pytest.approx(500.0, rel=1e-12)
+
+
+def test_size_and_shaft_texts_in_us_units(tmp_path):
+    # the readable layouts convert too (not only the JSON): inertia in lb·ft², torque in
+    # lbf·ft, mass in lb (NIST SP 811 B.9 factors above)
+    log, prof = "sample_data/press_comma.csv", "sample_data/press.toml"
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parent.parent
+    log, prof = str(root / log), str(root / prof)
+    si = json.loads(CliRunner().invoke(cli, ["size", log, "--profile", prof, "--format",
+                                             "json"]).stdout)
+    text = CliRunner().invoke(cli, ["size", log, "--profile", prof, "--units", "us"]).stdout
+    from torqlog.present.labels import sig
+
+    added = si["added_inertia_kgm2"] / 4.214011e-2
+    assert f"added inertia         {sig(added, 4)} lb·ft²" in text
+    assert "kg·m²" not in text.split("note:")[0] and "drive torque RMS lbf·ft" in text
+    text = CliRunner().invoke(cli, ["shaft", "--profile", prof, "--add-mass", "600",
+                                    "--units", "us"]).stdout
+    assert f"[after (+{600 / 0.4535924:.4g} lb at " in text
+    assert " mil\n" in text and " mm" not in text

@@ -258,6 +258,14 @@ def _store(key: str) -> Callable[[click.Context, click.Parameter, Any], Any]:
     return callback
 
 
+def units_option(f: Callable) -> Callable:
+    """Add ``--units si|us`` (read by :func:`output_settings`, not passed to the command)."""
+    return click.option("--units", "units_system", type=click.Choice(["si", "us"]),
+                        default=None, expose_value=False, callback=_store("units"),
+                        help="Units of the output: si, or us (lbf·ft, ft·lbf, lb·ft², in, "
+                             "ksi, lb, hp, rpm)  [default: si, or the profile].")(f)
+
+
 def output_options(f: Callable | None = None, *, formats: tuple[str, ...] = FORMATS
                    ) -> Callable:
     """Add ``--format``, ``-o/--output`` and the unit/precision options to a command.
@@ -278,10 +286,7 @@ def output_options(f: Callable | None = None, *, formats: tuple[str, ...] = FORM
     f = click.option("--digits", type=click.IntRange(1, 17), default=None,
                      expose_value=False, callback=_store("digits"),
                      help="CSV: significant digits of each number  [default: 6].")(f)
-    f = click.option("--units", "units_system", type=click.Choice(["si", "us"]),
-                     default=None, expose_value=False, callback=_store("units"),
-                     help="Units of the output: si, or us (lbf·ft, ft·lbf, lb·ft², in, "
-                          "ksi, lb, hp, rpm)  [default: si, or the profile].")(f)
+    f = units_option(f)
     f = click.option("-o", "--output", "output", type=click.Path(dir_okay=False),
                      default=None, help="Write the result to this file instead of stdout.")(f)
     f = click.option("--format", "fmt", type=click.Choice(formats), default="table",

@@ -21,6 +21,7 @@ from torqlog.cli.base import (
     cycle_stage_options,
     emit,
     output_options,
+    output_settings,
     positive_float,
     run_cycles,
 )
@@ -45,7 +46,20 @@ def _flywheel_json(path: str) -> tuple[float, float]:
     return values[0], values[1]
 
 
-def _shaft_text(d: dict[str, Any], name: str) -> str:
+def _q(key: str, value: float | None, system: str, fmt: str = ".4g") -> str:
+    """A value of an SI output key with its unit, in ``system``'s unit (the labels' map:
+    N·m or lbf·ft, kg or lb, m or in, MPa or ksi, N or lbf)."""
+    from torqlog.present.labels import label_of
+
+    if value is None:
+        return "-"
+    lab = label_of(key, system)
+    return f"{value * lab.scale:{fmt}} {lab.unit}".rstrip()
+
+
+def _shaft_text(d: dict[str, Any], name: str, system: str = "si") -> str:
+    """Readable shaft check of the SI JSON ``d``; masses, lengths, torques, stresses and
+    forces in the units of ``system``."""
     o = d["options"]
     lines = [f"Shaft check{': ' + name if name else ''}  (running speed "
              f"{o['speed_rpm']:.1f} rpm = {o['speed_hz']:.3f} Hz; forcing up to order "
@@ -67,16 +81,21 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
         if label == "after":
             added = []
             if o["add_mass_kg"] is not None:
-                added.append(f"+{o['add_mass_kg']:g} kg at {o['add_mass_at_m']:g} m")
+                added.append(f"+{_q('mass_kg', o['add_mass_kg'], system)} at "
+                             f"{_q('at_m', o['add_mass_at_m'], system)}")
             if o["add_inertia_kgm2"] is not None:
-                added.append(f"+{o['add_inertia_kgm2']:g} kg·m² at {o['add_inertia_at']}")
+                added.append(f"+{_q('inertia_kgm2', o['add_inertia_kgm2'], system)} at "
+                             f"{o['add_inertia_at']}")
             label = f"after ({', '.join(added)})"
         lat = st["lateral"]
         lines.append(f"\n[{label}]")
+        deflection = (f"{lat['static_deflection_max_mm']:.3f} mm" if system == "si" else
+                      _q("static_deflection_max_mm", lat["static_deflection_max_mm"], system,
+                         ".3g"))
         lines.append(f"  lateral: Rayleigh {lat['rayleigh_hz']:.1f} Hz, Dunkerley "
                      f"{lat['dunkerley_hz']:.1f} Hz, FE "
                      + ", ".join(f"{f:.1f}" for f in lat["fe_hz"]) + " Hz; "
-                     f"max static deflection {lat['static_deflection_max_mm']:.3f} mm")
+                     f"max static deflection {deflection}")
         lines.append(f"    {lat['margin_text']}")
         tor = st["torsional"]
         if tor is not None:
@@ -89,8 +108,8 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
                 lines.append(f"    ! mode {hit['mode_hz']:.1f} Hz near order {hit['order']:g} "
                              f"({hit['order_hz']:.2f} Hz, share {share}, detune "
                              f"{hit['detune'] * 100:+.1f} %)")
-        lines += _response_lines(st.get("forced_response"))
-        lines += _strength_lines(st.get("strength"))
+        lines += _response_lines(st.get("forced_response"), system)
+        lines += _strength_lines(st.get("strength"), system)
     state = "after" if d["after"] is not None else "current"
     lines.append(f"\nVerdict ({state}): {d['verdict']}"
                  + (f" (failed: {', '.join(d['failed'])})" if d["failed"] else ""))
@@ -99,46 +118,58 @@ def _shaft_text(d: dict[str, Any], name: str) -> str:
     return "\n".join(lines) + "\n"
 
 
-def _response_lines(fr: dict[str, Any] | None) -> list[str]:
+def _response_lines(fr: dict[str, Any] | None, system: str = "si") -> list[str]:
     if not fr:
         return []
     o = fr["options"]
+
+    def nm(x: float) -> str:
+        return _q("torque_Nm", x, system, ".0f")
+
     lines = [f"  forced response (log torque at {o['excitation_at']}, damping ratio "
              f"{o['damping_ratio']:g}):"]
     for i, name in enumerate(fr["sections"]):
-        lines.append(f"    {name}: mean {fr['torque_mean_Nm'][i]:.0f} N·m, dynamic peak "
-                     f"{fr['torque_dynamic_peak_Nm'][i]:.0f} N·m, peak "
-                     f"{fr['torque_peak_Nm'][i]:.0f} N·m")
+        lines.append(f"    {name}: mean {nm(fr['torque_mean_Nm'][i])}, dynamic peak "
+                     f"{nm(fr['torque_dynamic_peak_Nm'][i])}, peak "
+                     f"{nm(fr['torque_peak_Nm'][i])}")
     if fr["governing_section"]:
         amp = fr["governing_amplification"]
         lines.append(f"    largest single order: order {fr['governing_order']:g} in "
-                     f"{fr['governing_section']}, {fr['governing_torque_dynamic_Nm']:.0f} N·m"
+                     f"{fr['governing_section']}, {nm(fr['governing_torque_dynamic_Nm'])}"
                      + (f" ({amp:.2f}× quasi-static)" if amp is not None else ""))
     return lines
 
 
-def _strength_lines(sd: dict[str, Any] | None) -> list[str]:
+def _strength_lines(sd: dict[str, Any] | None, system: str = "si") -> list[str]:
     if not sd:
         return []
     t, o = sd["torque"], sd["options"]
+
+    def nm(x: float, fmt: str = ".0f") -> str:
+        return _q("torque_Nm", x, system, fmt)
+
+    def diameter(mm: float) -> str:  # a shaft diameter: mm, or inches (not mils)
+        return f"{mm:5.0f} mm" if system == "si" else _q("diameter_m", mm / 1e3, system, "5.2f")
+
     lines = [f"  strength ({o['material']}, {o['method']}; shaft torque mean "
-             f"{t['torque_mean_Nm']:.0f}, alternating {t['torque_alt_Nm']:.0f}, peak "
-             f"{t['torque_peak_Nm']:.0f} N·m):"]
+             f"{nm(t['torque_mean_Nm']).split()[0]}, alternating "
+             f"{nm(t['torque_alt_Nm']).split()[0]}, peak {nm(t['torque_peak_Nm'])}):"]
     for r in sd["sections"]:
-        lines.append(f"    {r['section']:<34} d {r['diameter_mm']:5.0f} mm  Kf {r['kf']:.2f} "
-                     f"Kfs {r['kfs']:.2f}  M {r['moment_alt_Nm']:7.0f} N·m  n_fatigue "
+        lines.append(f"    {r['section']:<34} d {diameter(r['diameter_mm'])}  Kf {r['kf']:.2f} "
+                     f"Kfs {r['kfs']:.2f}  M {nm(r['moment_alt_Nm'], '7.0f')}  n_fatigue "
                      f"{r['fatigue_safety_factor']:5.2f}  n_yield "
                      f"{r['yield_safety_factor']:5.2f}")
     for k in sd["keys"]:
         lines.append(f"    key of {k['part']}: n shear {k['shear_safety_factor']:.2f}, n bearing "
-                     f"{k['bearing_safety_factor']:.2f} at {k['torque_design_Nm']:.0f} N·m")
+                     f"{k['bearing_safety_factor']:.2f} at {nm(k['torque_design_Nm'])}")
     for f in sd["fits"]:
-        lines.append(f"    shrink fit of {f['part']}: p {f['pressure_MPa']:.1f} MPa carries "
-                     f"{f['torque_capacity_Nm']:.0f} N·m vs {f['torque_design_Nm']:.0f} N·m")
+        lines.append(f"    shrink fit of {f['part']}: p "
+                     f"{_q('pressure_MPa', f['pressure_MPa'], system, '.1f')} carries "
+                     f"{nm(f['torque_capacity_Nm'])} vs {nm(f['torque_design_Nm'])}")
     for b in sd["bearings"]:
         life = (f", L10 {b['l10_hours']:.3g} h" if b.get("l10_hours") is not None else "")
-        lines.append(f"    bearing {b['bearing']} at {b['x_m']:g} m: reaction "
-                     f"{b['reaction_N']:.0f} N{life}")
+        lines.append(f"    bearing {b['bearing']} at {_q('x_m', b['x_m'], system)}: "
+                     f"reaction {_q('reaction_N', b['reaction_N'], system, '.0f')}{life}")
     lines.append(f"    {sd['margin_text']}")
     return lines
 
@@ -198,6 +229,9 @@ def _given_log_only(ctx: click.Context) -> list[str]:
 @click.option("--speed-range", nargs=2, type=QuantityType("speed", "rpm"), default=None,
               help="Speed range MIN MAX [rpm] of a Campbell diagram (with --plot, written "
                    "next to it as NAME_campbell.png).")
+@click.option("--materials", "materials_path", type=click.Path(dir_okay=False),
+              default=None, help="The plant's own materials table (TOML, one table per "
+                                 "material), where [shaft] material names are looked up.")
 @click.option("--strict", is_flag=True,
               help="Exit with code 3 when a check fails (the result is still written).")
 @click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
@@ -210,17 +244,20 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
               min_share: float | None, self_weight: bool | None,
               separation_margin: float | None, damping_ratio: float | None,
               fatigue_method: str | None, speed_range: tuple[float, float] | None,
-              strict: bool, plot_path: str | None, fmt: str, output: str | None,
-              **kw: Any) -> None:
+              materials_path: str | None, strict: bool, plot_path: str | None, fmt: str,
+              output: str | None, **kw: Any) -> None:
     """Shaft natural frequencies, lateral and torsional, against the running speed."""
     from torqlog.errors import CheckFailed, UsageError
     from torqlog.io.profile import load_profile
     from torqlog.io.units import si_factor
+    from torqlog.rotor.materials import load_materials
     from torqlog.shaft.check import check_shaft
     from torqlog.signal.spectrum import mean_cycle_spectrum
 
     check_outputs({"-o": output, "--plot": plot_path},
-                  {"--profile": profile_path, "--log": log, "--from-flywheel": flywheel_file})
+                  {"--profile": profile_path, "--log": log, "--from-flywheel": flywheel_file,
+                   "--materials": materials_path})
+    materials = load_materials(materials_path) if materials_path else None
     if flywheel_file is not None:
         if add_mass is not None or add_inertia is not None:
             raise UsageError("give either --from-flywheel or --add-mass/--add-inertia, "
@@ -266,7 +303,8 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
                          band=band, min_share=min_share, self_weight=self_weight or None,
                          revs_per_cycle=revs, margin=separation_margin,
                          cycle_torque=cycle_torque, torque_peak_logged=torque_peak,
-                         damping_ratio=damping_ratio, fatigue_method=fatigue_method)
+                         damping_ratio=damping_ratio, fatigue_method=fatigue_method,
+                         materials=materials)
     data = result.to_dict()
     if log_info is not None:
         log_info["orders"] = spectrum.significant(data["options"]["min_share"]).to_dict()
@@ -274,7 +312,7 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
     if plot_path:
         from torqlog.present.plots import plot_shaft
 
-        plot_shaft(result, plot_path, spectrum=spectrum)
+        plot_shaft(result, plot_path, spectrum=spectrum, units=output_settings()["units"])
         click.echo(f"wrote {plot_path}", err=True)
         if speed_range is not None:
             from torqlog.present.campbell import plot_campbell
@@ -285,7 +323,8 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
     elif speed_range is not None:
         raise UsageError("--speed-range draws a Campbell diagram: give --plot FILE.png too")
     emit(data, result.to_pandas(), fmt, output,
-         text=lambda d: _shaft_text(d, profile.machine.get("name", "")))
+         text=lambda _: _shaft_text(data, profile.machine.get("name", ""),
+                                    output_settings()["units"]))
     if strict and result.failures:
         reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
         raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")
@@ -430,7 +469,7 @@ def flywheel_cmd(inertia: float | None, speed: float | None, material: str | Non
     if plot_path:
         from torqlog.present.plots import plot_flywheel_stresses
 
-        plot_flywheel_stresses(result, plot_path)
+        plot_flywheel_stresses(result, plot_path, units=output_settings()["units"])
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, None, fmt, output, text=_flywheel_text if fmt == "table" else None)
     if data["verdict"] != "pass":

@@ -34,6 +34,18 @@ def fleet_for(res: Any, jobs: list[Any], profile: Any, folder_profiles: bool,
     return fleet_from_trend(res, latest, profiles, size=size, sort_by=sort_by)
 
 
+def fleet_of_jobs(jobs: list[Any], sort_by: str = "cs_p90_over_target") -> Any:
+    """Trend the logs of several machines (each job with its folder's profile) and build
+    their fleet table; the first machine's profile gives the shift calendar."""
+    from torqlog.fleet.trend import DriftOptions, ShiftCalendar, run_trend
+
+    tomls = sorted(Path(jobs[0].path).parent.glob("*.toml"))
+    calendar = ShiftCalendar.build(None, None, None,
+                                   load_profile_opt(str(tomls[0])) if tomls else None)
+    res = run_trend(jobs, calendar, drift=DriftOptions(), workers=1)
+    return fleet_for(res, jobs, None, True, sort_by)
+
+
 def write_demo_fleet(runs: list[Any], out_dir: str | Path) -> list[Path]:
     """Trend every demo machine's logs and write the plant's fleet table.
 

@@ -24,6 +24,7 @@ from torqlog.cli.base import (
     log_options,
     make_cycle_options,
     output_options,
+    output_settings,
     parse_quantile,
     positive_float,
     read_kwargs,
@@ -86,24 +87,30 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
 
 
 # --------------------------------------------------------------------------- cycles
-def _cycles_text(res: Any) -> str:
-    """Readable summary of a cycles result."""
+def _cycles_text(res: Any, system: str = "si") -> str:
+    """Readable summary of a cycles result, in the unit system ``system`` (the units of
+    :func:`torqlog.present.labels.label_of`: kJ and kN·m, or ft·lbf and lbf·ft)."""
+    from torqlog.present.labels import label_of, sig
+
     s = res.summary
     de, cs = s["energy_swing_J"], s["cs"]
+    e_lab, t_lab = label_of("energy_swing_J", system), label_of("torque_peak_Nm_p99", system)
 
     def g(x: float | None, scale: float = 1.0, unit: str = "") -> str:
-        return "-" if x is None else f"{x * scale:.4g}{unit}"
+        return "-" if x is None else f"{sig(x, 4, scale)}{unit}"
+
+    def e(x: float | None) -> str:
+        return g(x, e_lab.scale, " " + e_lab.unit)
 
     q = s.get("quantiles") or {}
     return "\n".join([
         f"{res.source}: {s['cycles']} clean cycles of {s['cycles_total']} "
         f"(cycle source: {res.options['cycle_source']}, {res.options['revs_per_cycle']} "
         f"rev/cycle), {g(s['cycle_rate_per_min'])} cycles/min at {g(s['speed_mean_rpm'])} rpm",
-        f"energy swing  median {g(de['median'], 1e-3, ' kJ')}, p95 {g(de['p95'], 1e-3, ' kJ')},"
-        f" max {g(de['max'], 1e-3, ' kJ')}",
+        f"energy swing  median {e(de['median'])}, p95 {e(de['p95'])}, max {e(de['max'])}",
         f"Cs            median {g(cs['median'])}, p95 {g(cs['p95'])}, max {g(cs['max'])}"
         f"  (speed low-passed at {res.options['speed_cutoff_orders']:g} cycle orders)",
-        f"peak torque   p99 {g(s['torque_peak_Nm_p99'], 1e-3, ' kN·m')}",
+        f"peak torque   p99 {g(s['torque_peak_Nm_p99'], t_lab.scale, ' ' + t_lab.unit)}",
         *([f"note: quantiles from a sketch (more than {q['exact_budget_cycles']} clean "
            f"cycles), within {100 * q['relative_error_bound']:g} % of the exact values"
            + ("" if q.get("bound_holds") else " except the smallest values")]
@@ -147,7 +154,7 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     options, one object per cycle, a last line with summary, notes and the shape check.
     xlsx and ``--units us`` build the table in memory first.
     """
-    from torqlog.cli.base import _flat, output_settings
+    from torqlog.cli.base import _flat
     from torqlog.cli.cycle_output import make_writer
     from torqlog.cli.watch import shape_kwargs
     from torqlog.present.exporting import DEFAULT_DIGITS
@@ -180,10 +187,10 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     if shape_plot and res.anomaly is not None:
         from torqlog.present.plots import plot_anomaly
 
-        plot_anomaly(res.anomaly, shape_plot)
+        plot_anomaly(res.anomaly, shape_plot, units=output_settings()["units"])
         click.echo(f"wrote {shape_plot}", err=True)
     if plot:
-        res.plot(plot)
+        res.plot(plot, units=output_settings()["units"])
         click.echo(f"wrote {plot}", err=True)
     if stream:
         return
@@ -211,18 +218,28 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
         table = pd.DataFrame([_flat(res.summary)])
     elif fmt in TABULAR:
         table = res.table
-    elif fmt == "table":
+    elif fmt == "table" and not summary_only:
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
                            "torque_peak_Nm", "work_J", "energy_swing_J", "cs",
                            "cs_constant_drive", "flag", "anomaly", "anomaly_score"]]
-    emit(data, table, fmt, output, text=_cycles_text(res))
+    system = how["units"]
+    emit(data, table, fmt, output, text=lambda _data: _cycles_text(res, system))
 
 
 # --- size
-def _size_text(d: dict[str, Any], source: str) -> str:
-    """Readable summary of a sizing result: the leading answer first, then why."""
+def _size_text(d: dict[str, Any], source: str, system: str = "si") -> str:
+    """Readable summary of a sizing result (SI JSON ``d``): the leading answer first, then
+    why; inertia, torque and energy in the units of ``system`` (:func:`label_of`)."""
+    from torqlog.present.labels import label_of, sig
+
+    units = {k: (label_of(k, system).scale, label_of(k, system).unit)
+             for k in ("inertia_kgm2", "motor_torque_rms_Nm", "design_energy_swing_J")}
+    ki, ui = units["inertia_kgm2"]
+    kt, ut = units["motor_torque_rms_Nm"]
+    ke, ue = units["design_energy_swing_J"]
+
     def kg(x: float | None) -> str:
-        return "-" if x is None else f"{x:,.4g} kg·m²"
+        return "-" if x is None else f"{sig(x, 4, ki)} {ui}"
 
     def pct(x: float | None) -> str:
         return "-" if x is None else f"{100 * x:.0f} %"
@@ -259,11 +276,11 @@ def _size_text(d: dict[str, Any], source: str) -> str:
     parts = d.get("ci95_parts_kgm2") or {}
     if parts:
         lines.append("interval parts        " + ", ".join(
-            f"{k.removesuffix('_kgm2').replace('_', ' ')} {v[0]:+.3g}/{v[1]:+.3g}"
-            for k, v in parts.items()) + " kg·m²")
+            f"{k.removesuffix('_kgm2').replace('_', ' ')} {v[0] * ki:+.3g}/{v[1] * ki:+.3g}"
+            for k, v in parts.items()) + f" {ui}")
     lines.append(f"constant-drive bound  {kg(d['bound_constant_drive_required_inertia_kgm2'])} "
                  f"required, {kg(d['bound_constant_drive_added_inertia_kgm2'])} added "
-                 f"(design swing {d['design_energy_swing_J'] / 1e3:.4g} kJ, "
+                 f"(design swing {d['design_energy_swing_J'] * ke:.4g} {ue}, "
                  f"{'max' if q == 'max' else f'p{100 * float(q):g}'} of the cycles; "
                  f"assumes a constant drive torque: an upper bound)")
     now, after = d.get("machine_now"), d.get("machine_after")
@@ -283,7 +300,8 @@ def _size_text(d: dict[str, Any], source: str) -> str:
                 share = f"drive_torque_{key}_share_of_rated"
                 extra = (f"   {pct(now[share])} → {pct(after[share])} of rated"
                          if share in now else "")
-                lines.append(f"{label + ' N·m':22}{now[k]:>12.4g}{after[k]:>12.4g}{extra}")
+                lines.append(f"{label + ' ' + ut:22}{now[k] * kt:>12.4g}"
+                             f"{after[k] * kt:>12.4g}{extra}")
         if "copper_loss_change_kWh_per_year" in after:
             lines.append(f"copper loss change    {after['copper_loss_change_rel']:+.0%}, "
                          f"{after['copper_loss_change_kWh_per_year']:+,.0f} kWh/year at "
@@ -292,7 +310,7 @@ def _size_text(d: dict[str, Any], source: str) -> str:
     if choice:
         lines += ["", f"sized on {choice['sized_on']}: {choice['why']} "
                       f"(--size-on {choice['size_on']})"]
-        lines += [f"  {r['log']}: design swing {r['design_energy_swing_J'] / 1e3:.4g} kJ at "
+        lines += [f"  {r['log']}: design swing {r['design_energy_swing_J'] * ke:.4g} {ue} at "
                   f"{r['speed_mean_rpm']:.4g} rpm" for r in choice["logs"]]
     rf = d.get("retrofit")
     if rf:
@@ -305,8 +323,8 @@ def _size_text(d: dict[str, Any], source: str) -> str:
         if rf.get("drive_torque_rms_predicted_Nm") is not None and \
                 rf.get("drive_torque_rms_after_log_Nm") is not None:
             lines.append(f"  drive torque RMS      predicted "
-                         f"{rf['drive_torque_rms_predicted_Nm']:.4g} N·m, after-log "
-                         f"{rf['drive_torque_rms_after_log_Nm']:.4g} N·m")
+                         f"{rf['drive_torque_rms_predicted_Nm'] * kt:.4g} {ut}, after-log "
+                         f"{rf['drive_torque_rms_after_log_Nm'] * kt:.4g} {ut}")
         lines += [f"  {m}" for m in rf["messages"]]
     lines += [""] + [f"note: {m}" for m in d["messages"]]
     lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
@@ -397,10 +415,11 @@ def size_cmd(logs: tuple[str, ...], size_on: str, after_log: str | None,
                              "motor (--motor-power, --sync-rpm, --rated-rpm, --motor-ratio, "
                              "or [motor] in the profile)")
         plot_drive_curve(result.to_pandas(), plot_path, target_cs=target_cs,
-                         recommended=data["added_inertia_kgm2"])
+                         recommended=data["added_inertia_kgm2"],
+                         units=output_settings()["units"])
         click.echo(f"wrote {plot_path}", err=True)
     emit(data, result.to_pandas() if fmt in TABULAR and result.curve is not None else None,
-         fmt, output, text=lambda d: _size_text(d, res.source))
+         fmt, output, text=lambda _: _size_text(data, res.source, output_settings()["units"]))
 
 
 
@@ -441,7 +460,7 @@ def _short_flags(flags: list[str]) -> str:
     return "; ".join(f"{k} {' '.join(v)}" for k, v in per.items())
 
 
-def _trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | None,
+def trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | None,
                 machine: str | None, folder_profiles: bool
                 ) -> tuple[list[Any], list[dict[str, str]], Any]:
     """File jobs for ``trend``; pops the cycle and read options from ``kw``."""
@@ -555,7 +574,7 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
     from torqlog.io.outputs import OUTPUT_NAMES, parquet_metadata, write_text
 
     profile_path = kw.get("profile")
-    jobs, missing, profile = _trend_jobs(paths, kw, name_time, machine, folder_profiles)
+    jobs, missing, profile = trend_jobs(paths, kw, name_time, machine, folder_profiles)
     figure_names = [f"trend_{f.strip()}.png" for f in figures.split(",") if f.strip()]
     out_files = ([Path(out_dir) / n for n in (*OUTPUT_NAMES, *figure_names,
                                                "energy_swing_box.png")]
@@ -591,7 +610,8 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
         with atomic_path(out / "cycles.parquet") as tmp:
             pq.write_table(table, tmp)
         write_text(out / "shifts.csv", res.to_pandas().to_csv(index=False))
-        written = [out / "cycles.parquet", out / "shifts.csv", *res.plot(out)]
+        written = [out / "cycles.parquet", out / "shifts.csv",
+                   *res.plot(out, units=output_settings()["units"])]
         click.echo("wrote " + ", ".join(str(p) for p in written), err=True)
     table = res.to_pandas()
     if fmt == "table":

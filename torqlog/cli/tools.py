@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from pathlib import Path
 from typing import Any
 
 import click
@@ -15,10 +16,12 @@ from torqlog.cli.base import (
     cycle_options,
     load_profile_opt,
     make_cycle_options,
+    output_settings,
     parse_quantile,
     positive_float,
     read_kwargs,
     to_json,
+    units_option,
     write_text,
 )
 
@@ -113,25 +116,64 @@ def simulate_cmd(machine: str, output: str, duration: float, rate: float, channe
               help="Also write the report as a typeset PDF (no browser needed).")
 @click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
               help="Also keep the PNG figures in this folder.")
+@click.option("--folder-profiles", is_flag=True,
+              help="Logs of several machines, one folder per machine with its one .toml "
+                   "profile (as trend takes them): the report is of the first log's "
+                   "machine and gains a fleet page ranking every machine.")
+@click.option("--name-time", default=None, metavar="PATTERN",
+              help="With --folder-profiles: read each file's start from its name with this "
+                   "strftime pattern, e.g. '%Y%m%d_%H%M' (used when the file states none).")
+@click.option("--fleet-sort", default="cs_p90_over_target", show_default=True,
+              metavar="COLUMN", help="Rank the fleet page by this column (worst first).")
+@units_option
 def report_cmd(logs: tuple[str, ...], target_cs: float | None, quantile: str, output: str,
-               pdf_path: str | None, figure_dir: str | None, **kw: Any) -> None:
+               pdf_path: str | None, figure_dir: str | None, folder_profiles: bool,
+               name_time: str | None, fleet_sort: str, **kw: Any) -> None:
     """One self-contained HTML report from LOG(s) of one machine: inputs, measured state,
     inertia recommendation, flywheel proposal, shaft checks, trends and cautions.
 
     The first LOG is the design log (recommendation, flywheel, shaft); several logs with
     start times also give the shift trend. Without --profile the report holds what the
-    log alone gives and says which profile lines would add the rest.
+    log alone gives and says which profile lines would add the rest. With
+    --folder-profiles the logs may come from several machines: the report is of the
+    first log's machine, and a fleet page ranks them all (sortable by any column).
     """
+    from torqlog.errors import UsageError
     from torqlog.present.report import build_report, write_report
 
-    profile_path = kw.pop("profile", None)
+    profile_path = kw.get("profile")
     check_outputs({"-o": output, "--pdf": pdf_path}, {"log": logs, "--profile": profile_path})
+    fleet = None
+    if folder_profiles:
+        from torqlog.cli.fleet import fleet_of_jobs
+        from torqlog.cli.logs import trend_jobs
+        from torqlog.fleet.compare import rank_rows
+
+        if profile_path:
+            raise UsageError("give either --profile or --folder-profiles: with "
+                             "--folder-profiles each machine's profile is the .toml "
+                             "beside its logs")
+        rank_rows([], fleet_sort)  # an unknown column is refused before any reading
+        jobs, missing, _ = trend_jobs(logs, dict(kw), name_time, None, True)
+        if missing:
+            raise UsageError(f"no such log: {', '.join(str(m) for m in missing)}")
+        fleet = fleet_of_jobs(jobs, fleet_sort)
+        logs = tuple(j.path for j in jobs if j.machine == jobs[0].machine)
+        profile_path = str(next(Path(logs[0]).parent.glob("*.toml")))
+    elif name_time:
+        raise UsageError("--name-time applies with --folder-profiles (the fleet page "
+                         "needs each log's date)")
+    kw.pop("profile", None)
     profile = load_profile_opt(profile_path)
     read = read_kwargs(kw)
     opts = make_cycle_options(kw, profile)
+    units = output_settings()["units"]  # --units, else the --profile's [output] units
+    if folder_profiles and "units" not in click.get_current_context().meta.get(
+            "torqlog.output", {}):
+        units = profile.output.get("units", "si")  # the first machine's profile
     data = build_report(list(logs), profile_path, cycle_options=opts, read=read,
                         target_cs=target_cs, quantile=parse_quantile(quantile),
-                        figure_dir=figure_dir)
+                        figure_dir=figure_dir, fleet=fleet, units=units)
     for stage, why in data.skipped.items():
         if not stage.startswith("log "):
             click.echo(f"note: {why}", err=True)

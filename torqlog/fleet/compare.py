@@ -112,11 +112,11 @@ class FleetResult:
         from torqlog.io.notebook import frame_html
 
         body = frame_html(title, self.to_pandas(), self.options, self.notes)
-        body = body.replace("<table><tr><th>", "<table id=fleet><tr><th>", 1)
+        body = body.replace("<table><tr><th>", "<table id=fleet class=sortable><tr><th>", 1)
         page = (f"<!doctype html><html lang=en><head><meta charset=utf-8>"
                 f"<title>{html.escape(title)}</title></head><body>{body}"
                 f"<p><small>{html.escape(FLEET_CAUTION)}</small></p>"
-                f"<script>{_SORT_SCRIPT}</script></body></html>")
+                f"<script>{SORT_SCRIPT}</script></body></html>")
         p = Path(path)
         p.write_text(page, encoding="utf-8")
         return p
@@ -127,21 +127,33 @@ FLEET_CAUTION = ("Added inertia figures are preliminary engineering estimates; a
                  "retrofit, its guards and its shaft follow the applicable codes and "
                  "standards and are approved by a qualified, licensed engineer.")
 
-# Click a column header to sort by it (again to reverse); empty cells go last.
-_SORT_SCRIPT = """
-document.querySelectorAll('#fleet tr:first-child th').forEach(function (th, i) {
-  th.style.cursor = 'pointer';
-  th.addEventListener('click', function () {
-    var t = document.getElementById('fleet'), rows = Array.from(t.rows).slice(1);
-    var down = th.dataset.down !== '1'; th.dataset.down = down ? '1' : '0';
-    rows.sort(function (a, b) {
-      var x = a.cells[i].textContent, y = b.cells[i].textContent;
-      if (x === '' || y === '') { return (x === '') - (y === ''); }
-      var nx = parseFloat(x), ny = parseFloat(y);
-      var c = (isNaN(nx) || isNaN(ny)) ? x.localeCompare(y) : nx - ny;
-      return down ? -c : c;
+#: Click a column header of any ``table.sortable`` to sort by it (again to reverse); a
+#: cell's exact ``data-value`` is compared when it has one, else its text; empty cells and
+#: "–" go last. Used by fleet.html and by the report's fleet page (no network, no library).
+SORT_SCRIPT = """
+document.querySelectorAll('table.sortable').forEach(function (t) {
+  var body = t.tBodies.length ? t.tBodies[0] : t;
+  var head = t.tHead ? t.tHead.rows[0] : t.rows[0];
+  Array.from(head.cells).forEach(function (th, i) {
+    th.style.cursor = 'pointer';
+    th.title = 'click to sort';
+    th.addEventListener('click', function () {
+      var rows = Array.from(body.rows).filter(function (r) { return r !== head; });
+      var down = th.dataset.down !== '1'; th.dataset.down = down ? '1' : '0';
+      var key = function (r) {
+        var c = r.cells[i], v = c.dataset.value;
+        v = (v === undefined || v === '') ? c.textContent.trim() : v;
+        return v === '\u2013' ? '' : v;
+      };
+      rows.sort(function (a, b) {
+        var x = key(a), y = key(b);
+        if (x === '' || y === '') { return (x === '') - (y === ''); }
+        var nx = Number(x.replace(/,/g, '')), ny = Number(y.replace(/,/g, ''));
+        var c = (isNaN(nx) || isNaN(ny)) ? x.localeCompare(y) : nx - ny;
+        return down ? -c : c;
+      });
+      rows.forEach(function (r) { body.appendChild(r); });
     });
-    rows.forEach(function (r) { t.appendChild(r); });
   });
 });
 """

@@ -411,15 +411,16 @@ class TrendResult:
                 "drift_onset": self.drift_onset, "drift_by_machine": self.onsets,
                 "limits": self.limits, "options": self.options, "notes": self.notes}
 
-    def plot(self, folder: str | Path) -> list[Path]:
-        """Write the trend charts (one PNG per figure) and the ΔE box plot to a folder."""
+    def plot(self, folder: str | Path, units: str = "si") -> list[Path]:
+        """Write the trend charts (one PNG per figure) and the ΔE box plot to a folder,
+        their axes in ``units`` ("si" or "us")."""
         from torqlog.present.plots import plot_trend, plot_trend_box
 
         d = Path(folder)
         d.mkdir(parents=True, exist_ok=True)
-        out = [plot_trend(self, fig, d / f"trend_{fig}.png")
+        out = [plot_trend(self, fig, d / f"trend_{fig}.png", units=units)
                for fig in self.options["drift"]["figures"]]
-        out.append(plot_trend_box(self, d / "energy_swing_box.png"))
+        out.append(plot_trend_box(self, d / "energy_swing_box.png", units=units))
         return out
 
 

@@ -135,9 +135,17 @@ class LogReader:
         self.read_ahead = read_ahead
         self._raw: pa.NativeFile | None = None
         self._size = max(Path(self.layout.path).stat().st_size, 1)
+        self._rows_read = 0
 
     def fraction_read(self) -> float:
-        """Share of the file's bytes read so far (0 to 1), for progress bars."""
+        """Share of the file read so far (0 to 1), for progress bars: bytes of a CSV or
+        Parquet file; rows read of the rows an MDF4 or HDF5 file states for its group."""
+        from torqlog.io.read_mdf import ROWS_KEY
+
+        total = self.layout.preamble.get(ROWS_KEY) if self.layout.kind in ("mdf4", "hdf5") \
+            else None
+        if total:
+            return min(1.0, self._rows_read / max(int(total), 1))
         raw = self._raw
         try:
             return min(1.0, raw.tell() / self._size) if raw is not None else 0.0
@@ -350,7 +358,9 @@ class LogReader:
 
         lay = self.layout
         read = iter_mdf_batches if lay.kind == "mdf4" else iter_hdf_batches
-        yield from read(lay, [c.name for c in wanted])
+        for batch in read(lay, [c.name for c in wanted]):
+            self._rows_read += batch.num_rows
+            yield batch
 
     def _csv_batches(self, wanted: list[Column]) -> Iterator[pa.RecordBatch]:
         """Batches of a CSV or CSV.gz, streamed; pyarrow's errors become sentences."""

@@ -45,7 +45,7 @@ _SCHEMA: dict[str, dict[str, tuple[type | tuple[type, ...], float | None]]] = {
         "overspeed": ((int, float), 1.0),
     },
     "shaft": {
-        "material": (str, None),
+        "material": ((str, dict), None),
         "bearings_m": (list, None),
         "segments": (list, None),
         "masses": (list, None),
@@ -129,14 +129,18 @@ def _plain(key: str) -> str:
 
 
 def _with_unit(text: str, key: str, sec: str, source: str) -> float:
-    """A number written with its unit (``outer_diameter_m = "55 in"``) in the key's unit."""
-    from torqlog.io.units import KEY_UNITS, registry
+    """A number written with its unit (``outer_diameter_m = "55 in"``) in the key's unit.
+
+    A rotational speed written as a frequency is revolutions per unit time
+    (``speed_rpm = "0.75 Hz"`` is 45 rpm; :func:`torqlog.io.units.quantity_in`).
+    """
+    from torqlog.io.units import KEY_UNITS, quantity_in
 
     suffix = next((s for s in sorted(KEY_UNITS, key=len, reverse=True)
                    if key.endswith(s)), None)
     unit = KEY_UNITS[suffix][1] if suffix else ""
     try:
-        return float(registry().Quantity(text).to(unit).magnitude)
+        return quantity_in(text, unit)
     except Exception:  # noqa: BLE001 - pint raises several types for bad text
         raise DataError(f"{source}: [{sec}] {key} = {text!r}: give a number in "
                         f"{unit or 'no unit'}, or a number with a unit of that kind "

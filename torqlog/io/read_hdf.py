@@ -25,7 +25,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from torqlog.errors import DataError, UsageError
-from torqlog.io.read_mdf import _metadata_units, choose_group, describe_groups
+from torqlog.io.read_mdf import ROWS_KEY, _metadata_units, choose_group, describe_groups
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -95,6 +95,13 @@ def _scan(f: Any) -> list[dict[str, Any]]:
     return found
 
 
+#: Preamble entries the reader writes for people (``inspect``) and reads back itself:
+#: where the channels are, how they are stored, and their rows.
+PATH_KEY = "location in the file"
+STORED_KEY = "stored as"
+_STORED = {"datasets": "one dataset per channel", "table": "one table (compound dataset)"}
+
+
 def sniff_hdf(p: Path, roles: dict[str, str], units: dict[str, str], rate: float | None,
               start: str | pd.Timestamp | None) -> Layout:
     """The :class:`~torqlog.io.layout.Layout` of an HDF5 log (one group or table of it).
@@ -122,7 +129,8 @@ def sniff_hdf(p: Path, roles: dict[str, str], units: dict[str, str], rate: float
     names = [n for n, _, _ in g["channels"]]
     preamble = {**meta, "groups found": describe_groups(groups),
                 "group used": f"{'table' if g['kind'] == 'table' else 'group'} {g['index']}",
-                "hdf path": g["index"], "hdf kind": g["kind"]}
+                PATH_KEY: g["index"], STORED_KEY: _STORED[g["kind"]],
+                ROWS_KEY: str(g["length"])}
     lay = _build_layout(p, "hdf5", ",", ".", "utf8", 0, names,
                         [u for _, u, _ in g["channels"]], preamble, roles, units, rate,
                         start, [0.0] * len(names))
@@ -135,7 +143,8 @@ def iter_hdf_batches(lay: Layout, names: list[str],
     import pyarrow as pa
 
     h5py = _h5py()
-    path, kind = lay.preamble["hdf path"], lay.preamble["hdf kind"]
+    path = lay.preamble[PATH_KEY]
+    kind = next(k for k, v in _STORED.items() if v == lay.preamble[STORED_KEY])
     with h5py.File(lay.path, "r") as f:
         if kind == "table":
             ds = f[path]

@@ -63,6 +63,12 @@ def _close(mdf: Any, handle: Any) -> None:
         handle.close()
 
 
+#: Preamble entries the reader writes for people (``inspect``) and reads back itself:
+#: the number of the channel group used, and its rows (the file states them).
+GROUP_KEY = "channel group number"
+ROWS_KEY = "rows in the group"
+
+
 def _groups(mdf: Any) -> list[dict[str, Any]]:
     """Each channel group: index, label, master name, channels (name, unit, index)."""
     out = []
@@ -71,6 +77,7 @@ def _groups(mdf: Any) -> list[dict[str, Any]]:
         chans = [(c.name, (c.unit or "").strip(), i) for i, c in enumerate(grp.channels)]
         label = (grp.channel_group.acq_name or grp.channel_group.comment or "").strip()
         out.append({"index": g, "label": label, "master": master,
+                    "length": int(getattr(grp.channel_group, "cycles_nr", 0) or 0),
                     "channels": [c for c in chans if c[2] != master],
                     "master_name": chans[master][0] if master is not None else None,
                     "master_unit": chans[master][1] if master is not None else ""})
@@ -149,7 +156,7 @@ def sniff_mdf(p: Path, roles: dict[str, str], units: dict[str, str], rate: float
     preamble = {"groups found": describe_groups(groups),
                 "group used": f"group {g['index']}" + (f" {g['label']!r}" if g["label"]
                                                       else ""),
-                "mdf group": str(g["index"])}
+                GROUP_KEY: str(g["index"]), ROWS_KEY: str(g["length"])}
     lay = _build_layout(p, "mdf4", ",", ".", "utf8", 0, names, unit_row, preamble, roles,
                         units, rate, st, [0.0] * len(names))
     return _metadata_units(lay)
@@ -172,7 +179,7 @@ def iter_mdf_batches(lay: Layout, names: list[str]) -> Iterator[pa.RecordBatch]:
     import pyarrow as pa
 
     p = Path(lay.path)
-    group = int(lay.preamble["mdf group"])
+    group = int(lay.preamble[GROUP_KEY])
     time_col = lay.column("time")
     data_names = [n for n in names if time_col is None or n != time_col.name]
     mdf, handle = _open(p)

@@ -158,7 +158,7 @@ def si_factor(unit: str, kind: str) -> float:
     ureg = registry()
     try:
         q = ureg.Quantity(1.0, norm)
-        f = q.to(SI_UNITS[kind]).magnitude if SI_UNITS[kind] else q.to("").magnitude
+        f = _to_unit(q, SI_UNITS[kind]) if SI_UNITS[kind] else q.to("").magnitude
     except pint.errors.DimensionalityError:
         raise UsageError(
             f"unit {unit!r} is not a {kind} unit (expected something convertible to "
@@ -170,6 +170,59 @@ def si_factor(unit: str, kind: str) -> float:
     if not math.isfinite(f) or f == 0:
         raise UsageError(f"unit {unit!r} has no usable conversion to {SI_UNITS[kind]}")
     return float(f)
+
+
+def _has_angle(units: object) -> bool:
+    """Whether a pint unit carries an angle (rad, degree, revolution) in its root units."""
+    return "radian" in str(registry().get_root_units(units)[1])
+
+
+def _to_unit(q: pint.Quantity, unit: str) -> float:
+    """Magnitude of ``q`` in ``unit``, with a rotational speed and a frequency told apart.
+
+    pint counts the radian as a pure number, so it reads 1 Hz as 1 rad/s. For a machine
+    a *rotational speed* written as a frequency (``Hz``, ``1/s``, ``kHz``) means
+    revolutions per unit time (1 Hz = 1 rev/s = 60 rpm), as ``1/min`` means rev/min;
+    and a speed in rpm asked for as a frequency gives revolutions per second. So when
+    one side carries an angle and the other is a bare rate (both ``1/[time]``), the
+    bare rate is read as revolutions per unit time.
+
+    Examples
+    --------
+    >>> q = registry().Quantity(0.75, "Hz")
+    >>> round(_to_unit(q, "rpm"), 9)
+    45.0
+    """
+    ureg = registry()
+    target = ureg.Unit(unit)
+    if q.dimensionality == {"[time]": -1} and target.dimensionality == {"[time]": -1}:
+        from_angle, to_angle = _has_angle(q.units), _has_angle(target)
+        if to_angle and not from_angle:
+            q = q * ureg.revolution
+        elif from_angle and not to_angle:
+            q = q / ureg.revolution
+    return float(q.to(target).magnitude)
+
+
+def quantity_in(text: str, unit: str) -> float:
+    """A quantity written as text (``"55 in"``, ``"0.75 Hz"``) in ``unit`` (pint text).
+
+    The rule of :func:`_to_unit` holds: a frequency given for a rotational speed is
+    revolutions per unit time. Raises whatever pint raises for text it cannot read or a
+    unit of another kind (callers word the message).
+
+    Examples
+    --------
+    >>> quantity_in("0.75 Hz", "rpm"), quantity_in("55 in", "m")
+    (45.0, 1.397)
+    """
+    ureg = registry()
+    m = _NUMBER.match(str(text))
+    if m and m.group(2):
+        q = ureg.Quantity(float(m.group(1)), _normalise(m.group(2)))
+    else:
+        q = ureg.Quantity(text)
+    return _to_unit(q, unit)
 
 
 @functools.lru_cache(maxsize=256)
@@ -308,6 +361,7 @@ KEY_UNITS: dict[str, tuple[str, str]] = {
     "_Pa": ("Pa", "Pa"),
     "_mm": ("mm", "mm"),
     "_kg": ("kg", "kg"),
+    "_N": ("N", "N"),
     "_J": ("J", "J"),
     "_W": ("W", "W"),
     "_m": ("m", "m"),
@@ -329,6 +383,7 @@ US_UNITS: dict[str, tuple[str, str, str]] = {
     "_Pa": ("_psi", "psi", "psi"),
     "_mm": ("_mil", "mil", "thou"),
     "_kg": ("_lb", "lb", "lb"),
+    "_N": ("_lbf", "lbf", "lbf"),
     "_J": ("_ftlbf", "ft·lbf", "ft*lbf"),
     "_W": ("_hp", "hp", "hp"),
     "_m": ("_in", "in", "inch"),
@@ -338,11 +393,30 @@ UNIT_SYSTEMS = ("si", "us")
 _US_BACK = {us: si for si, (us, _, _) in US_UNITS.items()}
 
 
-def _suffix(key: str, table: dict) -> str | None:
-    for suf in sorted(table, key=len, reverse=True):
-        if key.endswith(suf) and len(key) > len(suf):
-            return suf
+#: Tails a key may carry after its unit suffix: a statistic of the figure
+#: (``torque_peak_Nm_p99``, ``energy_swing_J_median``, ``work_J_mean``).
+_STAT_TAIL = re.compile(r"_(?:p\d+(?:\.\d+)?|mean|median|max|min|std|sd|rms)$")
+
+
+def _split(key: str, table: dict) -> tuple[str, str, str] | None:
+    """``(stem, suffix, tail)`` of a key whose unit suffix is in ``table``, or None.
+
+    The unit suffix ends the key, or comes just before a statistic tail (``_p99``).
+    """
+    tail_match = _STAT_TAIL.search(key)
+    candidates = [(key, "")]
+    if tail_match:
+        candidates.append((key[: tail_match.start()], key[tail_match.start():]))
+    for body, tail in candidates:
+        for suf in sorted(table, key=len, reverse=True):
+            if body.endswith(suf) and len(body) > len(suf):
+                return body[: -len(suf)], suf, tail
     return None
+
+
+def _suffix(key: str, table: dict) -> str | None:
+    parts = _split(key, table)
+    return parts[1] if parts else None
 
 
 def key_unit(key: str, system: str = "si") -> str:
@@ -390,19 +464,21 @@ def us_key(key: str) -> tuple[str, float]:
 
     Returns ``(key, 1.0)`` for keys whose unit stays (rpm, s, Hz, dimensionless).
     """
-    suf = _suffix(key, US_UNITS)
-    if suf is None:
+    parts = _split(key, US_UNITS)
+    if parts is None:
         return key, 1.0
-    return key[: -len(suf)] + US_UNITS[suf][0], us_factor(suf)
+    stem, suf, tail = parts
+    return stem + US_UNITS[suf][0] + tail, us_factor(suf)
 
 
 def si_key(key: str) -> tuple[str, float]:
     """Inverse of :func:`us_key`: the SI name of a US key and the factor back to SI."""
-    suf = _suffix(key, _US_BACK)
-    if suf is None:
+    parts = _split(key, _US_BACK)
+    if parts is None:
         return key, 1.0
+    stem, suf, tail = parts
     si = _US_BACK[suf]
-    return key[: -len(suf)] + si, 1.0 / us_factor(si)
+    return stem + si + tail, 1.0 / us_factor(si)
 
 
 def _scale(value: object, factor: float) -> object:
@@ -415,6 +491,13 @@ def _scale(value: object, factor: float) -> object:
     if hasattr(value, "dtype") and getattr(value.dtype, "kind", "") in "fiu":
         return value * factor
     return value
+
+
+def _is_stats(value: object) -> bool:
+    """A dict of statistics of one figure (``{"median": .., "p95": .., "max": ..}``)."""
+    return (isinstance(value, dict) and bool(value)
+            and all(isinstance(x, int | float) or x is None for x in value.values())
+            and all(_STAT_TAIL.fullmatch("_" + str(s)) for s in value))
 
 
 def convert_keys(data: object, system: str, *, back: bool = False) -> object:
@@ -446,6 +529,10 @@ def convert_keys(data: object, system: str, *, back: bool = False) -> object:
     if isinstance(data, dict):
         out = {}
         for k, v in data.items():
+            if _is_stats(v):  # energy_swing_J: {median, p95, max} -> one unit for all
+                new, factor = rename(str(k))
+                out[new] = {s: _scale(x, factor) for s, x in v.items()}
+                continue
             if isinstance(v, dict | list) and not (isinstance(v, list) and v
                                                    and isinstance(v[0], int | float)):
                 out[k] = convert_keys(v, system, back=back)

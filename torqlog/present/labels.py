@@ -124,6 +124,18 @@ LABELS: Mapping[str, Label] = MappingProxyType({
     "date": _L("Date"),
     "shift": _L("Shift"),
     "flags": _L("Control-chart signals"),
+    # fleet (torqlog.fleet.compare.FLEET_COLUMNS)
+    "rank": _L("Rank", digits=9),
+    "machine": _L("Machine"),
+    "logs": _L("Logs", digits=9),
+    "last_log": _L("Last log"),
+    "cs_p90": _L("Cs, worst tenth of cycles (p90)"),
+    "cs_p90_over_target": _L("Cs p90 / target"),
+    "status": _L("Status"),
+    "motor_rms_load": _L("Motor RMS load, share of rated", "%", 100.0),
+    "anomaly_rate": _L("Abnormal cycle shapes", "%", 100.0),
+    "flagged_share": _L("Flagged cycles", "%", 100.0),
+    "drift": _L("Drift"),
     # log facts
     "name": _L("Column"),
     "role": _L("Role"),
@@ -140,13 +152,25 @@ _SUFFIX_UNITS: tuple[tuple[str, str, float], ...] = (
     ("_Nms_per_rad", "N·m·s/rad", 1.0), ("_kgm2", "kg·m²", 1.0), ("_m_s", "m/s", 1.0),
     ("_MPa", "MPa", 1.0), ("_rpm", "rpm", 1.0), ("_Nm", "N·m", 1.0), ("_kJ", "kJ", 1.0),
     ("_kW", "kW", 1.0), ("_Hz", "Hz", 1.0), ("_hz", "Hz", 1.0), ("_mm", "mm", 1.0),
-    ("_kg", "kg", 1.0), ("_J", "J", 1.0), ("_W", "W", 1.0), ("_s", "s", 1.0),
+    ("_kg", "kg", 1.0), ("_N", "N", 1.0), ("_J", "J", 1.0), ("_W", "W", 1.0),
+    ("_s", "s", 1.0),
     ("_m", "m", 1.0), ("_rel", "%", 100.0), ("_share", "%", 100.0),
 )
 
 
-def label_of(key: str) -> Label:
+def label_of(key: str, system: str = "si") -> Label:
     """The :class:`Label` of a JSON key (its last dotted part); derived when not listed.
+
+    Parameters
+    ----------
+    key : str
+        A JSON key or dotted path. An SI key (``inertia_kgm2``) takes an SI value; a US
+        customary key (``inertia_lbft2``, as ``--units us`` writes) takes a US value.
+    system : str
+        ``"si"`` or ``"us"``: the units people read. With ``"us"`` an SI key's label
+        converts its SI value to US customary units (lbf·ft, ft·lbf, lb·ft², in, ksi, lb,
+        hp; rpm, Hz, s and % stay) by the factors of :mod:`torqlog.io.units` -- the one
+        conversion layer, so a US label shows what the US JSON holds.
 
     Examples
     --------
@@ -154,8 +178,32 @@ def label_of(key: str) -> Label:
     'Added inertia at the flywheel shaft, kg·m²'
     >>> label_of("drive.existing.motor_speed_min_rpm").full
     'Motor speed min, rpm'
+    >>> label_of("added_inertia_at_flywheel_kgm2", "us").full
+    'Added inertia at the flywheel shaft, lb·ft²'
+    >>> show("energy_swing_J", 8130.0, system="us")
+    '6,000 ft·lbf'
     """
+    from torqlog.io.units import UNIT_SYSTEMS, key_unit, si_key, us_key
+
+    if system not in UNIT_SYSTEMS:
+        from torqlog.errors import UsageError
+
+        raise UsageError(f"unknown unit system {system!r}; valid: {', '.join(UNIT_SYSTEMS)}")
     leaf = str(key).rsplit(".", 1)[-1]
+    si_leaf, back = si_key(leaf)
+    if back != 1.0:  # a US key: its value is already US customary
+        lab = _si_label(si_leaf)
+        return Label(lab.text, key_unit(leaf, "us"), 1.0, lab.digits)
+    lab = _si_label(leaf)
+    if system == "us":
+        us_leaf, factor = us_key(leaf)
+        if factor != 1.0:
+            return Label(lab.text, key_unit(us_leaf, "us"), factor, lab.digits)
+    return lab
+
+
+def _si_label(leaf: str) -> Label:
+    """The SI label of a key's last part (listed, or derived from its unit suffix)."""
     if leaf in LABELS:
         return LABELS[leaf]
     for suffix, unit, scale in _SUFFIX_UNITS:
@@ -166,9 +214,9 @@ def label_of(key: str) -> Label:
     return Label(words[:1].upper() + words[1:])
 
 
-def label(key: str) -> str:
-    """``"Label, unit"`` of a JSON key (see :func:`label_of`)."""
-    return label_of(key).full
+def label(key: str, system: str = "si") -> str:
+    """``"Label, unit"`` of a JSON key in a unit system (see :func:`label_of`)."""
+    return label_of(key, system).full
 
 
 def sig(value: Any, digits: int = 3, scale: float = 1.0) -> str:
@@ -225,17 +273,20 @@ def sig(value: Any, digits: int = 3, scale: float = 1.0) -> str:
     return f"{rounded:,.{decimals}f}"
 
 
-def show(key: str, value: Any, unit: bool = True) -> str:
-    """A value of a JSON key as people read it: scaled, rounded and (optionally) with unit.
+def show(key: str, value: Any, unit: bool = True, system: str = "si") -> str:
+    """A value of a JSON key as people read it: scaled, rounded and (optionally) with unit,
+    in the unit system ``system`` (see :func:`label_of`).
 
     Examples
     --------
     >>> show("outer_diameter_m", 0.7512)
     '751 mm'
+    >>> show("outer_diameter_m", 0.7512, system="us")
+    '29.6 in'
     >>> show("cs", 0.0378846)
     '0.0379'
     """
-    lab = label_of(key)
+    lab = label_of(key, system)
     if isinstance(value, list | tuple):
         text = ", ".join(sig(v, lab.digits, lab.scale) for v in value)
     else:
@@ -245,15 +296,16 @@ def show(key: str, value: Any, unit: bool = True) -> str:
     return text
 
 
-def relabel_table(table: Any) -> Any:
+def relabel_table(table: Any, system: str = "si") -> Any:
     """A copy of a pandas table for people: labelled columns, numbers as :func:`show`
-    text without unit (the unit is in the column label)."""
+    text without unit (the unit is in the column label). Columns named by US keys
+    (``--units us``) are read as US values."""
     out = table.copy()
     for col in table.columns:
-        lab = label_of(col)
+        lab = label_of(col, system)
         if out[col].dtype.kind in "fiu" and out[col].dtype.kind != "b":
             out[col] = [sig(v, lab.digits, lab.scale) for v in out[col].tolist()]
-    out.columns = [label(c) for c in table.columns]
+    out.columns = [label(c, system) for c in table.columns]
     return out
 
 

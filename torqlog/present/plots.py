@@ -84,11 +84,38 @@ def save(fig: Figure, path: str | Path) -> Path:
     return p
 
 
+def axis_unit(key: str, units: str = "si") -> tuple[float, str]:
+    """``(scale, unit)`` of an axis that shows the figure of a JSON key.
+
+    ``scale`` multiplies a value in the key's own unit (SI for ``torque_mean_Nm``) into
+    ``unit``, the unit people read in ``units`` ("si": kN·m, kJ, mm, MPa; "us": lbf·ft,
+    ft·lbf, in, ksi), through :func:`torqlog.present.labels.label_of` -- the labels and
+    the one conversion layer of :mod:`torqlog.io.units`.
+
+    Examples
+    --------
+    >>> axis_unit("torque_mean_Nm")
+    (0.001, 'kN·m')
+    >>> axis_unit("outer_diameter_m", "us")[1]
+    'in'
+    """
+    from torqlog.present.labels import label_of
+
+    lab = label_of(key, units)
+    return lab.scale, lab.unit
+
+
 # --- cycles
-def plot_cycles(result: object, path: str | Path) -> Path:
+def plot_cycles(result: object, path: str | Path, *, units: str = "si") -> Path:
     """Torque vs crank angle (every cycle faint, mean bold), E(θ) of the mean cycle with
-    ΔE marked, and speed vs angle. ``result`` is a :class:`torqlog.signal.cycles.CycleResult`."""
+    ΔE marked, and speed vs angle. ``result`` is a :class:`torqlog.signal.cycles.CycleResult`;
+    ``units`` "si" or "us" (axes in kN·m and kJ, or lbf·ft and ft·lbf)."""
     import numpy as np
+
+    from torqlog.present.labels import sig
+
+    kt, ut = axis_unit("torque_mean_Nm", units)
+    ke, ue = axis_unit("energy_swing_J", units)
 
     mc = result.mean_cycle
     deg = np.degrees(mc["angle"].to_numpy())
@@ -101,26 +128,27 @@ def plot_cycles(result: object, path: str | Path) -> Path:
                  f"{result.summary['cycles_total']}", fontweight="bold")
     if has_t:
         for c in result.curves.get("torque", np.empty((0, deg.size))):
-            ax_t.plot(deg, c / 1e3, color=PALETTE["band"], lw=0.5, alpha=0.5)
-        ax_t.plot(deg, mc["torque_mean"] / 1e3, color=PALETTE["mean"], lw=2.0, label="mean cycle")
+            ax_t.plot(deg, c * kt, color=PALETTE["band"], lw=0.5, alpha=0.5)
+        ax_t.plot(deg, mc["torque_mean"] * kt, color=PALETTE["mean"], lw=2.0, label="mean cycle")
         ax_t.plot([], [], color=PALETTE["band"], lw=1, label="each cycle")
         ax_t.legend(loc="upper right")
-        ax_t.set_ylabel("torque [kN·m]")
+        ax_t.set_ylabel(f"torque [{ut}]")
         ax_t.set_title("Torque against crank angle")
         e = result.energy_curve()
         edeg = np.concatenate(([0.0], deg + (deg[1] - deg[0]) / 2))
-        ax_e.plot(edeg, e / 1e3, color=PALETTE["data"], lw=2.0)
+        ax_e.plot(edeg, e * ke, color=PALETTE["data"], lw=2.0)
         imax, imin = int(np.argmax(e)), int(np.argmin(e))
         de = e[imax] - e[imin]
-        ax_e.axhline(e[imax] / 1e3, color=PALETTE["reference"], lw=0.8, ls="--")
-        ax_e.axhline(e[imin] / 1e3, color=PALETTE["reference"], lw=0.8, ls="--")
+        ax_e.axhline(e[imax] * ke, color=PALETTE["reference"], lw=0.8, ls="--")
+        ax_e.axhline(e[imin] * ke, color=PALETTE["reference"], lw=0.8, ls="--")
         xm = edeg[-1] * 0.02
-        ax_e.annotate("", xy=(xm, e[imax] / 1e3), xytext=(xm, e[imin] / 1e3),
+        ax_e.annotate("", xy=(xm, e[imax] * ke), xytext=(xm, e[imin] * ke),
                       arrowprops={"arrowstyle": "<->", "color": PALETTE["mean"], "lw": 1.5})
-        ax_e.text(xm * 2.5, (e[imax] + e[imin]) / 2e3, f"ΔE = {de / 1e3:.3g} kJ (mean cycle)",
+        ax_e.text(xm * 2.5, (e[imax] + e[imin]) / 2 * ke,
+                  f"ΔE = {sig(de * ke, 3)} {ue} (mean cycle)",
                   color=PALETTE["mean"], va="center", fontweight="bold",
                   bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.8})
-        ax_e.set_ylabel("E(θ) [kJ]")
+        ax_e.set_ylabel(f"E(θ) [{ue}]")
         ax_e.set_title("Accumulated energy above the mean torque, E(θ) = ∫(T − T̄)dθ")
     else:
         for ax in (ax_t, ax_e):
@@ -145,7 +173,8 @@ def plot_cycles(result: object, path: str | Path) -> Path:
 
 
 # --- shaft
-def plot_shaft(result: object, path: str | Path, spectrum: object | None = None) -> Path:
+def plot_shaft(result: object, path: str | Path, spectrum: object | None = None, *,
+               units: str = "si") -> Path:
     """Shaft check figure: static deflection, first lateral mode shapes, and (with a
     spectrum) the torque orders at the running speed against the torsional modes.
 
@@ -159,8 +188,16 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
         Orders of the torque; drawn as stems at order x running speed [Hz], with each
         elastic torsional mode as a vertical line and the band of order frequencies that
         would be flagged (f / (1 + band) to f / (1 - band)) shaded.
+    units : str
+        "si" (positions in m, deflection in mm, torque in N·m) or "us" (in, mil, lbf·ft).
     """
     import numpy as np
+
+    kx, ux = axis_unit("position_m", units)
+    kd, ud = axis_unit("static_deflection_max_mm", units)  # mm, or mil (thou)
+    kd *= 1e3  # the deflections are in m
+    kt, ut = axis_unit("motor_torque_rms_Nm", units)
+    km, um = axis_unit("mass_kg", units)
 
     states = [("before", result.before, PALETTE["data"])]
     if result.after is not None:
@@ -170,38 +207,38 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
     ax = axes[0]
     for label, st, color in states:
         lat = st.lateral
-        ax.plot(lat.x, lat.deflection * 1e3, color=color,
-                label=f"{label}: max {lat.static_deflection_max * 1e3:.3f} mm")
+        ax.plot(lat.x * kx, lat.deflection * kd, color=color,
+                label=f"{label}: max {lat.static_deflection_max * kd:.3g} {ud}")
         for m in lat.model.masses:
-            yi = np.interp(m.at, lat.x, lat.deflection) * 1e3
-            ax.plot(m.at, yi, "o", color=color, ms=6 + 3 * (m.name == "added"))
+            yi = np.interp(m.at, lat.x, lat.deflection) * kd
+            ax.plot(m.at * kx, yi, "o", color=color, ms=6 + 3 * (m.name == "added"))
             if label == "before" or m.name == "added":
                 right = m.at > 0.8 * lat.model.length
-                ax.annotate(f"{m.name} {m.mass:g} kg",
-                            (m.at, yi), textcoords="offset points",
+                ax.annotate(f"{m.name} {m.mass * km:.4g} {um}",
+                            (m.at * kx, yi), textcoords="offset points",
                             xytext=(-6 if right else 4, -12 if label == "before" else 6),
                             ha="right" if right else "left", fontsize=8, color=color)
     cur = result.current.lateral
-    ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
+    ax.plot(np.asarray(cur.model.bearings) * kx, np.zeros(len(cur.model.bearings)), "^",
             color=PALETTE["reference"], ms=10, label="bearing (simple support)")
     ax.axhline(0.0, color=PALETTE["reference"], lw=0.8)
     ax.invert_yaxis()
     ax.set_title("Static deflection under the weights of the masses")
-    ax.set_xlabel("position along shaft x [m]")
-    ax.set_ylabel("deflection (down) [mm]")
+    ax.set_xlabel(f"position along shaft x [{ux}]")
+    ax.set_ylabel(f"deflection (down) [{ud}]")
     ax.legend(loc="best")
 
     ax = axes[1]
     styles = ["-", "--", ":"]
     for i, (f, shape) in enumerate(zip(cur.fe_hz, cur.mode_shapes, strict=False)):
-        ax.plot(cur.x, shape, styles[i % 3], color=PALETTE["data"] if i == 0 else
+        ax.plot(cur.x * kx, shape, styles[i % 3], color=PALETTE["data"] if i == 0 else
                 PALETTE["reference"], label=f"mode {i + 1}: {f:.1f} Hz")
-    ax.plot(cur.model.bearings, np.zeros(len(cur.model.bearings)), "^",
+    ax.plot(np.asarray(cur.model.bearings) * kx, np.zeros(len(cur.model.bearings)), "^",
             color=PALETTE["reference"], ms=10, label="bearing")
     state = "after" if result.after is not None else "current"
     ax.set_title(f"Lateral mode shapes ({state}); first mode {cur.ratio:.1f}× shaft speed "
                  f"{cur.forcing_hz:.2f} Hz: {cur.verdict}")
-    ax.set_xlabel("position along shaft x [m]")
+    ax.set_xlabel(f"position along shaft x [{ux}]")
     ax.set_ylabel("relative deflection [-]")
     ax.legend(loc="best", ncols=2)
 
@@ -220,7 +257,7 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
         hi = max([hi, *(f / (1 - tor.band) for f in elastic), *cur.fe_hz[:1]])
         shown = freq <= hi * 1.3
         freq, sig = freq[shown], sig[shown]
-        amplitude, orders = spectrum.amplitude[shown], spectrum.order[shown]
+        amplitude, orders = spectrum.amplitude[shown] * kt, spectrum.order[shown]
         ax.vlines(freq, 0, amplitude, color=PALETTE["data"], lw=2)
         ax.plot(freq[sig], amplitude[sig], "o", color=PALETTE["data"],
                 label=f"order, share ≥ {min_share:g}")
@@ -247,14 +284,14 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None)
         ax.set_ylim(0, top * 1.6)
         ax.set_title(f"Torque orders at {speed_hz * 60:.0f} rpm vs torsional modes")
         ax.set_xlabel("frequency [Hz] (order × running speed)")
-        ax.set_ylabel("torque amplitude [N·m]")
+        ax.set_ylabel(f"torque amplitude [{ut}]")
         ax.legend(loc="upper center", ncols=3, frameon=True, framealpha=0.9,
                   edgecolor=PALETTE["grid"])
     return save(fig, path)
 
 
 # --- flywheel
-def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
+def plot_flywheel_stresses(result: object, path: str | Path, *, units: str = "si") -> Path:
     """Radial, tangential and criterion stress against radius for a flywheel check.
 
     Drawn at the operating speed the stresses are evaluated at, with the strength line
@@ -266,6 +303,8 @@ def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
     result : torqlog.rotor.flywheel.FlywheelResult
     path : str or Path
         PNG file to write.
+    units : str
+        "si" (radius in mm, stress in MPa) or "us" (in, ksi).
 
     Returns
     -------
@@ -275,20 +314,24 @@ def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
 
     from torqlog.rotor.flywheel import max_principal, von_mises
 
+    kr, ur = axis_unit("outer_diameter_m", units)  # from m
+    ks, us = axis_unit("stress_critical_MPa", units)  # from MPa
+    ks *= 1e-6  # the stresses are in Pa
+
     r = result.radius
     # break the curves at step boundaries (a stepped disc jumps there)
     breaks = np.flatnonzero(np.diff(result.step)) + 1
-    r_mm = np.insert(r * 1e3, breaks, np.nan)
+    r_mm = np.insert(r * kr, breaks, np.nan)
 
     def cut(values: np.ndarray) -> np.ndarray:
-        return np.insert(values / 1e6, breaks, np.nan)
+        return np.insert(values * ks, breaks, np.nan)
 
     crit_fn = von_mises if result.criterion == "von-mises" else max_principal
     crit_label = "von Mises" if result.criterion == "von-mises" else "max principal"
     crit = crit_fn(result.radial, result.tangential)
-    strength = result.material.strength / 1e6
-    allowable = result.allowable_stress / 1e6
-    top = float(np.nanmax(crit)) / 1e6
+    strength = result.material.strength * ks
+    allowable = result.allowable_stress * ks
+    top = float(np.nanmax(crit)) * ks
 
     fig, ax = new_figure(height=4.2, width=10.0)
     ax.plot(r_mm, cut(crit), color=PALETTE["band"], lw=6, solid_capstyle="butt",
@@ -300,9 +343,9 @@ def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
     notes = []
     ymax = 1.25 * top
     for value, label, style in (
-            (allowable, f"allowable {allowable:.4g} MPa (strength / "
+            (allowable, f"allowable {allowable:.4g} {us} (strength / "
                         f"{result.required_stress_factor:.3g})", "--"),
-            (strength, f"{result.material.strength_kind} strength {strength:.4g} MPa", "-")):
+            (strength, f"{result.material.strength_kind} strength {strength:.4g} {us}", "-")):
         if value <= 5.0 * top:
             ax.axhline(value, color=PALETTE["limit"], lw=1.2, ls=style, label=label)
             ymax = max(ymax, 1.08 * value)
@@ -314,16 +357,16 @@ def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
                 transform=ax.transAxes, ha="left", va="bottom", fontsize=8,
                 color=PALETTE["limit"])
     ax.set_ylim(0.0, ymax)
-    ax.set_xlim(0.0, result.geometry.outer_radius * 1e3 * 1.02)
-    ax.set_xlabel("radius [mm]")
-    ax.set_ylabel("stress [MPa]")
+    ax.set_xlim(0.0, result.geometry.outer_radius * kr * 1.02)
+    ax.set_xlabel(f"radius [{ur}]")
+    ax.set_ylabel(f"stress [{us}]")
     rpm = result.speed * 60.0 / (2.0 * np.pi)
     g = result.geometry
     ax.set_title(f"Flywheel stresses at the operating speed, {rpm:.0f} rpm\n{g.shape}, "
-                 f"{result.material.name}, OD {g.outer_diameter * 1e3:.0f} mm: "
+                 f"{result.material.name}, OD {g.outer_diameter * kr:.4g} {ur}: "
                  f"verdict {result.verdict}", loc="left")
     for b in breaks:
-        ax.axvline(r[b] * 1e3, color=PALETTE["reference"], lw=0.8, ls=":",
+        ax.axvline(r[b] * kr, color=PALETTE["reference"], lw=0.8, ls=":",
                    label="web to rim step" if b == breaks[0] else None)
     ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
     return save(fig, path)
@@ -331,7 +374,7 @@ def plot_flywheel_stresses(result: object, path: str | Path) -> Path:
 
 # --- size
 def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None = None,
-                     recommended: float | None = None) -> Path:
+                     recommended: float | None = None, *, units: str = "si") -> Path:
     """Simulated Cs and peak motor torque against added flywheel inertia.
 
     Parameters
@@ -345,12 +388,17 @@ def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None
         Target Cs, drawn as a horizontal line.
     recommended : float, optional [kg*m^2]
         Recommended added inertia, marked on the Cs curve.
+    units : str
+        "si" (kg·m², N·m) or "us" (lb·ft², lbf·ft).
     """
     import numpy as np
 
-    x = df["added_inertia_kgm2"].to_numpy(float)
+    ki, ui = axis_unit("added_inertia_kgm2", units)
+    kt, ut = axis_unit("motor_torque_peak_Nm", units)
+
+    x = df["added_inertia_kgm2"].to_numpy(float) * ki
     cs = df["cs"].to_numpy(float)
-    peak = df["motor_torque_peak_Nm"].to_numpy(float)
+    peak = df["motor_torque_peak_Nm"].to_numpy(float) * kt
     fig, ax = new_figure(height=4.4)
     with plt.rc_context(_RC):
         h1 = ax.plot(x, cs, "o-", color=PALETTE["data"], lw=1.8, ms=4,
@@ -360,11 +408,11 @@ def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None
             handles.append(ax.axhline(target_cs, color=PALETTE["limit"], ls="--", lw=1.2,
                                       label=f"target Cs = {target_cs:g}"))
         if recommended is not None and x.size:
-            cs_rec = float(np.interp(recommended, x, cs))
-            handles.extend(ax.plot([recommended], [cs_rec], marker="*", ms=14, ls="none",
+            cs_rec = float(np.interp(recommended * ki, x, cs))
+            handles.extend(ax.plot([recommended * ki], [cs_rec], marker="*", ms=14, ls="none",
                                    color=PALETTE["mean"],
-                                   label=f"recommended: {recommended:.4g} kg·m² added"))
-        ax.set_xlabel("added inertia at the logged shaft [kg·m²]")
+                                   label=f"recommended: {recommended * ki:.4g} {ui} added"))
+        ax.set_xlabel(f"added inertia at the logged shaft [{ui}]")
         ax.set_ylabel("coefficient of speed fluctuation Cs [–]", color=PALETTE["data"])
         ax.set_ylim(bottom=0)
         ax2 = ax.twinx()
@@ -372,7 +420,7 @@ def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None
         ax2.spines["right"].set_visible(True)
         handles.extend(ax2.plot(x, peak, "s-", color=PALETTE["reference"], lw=1.4, ms=3.5,
                                 label="peak motor torque (motor shaft)"))
-        ax2.set_ylabel("peak motor torque [N·m]", color=PALETTE["reference"])
+        ax2.set_ylabel(f"peak motor torque [{ut}]", color=PALETTE["reference"])
         ax2.set_ylim(bottom=0)
         ax.set_title("Speed fluctuation and motor torque against added flywheel inertia")
         fig.legend(handles=handles, loc="outside lower center", ncols=2)
@@ -382,7 +430,7 @@ def plot_drive_curve(df: pd.DataFrame, path: str | Path, target_cs: float | None
 # --- report
 def plot_distributions(table: pd.DataFrame, path: str | Path, *,
                        target_cs: float | None = None, quantile: float | str = 0.95,
-                       title: str | None = None) -> Path:
+                       title: str | None = None, units: str = "si") -> Path:
     """Histograms of the per-cycle energy swing ΔE and coefficient of speed fluctuation
     Cs over the clean cycles of a log, with the median and the design quantile marked.
 
@@ -399,11 +447,14 @@ def plot_distributions(table: pd.DataFrame, path: str | Path, *,
         Design quantile of ΔE (marked on the ΔE panel).
     title : str, optional
         Figure title.
+    units : str
+        "si" (ΔE in kJ) or "us" (ft·lbf).
     """
     import numpy as np
 
     clean = table[table["flag"] == ""]
-    panels = (("energy_swing_J", 1e-3, "energy swing ΔE per cycle [kJ]", "Energy swing ΔE",
+    ke, ue = axis_unit("energy_swing_J", units)
+    panels = (("energy_swing_J", ke, f"energy swing ΔE per cycle [{ue}]", "Energy swing ΔE",
                "no energy swing: the log has no torque (and no inertia was given)"),
               ("cs", 1.0, "coefficient of speed fluctuation Cs per cycle [–]",
                "Speed fluctuation Cs", "no Cs: the log has no speed, angle or encoder"))
@@ -457,7 +508,7 @@ def plot_distributions(table: pd.DataFrame, path: str | Path, *,
 
 def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float = 0.05,
                         speed_rpm: float | None = None, max_order: float = 24.0,
-                        title: str | None = None) -> Path:
+                        title: str | None = None, units: str = "si") -> Path:
     """Bar chart of the torque's order spectrum (amplitude by order of the shaft speed).
 
     Parameters
@@ -474,8 +525,12 @@ def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float 
     max_order : float
         Highest order drawn.
     title : str, optional
+    units : str
+        "si" (torque in kN·m) or "us" (lbf·ft).
     """
     import numpy as np
+
+    kt, ut = axis_unit("torque_mean_Nm", units)
 
     visible = spectrum.order[spectrum.share >= 0.01]
     top_order = min(max_order, float(visible.max()) * 1.25 if visible.size else max_order)
@@ -484,22 +539,22 @@ def plot_order_spectrum(spectrum: object, path: str | Path, *, min_share: float 
     sig = share >= min_share
     fig, ax = new_figure(height=3.6, width=10.0)
     width = 0.35 / max(1, spectrum.revs_per_cycle) * 2
-    ax.bar(order[sig], amp[sig] / 1e3, width=width, color=PALETTE["data"],
+    ax.bar(order[sig], amp[sig] * kt, width=width, color=PALETTE["data"],
            label=f"significant (share ≥ {min_share:g} of the dynamic torque)")
-    ax.bar(order[~sig], amp[~sig] / 1e3, width=width, color=PALETTE["band"],
+    ax.bar(order[~sig], amp[~sig] * kt, width=width, color=PALETTE["band"],
            label="minor")
     for o, a, s in zip(order[sig][:16], amp[sig][:16], share[sig][:16], strict=True):
-        ax.annotate(f"{s:.2f}", (o, a / 1e3), textcoords="offset points", xytext=(0, 3),
+        ax.annotate(f"{s:.2f}", (o, a * kt), textcoords="offset points", xytext=(0, 3),
                     ha="center", fontsize=7, rotation=90 if len(order) > 16 else 0,
                     va="bottom", color=PALETTE["data"])
     ax.set_xlabel("order of the shaft speed [–]")
-    ax.set_ylabel("torque amplitude [kN·m]")
+    ax.set_ylabel(f"torque amplitude [{ut}]")
     step = 1.0 / spectrum.revs_per_cycle
     ax.set_xlim(0, (order.max() if order.size else 1.0) + step)
-    top = float(amp.max()) / 1e3 if amp.size else 1.0
+    top = float(amp.max()) * kt if amp.size else 1.0
     ax.set_ylim(0, top * 1.3 if top > 0 else 1.0)
     ax.set_title(title or f"Order spectrum of the mean-cycle torque (mean torque "
-                 f"{spectrum.mean / 1e3:.3g} kN·m)")
+                 f"{spectrum.mean * kt:.3g} {ut})")
     ax.plot([], [], ls="none", label="numbers on bars: share of the dynamic torque")
     if speed_rpm:
         hz = speed_rpm / 60.0
@@ -539,15 +594,18 @@ def _date_axis(ax: object) -> None:
     ax.xaxis.set_major_formatter(mdates.ConciseDateFormatter(loc))
 
 
-def plot_trend(result: object, figure: str, path: str | Path) -> Path:
+def plot_trend(result: object, figure: str, path: str | Path, *, units: str = "si") -> Path:
     """Trend chart of one figure: per machine, the individuals chart (values, centre
     line, ±3σ limits, baseline shaded, flagged points marked, drift onset drawn) above the
-    EWMA chart with its limits. ``result`` is a :class:`torqlog.fleet.trend.TrendResult`."""
+    EWMA chart with its limits. ``result`` is a :class:`torqlog.fleet.trend.TrendResult`;
+    ``units`` "si" or "us" (the figure's unit as :func:`axis_unit` gives it)."""
     import numpy as np
 
     ch = result.charts[result.charts["figure"] == figure]
     machines = list(dict.fromkeys(ch["machine"])) or [""]
     label, short, unit = _TREND_LABELS.get(figure, (figure, figure, "-"))
+    k, shown = axis_unit(figure, units)
+    unit, k = (shown, k) if shown and shown != "%" else (unit, 1.0)
     by = result.options["by"]
     zone = result.display_tz or result.options["shifts"]["zone"] + " wall clock"
     fig, axes = new_figure(2 * len(machines), 1, height=2.8, width=11.0, squeeze=False)
@@ -563,10 +621,10 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
             continue
         rows = d["row"].to_numpy()
         t = _trend_times(result, rows)
-        x = d["value"].to_numpy()
+        x = d["value"].to_numpy() * k
         base = d["baseline"].to_numpy()
         flagged = d["flagged"].to_numpy()
-        c0, lcl, ucl = d["centre"].iloc[0], d["lcl"].iloc[0], d["ucl"].iloc[0]
+        c0, lcl, ucl = (d[c].iloc[0] * k for c in ("centre", "lcl", "ucl"))
         if base.any():
             span = (t[base][0], t[base][-1])
             for a in (ax, ax_e):
@@ -575,8 +633,8 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
         ax.plot(t, x, "-o", color=PALETTE["data"], ms=4, lw=1.2, label=f"{by} value")
         ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre {c0:.4g}")
         ax.axhline(ucl, color=PALETTE["limit"], ls="--", lw=1.2,
-                   label=f"limits ±{(ucl - c0) / d['sigma'].iloc[0]:.2f}σ ({drift['limits']}):"
-                         f" {lcl:.4g} … {ucl:.4g}")
+                   label=f"limits ±{(ucl - c0) / (k * d['sigma'].iloc[0]):.2f}σ "
+                         f"({drift['limits']}): {lcl:.4g} … {ucl:.4g}")
         ax.axhline(lcl, color=PALETTE["limit"], ls="--", lw=1.2)
         if flagged.any():
             ax.plot(t[flagged], x[flagged], "o", ms=9, mfc="none", mew=2,
@@ -590,15 +648,15 @@ def plot_trend(result: object, figure: str, path: str | Path) -> Path:
         ax.set_title(f"{label} per {by}{name} — individuals chart")
         ax.set_ylabel(f"{short} [{unit}]")
         ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
-        ax_e.plot(t, d["ewma"], "-o", color=PALETTE["data"], ms=3, lw=1.2,
+        ax_e.plot(t, d["ewma"] * k, "-o", color=PALETTE["data"], ms=3, lw=1.2,
                   label=f"EWMA (λ = {drift['ewma_lambda']:g})")
-        ax_e.step(t, d["ewma_ucl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2,
+        ax_e.step(t, d["ewma_ucl"] * k, where="mid", color=PALETTE["limit"], ls="--", lw=1.2,
                   label=f"EWMA limits (L = {drift['ewma_L']:g})")
-        ax_e.step(t, d["ewma_lcl"], where="mid", color=PALETTE["limit"], ls="--", lw=1.2)
+        ax_e.step(t, d["ewma_lcl"] * k, where="mid", color=PALETTE["limit"], ls="--", lw=1.2)
         ax_e.axhline(c0, color=PALETTE["mean"], lw=1.4, label="centre")
         ef = (d["ewma"] > d["ewma_ucl"]) | (d["ewma"] < d["ewma_lcl"])
         if ef.any():
-            ax_e.plot(t[ef.to_numpy()], d["ewma"][ef], "o", ms=8, mfc="none", mew=2,
+            ax_e.plot(t[ef.to_numpy()], d["ewma"][ef] * k, "o", ms=8, mfc="none", mew=2,
                       color=PALETTE["limit"], label="beyond EWMA limits")
         ax_e.set_title(f"EWMA of {label}{name}")
         ax_e.set_ylabel(f"EWMA of {short} [{unit}]")
@@ -617,15 +675,17 @@ def _naive_iso(iso: str) -> object:
     return t.tz_localize(None) if t.tz is not None else t
 
 
-def plot_trend_box(result: object, path: str | Path) -> Path:
+def plot_trend_box(result: object, path: str | Path, *, units: str = "si") -> Path:
     """Box plot of the clean cycles' energy swing ΔE per group (shift, day, hour or
     file), one panel per machine; boxes coloured by shift, flagged groups outlined red,
-    baseline groups shaded. Whiskers at 1.5 IQR (Tukey); outliers not drawn."""
+    baseline groups shaded. Whiskers at 1.5 IQR (Tukey); outliers not drawn. ``units``
+    "si" (ΔE in kJ) or "us" (ft·lbf)."""
     import numpy as np
     from matplotlib.patches import Patch
 
+    ke, ue = axis_unit("energy_swing_J", units)
     cyc = result.cycles[result.cycles["flag"] == ""]
-    by_group = {int(k): v.dropna().to_numpy()
+    by_group = {int(k): v.dropna().to_numpy() * ke
                 for k, v in cyc.groupby("group")["energy_swing_J"]}
     groups = result.groups
     machines = list(dict.fromkeys(groups["machine"])) or [""]
@@ -673,7 +733,7 @@ def plot_trend_box(result: object, path: str | Path) -> Path:
         ax.set_xlim(-0.6, len(rows) - 0.4)
         name = f" — {m}" if m else ""
         ax.set_title(f"Energy swing ΔE of each clean cycle, per {by}{name}")
-        ax.set_ylabel("energy swing ΔE [J]")
+        ax.set_ylabel(f"energy swing ΔE [{ue}]")
         ax.set_xlabel(f"{by} (start, local time)")
         handles = [Patch(facecolor=colours[i % len(colours)], alpha=0.75, label=s)
                    for i, s in enumerate(shift_names) if by in ("shift", "hour", "file")]
@@ -687,21 +747,24 @@ def plot_trend_box(result: object, path: str | Path) -> Path:
     return save(fig, path)
 
 
-def plot_anomaly(result: object, path: str | Path, worst: int = 3) -> Path:
-    """The worst abnormal cycles over the normal band (mean ± 3 SD), per channel."""
+def plot_anomaly(result: object, path: str | Path, worst: int = 3, *,
+                 units: str = "si") -> Path:
+    """The worst abnormal cycles over the normal band (mean ± 3 SD), per channel;
+    torque in N·m (``units="us"``: lbf·ft), speed in rad/s."""
     cur = result.curves  # type: ignore[attr-defined]
     chans = [c for c in ("torque", "speed") if c + "_mean" in cur]
+    scales = {"torque": axis_unit("motor_torque_rms_Nm", units), "speed": (1.0, "rad/s")}
     fig = Figure(figsize=(8.0, 3.0 * max(1, len(chans))))
     a = cur.get("angle_deg")
     for j, c in enumerate(chans):
         ax = fig.add_subplot(len(chans), 1, j + 1)
-        m, sd = cur[c + "_mean"], cur[c + "_sd"]
-        unit = "N·m" if c == "torque" else "rad/s"
+        k, unit = scales[c]
+        m, sd = cur[c + "_mean"] * k, cur[c + "_sd"] * k
         ax.fill_between(a, m - 3 * sd, m + 3 * sd, color=PALETTE["band"], alpha=0.6,
                         label="normal band (mean ± 3 SD)")
         ax.plot(a, m, color=PALETTE["reference"], lw=1.0, label="normal mean")
         for k, row in enumerate(cur[c][:worst]):
-            ax.plot(a, row, lw=1.2, label=f"cycle {cur['cycle'][k]}")
+            ax.plot(a, row * scales[c][0], lw=1.2, label=f"cycle {cur['cycle'][k]}")
         ax.set_ylabel(f"{c} [{unit}]")
         ax.legend(fontsize=7, loc="best")
     if chans:

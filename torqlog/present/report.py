@@ -102,9 +102,10 @@ _CAUTION_TOPICS = (("burst", "burst"), ("adding a flywheel changes", "shaft"),
 GENERAL_CAUTION = (CAUTIONS["estimate"].text[:-1] + ": "
                    + CAUTIONS["estimate"].basis + ".")
 
-#: Section ids of the HTML report, in order (``trends`` only with several logs).
+#: Section ids of the HTML report, in order (``trends`` only with several logs, ``fleet``
+#: only with several machines).
 SECTIONS = ("verdict", "cautions", "measured", "recommendation", "flywheel", "shaft",
-            "trends", "how-to-read", "appendix")
+            "trends", "fleet", "how-to-read", "appendix")
 
 #: Page-one items, in order (``drift`` only with several logs).
 PAGE_ONE = ("machine", "roughness", "action", "flywheel-safe", "shaft-fine", "motor",
@@ -190,6 +191,14 @@ class ReportData:
     failed_logs : list of dict
         ``{"file", "reason"}`` of every log that could not be read; the report is built
         from the others (each also has a ``skipped`` entry).
+    units : str
+        Units people read: ``"si"`` (kN·m, kJ, kg·m², mm, MPa) or ``"us"`` (lbf·ft,
+        ft·lbf, lb·ft², in, ksi), in tables, sentences and figure axes alike. The stage
+        JSON stays SI; each number shown is its JSON value converted by
+        :mod:`torqlog.io.units` (the values of ``--units us`` JSON).
+    fleet : dict or None
+        The fleet table (:meth:`torqlog.fleet.compare.FleetResult.to_dict`) when the
+        report was given several machines; it gets a page of its own.
     """
 
     machine: str
@@ -212,6 +221,8 @@ class ReportData:
     extra: dict[str, Any] = field(default_factory=dict)
     cs_p90: float | None = None
     failed_logs: list[dict[str, str]] = field(default_factory=list)
+    units: str = "si"
+    fleet: dict[str, Any] | None = None
 
     @property
     def design(self) -> dict[str, Any]:
@@ -330,7 +341,8 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
                  target_cs: float | None = None, quantile: float | str = 0.95,
                  seed: int = 0, figure_dir: str | Path | None = None,
                  trend: bool = True, survey: bool = False,
-                 extra: Mapping[str, Any] | None = None) -> ReportData:
+                 extra: Mapping[str, Any] | None = None, units: str = "si",
+                 fleet: Any = None) -> ReportData:
     """Run the chain on the logs of one machine and collect what the report shows.
 
     Parameters
@@ -361,6 +373,11 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
         one cycle pass.
     extra : mapping, optional
         Results of further stages shown on page one (see :attr:`ReportData.extra`).
+    units : str
+        ``"si"`` or ``"us"``: the units of the tables, sentences and figure axes.
+    fleet : FleetResult or its dict, optional
+        The fleet table of several machines (:func:`torqlog.fleet.compare.fleet_table`);
+        the report gets a fleet page, sortable by any column.
 
     Returns
     -------
@@ -377,13 +394,22 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
     ----------
     Budynas & Nisbett, *Shigley's*, 10th ed., sec. 16-12.
     """
+    from dataclasses import replace
+
     from torqlog.errors import UsageError
+    from torqlog.io.units import UNIT_SYSTEMS
 
     if not logs:
         raise UsageError("give at least one log file")
+    if units not in UNIT_SYSTEMS:
+        raise UsageError(f"unknown unit system {units!r}; valid: {', '.join(UNIT_SYSTEMS)}")
     with _figure_folder(figure_dir) as out:
-        return _build(logs, profile, cycle_options, dict(read or {}), target_cs, quantile,
-                      seed, out, trend, survey, dict(extra or {}))
+        data = _build(logs, profile, cycle_options, dict(read or {}), target_cs, quantile,
+                      seed, out, trend, survey, dict(extra or {}), units)
+    if fleet is not None:
+        data = replace(data, fleet=_plain(fleet if isinstance(fleet, Mapping)
+                                          else fleet.to_dict()))
+    return data
 
 
 @contextlib.contextmanager
@@ -401,7 +427,7 @@ def _figure_folder(figure_dir: str | Path | None) -> Iterator[Path]:
 def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_options: Any,
            read: dict[str, Any], target_cs: float | None, quantile: float | str, seed: int,
            fig_dir: Path, with_trend: bool, with_survey: bool,
-           extra: dict[str, Any]) -> ReportData:
+           extra: dict[str, Any], units: str = "si") -> ReportData:
     """Run the stages in order and collect their JSON, figures and skip reasons."""
     from torqlog.io.profile import MachineProfile, load_profile
     from torqlog.signal.cycles import options_from_profile
@@ -418,16 +444,18 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
     _return_freed_memory()
 
     notes = _design_notes(design, logs)
-    _measured_figures(design, prof, target_cs, quantile, fig_dir, figures)
-    spectrum = _order_spectrum(design, prof, fig_dir, figures, skipped)
-    size, _ = _run_sizing(design, prof, target_cs, quantile, seed, fig_dir, figures, skipped)
+    _measured_figures(design, prof, target_cs, quantile, fig_dir, figures, units=units)
+    spectrum = _order_spectrum(design, prof, fig_dir, figures, skipped, units=units)
+    size, _ = _run_sizing(design, prof, target_cs, quantile, seed, fig_dir, figures, skipped,
+                          units=units)
     fw_res, fw, fw_options, material_choice = _run_flywheel(
-        prof, size, design, profile_path, fig_dir, figures, skipped)
-    shaft = _run_shaft(prof, design, spectrum, fw_res, fig_dir, figures, skipped)
+        prof, size, design, profile_path, fig_dir, figures, skipped, units=units)
+    shaft = _run_shaft(prof, design, spectrum, fw_res, fig_dir, figures, skipped, units=units)
     trend = None
     if len(logs) > 1 and with_trend:
         if _trend_available():
-            trend = _run_trend(logs, prof, opts, read, machine, fig_dir, figures, skipped)
+            trend = _run_trend(logs, prof, opts, read, machine, fig_dir, figures, skipped,
+                               units=units)
         else:
             skipped["trend"] = "no trend: this torqlog has no trend module"
 
@@ -442,7 +470,7 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
         version=__version__, created=datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
         flywheel_options=fw_options, material_choice=material_choice,
         extra=_plain(_with_anomalies(extra, design)), cs_p90=_cs_p90(design),
-        failed_logs=failed)
+        failed_logs=failed, units=units)
 
 
 def _read_logs(logs: Sequence[str | Path], opts: Any, read: dict[str, Any],
@@ -506,25 +534,27 @@ def _design_notes(design: Any, logs: Sequence[str]) -> list[str]:
 
 def _measured_figures(design: Any, prof: Any, target_cs: float | None,
                       quantile: float | str, fig_dir: Path,
-                      figures: list[ReportFigure]) -> None:
+                      figures: list[ReportFigure], *, units: str = "si") -> None:
     """The figures of the measured state: cycles over the angle, and the distributions."""
     from torqlog.present import plots
 
     figures.append(_figure("cycles", "measured", "Torque, E(θ) and speed over the cycle",
                            "Every clean cycle faint, the mean cycle bold. E(θ) is the energy "
                            "above the mean torque; its range over the cycle is the energy "
-                           "swing ΔE.", plots.plot_cycles(design, fig_dir / "cycles.png")))
+                           "swing ΔE.", plots.plot_cycles(design, fig_dir / "cycles.png",
+                                                         units=units)))
     figures.append(_figure(
         "distributions", "measured", "Energy swing and speed fluctuation per cycle",
         "How ΔE and Cs vary from cycle to cycle; the sizing takes the design quantile of ΔE.",
         plots.plot_distributions(design.table, fig_dir / "distributions.png",
                                  target_cs=target_cs or prof.machine.get("target_cs"),
                                  quantile=quantile,
-                                 title=f"Distributions over {Path(design.source).name}")))
+                                 title=f"Distributions over {Path(design.source).name}",
+                                 units=units)))
 
 
 def _order_spectrum(design: Any, prof: Any, fig_dir: Path, figures: list[ReportFigure],
-                    skipped: dict[str, str]) -> Any:
+                    skipped: dict[str, str], *, units: str = "si") -> Any:
     """The order spectrum of the design log's mean-cycle torque and its figure, or None."""
     has_torque = "torque" in design.layout.roles and \
         bool(np.isfinite(design.mean_cycle["torque_mean"].to_numpy(float)).all())
@@ -547,13 +577,15 @@ def _order_spectrum(design: Any, prof: Any, fig_dir: Path, figures: list[ReportF
         "are held against the shaft's natural frequencies.",
         plots.plot_order_spectrum(spectrum, fig_dir / "spectrum.png",
                                   min_share=min_share,
-                                  speed_rpm=design.summary["speed_mean_rpm"])))
+                                  speed_rpm=design.summary["speed_mean_rpm"],
+                                  units=units)))
     return spectrum
 
 
 def _run_sizing(design: Any, prof: Any, target_cs: float | None, quantile: float | str,
                 seed: int, fig_dir: Path, figures: list[ReportFigure],
-                skipped: dict[str, str]) -> tuple[dict[str, Any] | None, Any]:
+                skipped: dict[str, str], *, units: str = "si"
+                ) -> tuple[dict[str, Any] | None, Any]:
     """The recommendation (``size`` JSON and result) and the drive-curve figure."""
     from torqlog.present import plots
     from torqlog.sizing.inertia import size_log, size_log_dict
@@ -571,13 +603,13 @@ def _run_sizing(design: Any, prof: Any, target_cs: float | None, quantile: float
             "added inertia; the star marks the recommendation.",
             plots.plot_drive_curve(size_res.to_pandas(), fig_dir / "drive.png",
                                    target_cs=size_res.target_cs,
-                                   recommended=size_res.added_inertia)))
+                                   recommended=size_res.added_inertia, units=units)))
     return size, size_res
 
 
 def _run_flywheel(prof: Any, size: dict[str, Any] | None, design: Any,
                   profile_path: str | Path | None, fig_dir: Path,
-                  figures: list[ReportFigure], skipped: dict[str, str]
+                  figures: list[ReportFigure], skipped: dict[str, str], *, units: str = "si"
                   ) -> tuple[Any, dict[str, Any] | None, list[dict[str, Any]], str]:
     """The flywheel proposal (result, JSON, compared materials, why this material) and
     its stress figure; nothing when the sizing asks for no added inertia."""
@@ -598,12 +630,13 @@ def _run_flywheel(prof: Any, size: dict[str, Any] | None, design: Any,
         figures.append(_figure(
             "flywheel", "flywheel", "Flywheel stresses at the operating speed",
             "Radial and hoop stress across the disc, with the allowable stress and strength.",
-            plots.plot_flywheel_stresses(fw_res, fig_dir / "flywheel.png")))
+            plots.plot_flywheel_stresses(fw_res, fig_dir / "flywheel.png", units=units)))
     return fw_res, fw, fw_options, material_choice
 
 
 def _run_shaft(prof: Any, design: Any, spectrum: Any, fw_res: Any, fig_dir: Path,
-               figures: list[ReportFigure], skipped: dict[str, str]) -> dict[str, Any] | None:
+               figures: list[ReportFigure], skipped: dict[str, str], *,
+               units: str = "si") -> dict[str, Any] | None:
     """The shaft check before and after the flywheel (``shaft`` JSON) and its figure."""
     if not prof.shaft:
         skipped["shaft"] = "no shaft check: the profile has no [shaft] section"
@@ -632,7 +665,7 @@ def _run_shaft(prof: Any, design: Any, spectrum: Any, fw_res: Any, fig_dir: Path
             "shaft", "shaft", "Shaft deflection, lateral modes and torque orders",
             "Static deflection and the first lateral mode shapes; the measured torque "
             "orders against the torsional natural frequencies.",
-            plots.plot_shaft(sh, fig_dir / "shaft.png", spectrum=spectrum)))
+            plots.plot_shaft(sh, fig_dir / "shaft.png", spectrum=spectrum, units=units)))
     except TorqlogError as exc:
         skipped["shaft"] = f"no shaft check: {exc}"
         return None
@@ -759,7 +792,7 @@ def log_facts(res: Any) -> dict[str, Any]:
 
 def _run_trend(logs: Sequence[str | Path], prof: Any, opts: Any, read: dict[str, Any],
                machine: str, fig_dir: Path, figures: list[ReportFigure],
-               skipped: dict[str, str]) -> dict[str, Any] | None:
+               skipped: dict[str, str], *, units: str = "si") -> dict[str, Any] | None:
     """The shift trend over the logs through :func:`torqlog.fleet.trend.run_trend`."""
     from torqlog.fleet.batch import FileJob
     from torqlog.fleet.trend import ShiftCalendar, run_trend
@@ -771,7 +804,7 @@ def _run_trend(logs: Sequence[str | Path], prof: Any, opts: Any, read: dict[str,
     except TorqlogError as exc:
         skipped["trend"] = f"no trend: {exc}"
         return None
-    for path in res.plot(fig_dir / "trend"):
+    for path in res.plot(fig_dir / "trend", units=units):
         p = Path(path)
         figure = p.stem.removeprefix("trend_")
         if p.stem.startswith("trend_"):
@@ -831,6 +864,17 @@ SUMMARY_COLUMNS: tuple[tuple[str, str, float], ...] = (
 )
 
 
+def summary_column(text: str, path: str, scale: float, units: str = "si"
+                   ) -> tuple[str, str, float]:
+    """A row of :data:`SUMMARY_COLUMNS` in ``units``: in US units a figure with a unit
+    (``energy_swing_J.p95``) takes the unit and factor of
+    :func:`torqlog.present.labels.label_of` (ft·lbf, lbf·ft) in place of kJ, kN·m."""
+    lab = label_of(path.split(".", 1)[0], units)
+    if units == "si" or not lab.unit or lab.unit == label_of(path.split(".", 1)[0]).unit:
+        return text, path, scale
+    return f"{text.rsplit(', ', 1)[0]}, {lab.unit}", path, lab.scale
+
+
 def summary_value(summary: Mapping[str, Any], path: str) -> Any:
     """A value of a cycles summary by dotted path (``"energy_swing_J.p95"``)."""
     value: Any = summary
@@ -867,8 +911,19 @@ class Cell:
 
 
 def _cell(stage: str, key: str, value: Any, label_key: str | None = None,
-          unit: bool = True) -> Cell:
-    return Cell(show(label_key or key, value, unit=unit), key, stage, value)
+          unit: bool = True, units: str = "si") -> Cell:
+    """A number of a stage's JSON as people read it, in ``units``. In US units the cell
+    names the key and holds the value of the ``--units us`` JSON (``inertia_lbft2``), so
+    the number traces to what that command prints."""
+    text = show(label_key or key, value, unit=unit, system=units)
+    if units != "si":
+        from torqlog.io.units import us_key
+
+        _, factor = us_key(str(label_key or key).rsplit(".", 1)[-1])
+        key = ".".join(us_key(part)[0] for part in key.split("."))
+        if isinstance(value, int | float) and not isinstance(value, bool):
+            value = value * factor
+    return Cell(text, key, stage, value)
 
 
 @dataclass(frozen=True)
@@ -880,6 +935,7 @@ class Table:
     caption: str
     header: tuple[str, ...]
     rows: tuple[tuple[Cell, ...], ...]
+    sortable: bool = False
 
 
 @dataclass(frozen=True)
@@ -971,7 +1027,7 @@ def _check_name(name: str) -> str:
     return label_of(name).text.lower()
 
 
-def _governing_flywheel(fw: Mapping[str, Any]) -> tuple[str, str]:
+def _governing_flywheel(fw: Mapping[str, Any], units: str = "si") -> tuple[str, str]:
     """(verdict, sentence) naming the governing flywheel check: the failed one, else the
     one with the least margin (value against limit)."""
     checks = fw.get("checks") or []
@@ -990,8 +1046,9 @@ def _governing_flywheel(fw: Mapping[str, Any]) -> tuple[str, str]:
         return str(fw.get("verdict", "info")), "no check recorded"
     word = "fails" if failed else "governs and passes"
     return ("fail" if failed else "pass",
-            f"the {_check_name(pick['name'])} check {word}: {show(pick['name'], pick['value'])}"
-            f" against the limit {show(pick['name'], pick['limit'])}")
+            f"the {_check_name(pick['name'])} check {word}: "
+            f"{show(pick['name'], pick['value'], system=units)} against the limit "
+            f"{show(pick['name'], pick['limit'], system=units)}")
 
 
 def page_one(data: ReportData) -> list[Finding]:
@@ -1020,7 +1077,8 @@ def _find_machine(d: ReportData) -> Finding:
     ans = (f"{d.machine}: {n} log{'s' if n > 1 else ''}{out} {when}, {span} of running, "
            f"{cyc:,d} clean cycles at ",
            _cell("cycles", "summary.speed_mean_rpm",
-                 d.design["cycles"]["summary"]["speed_mean_rpm"], "speed_mean_rpm"), ".")
+                 d.design["cycles"]["summary"]["speed_mean_rpm"], "speed_mean_rpm",
+                 units=d.units), ".")
     return Finding("machine", "Which machine, which period?", ans, "info", "appendix")
 
 
@@ -1062,7 +1120,7 @@ def _find_action(d: ReportData) -> Finding:
     if added is None:
         return Finding("action", q, (
             "The machine needs ", _cell("size", "required_inertia_kgm2",
-                                        z["required_inertia_kgm2"]),
+                                        z["required_inertia_kgm2"], units=d.units),
             " in all at the logged shaft; its existing inertia is unknown, so the amount "
             "to add is too.",), "info", "recommendation")
     if added <= 0:
@@ -1073,9 +1131,11 @@ def _find_action(d: ReportData) -> Finding:
     ci = z.get("added_ci95_kgm2")
     where = "the flywheel shaft" if r != 1.0 else "the logged shaft"
     parts: list[Any] = ["Add ", _cell("size", "added_inertia_at_flywheel_kgm2",
-                                      z["added_inertia_at_flywheel_kgm2"]), f" at {where}"]
+                                      z["added_inertia_at_flywheel_kgm2"], units=d.units),
+                        f" at {where}"]
     if ci:
-        lo_t, hi_t = sig(ci[0] / r**2), sig(ci[1] / r**2)
+        lo_t, hi_t = (show("added_inertia_at_flywheel_kgm2", c / r**2, unit=False,
+                           system=d.units) for c in ci)
         parts.append(f" (95 % interval {lo_t} to {hi_t})" if lo_t != hi_t else
                      " (its 95 % interval is narrower than the digits shown)")
     model = z.get("model")
@@ -1095,10 +1155,11 @@ def _find_flywheel(d: ReportData) -> Finding:
         why = d.skipped.get("flywheel", "no flywheel is proposed")
         return Finding("flywheel-safe", q, ("Not assessed: " + _clean_reason(why),),
                        "not assessed", "flywheel")
-    verdict, text = _governing_flywheel(fw)
+    verdict, text = _governing_flywheel(fw, d.units)
     parts = (f"{label_of(fw['material']).text} {fw['shape'].replace('-', ' ')}, ",
-             _cell("flywheel", "outer_diameter_m", fw["outer_diameter_m"]), " across, ",
-             _cell("flywheel", "mass_kg", fw["mass_kg"]), f"; {text}.")
+             _cell("flywheel", "outer_diameter_m", fw["outer_diameter_m"], units=d.units),
+             " across, ", _cell("flywheel", "mass_kg", fw["mass_kg"], units=d.units),
+             f"; {text}.")
     return Finding("flywheel-safe", q, parts, verdict, "flywheel")
 
 
@@ -1220,8 +1281,8 @@ def _find_anomalies(d: ReportData) -> Finding:
 
 
 def _kv_table(tid: str, caption: str, stage: str, data: Mapping[str, Any],
-              keys: Sequence[str]) -> Table:
-    rows = tuple((Cell(label_of(k).full), _cell(stage, k, data.get(k), unit=False))
+              keys: Sequence[str], units: str = "si") -> Table:
+    rows = tuple((Cell(label(k, units)), _cell(stage, k, data.get(k), unit=False, units=units))
                  for k in keys if k in data)
     return Table(tid, caption, ("Figure", "Value"), rows)
 
@@ -1229,10 +1290,11 @@ def _kv_table(tid: str, caption: str, stage: str, data: Mapping[str, Any],
 def _section_measured(d: ReportData) -> Section:
     shown = d.logs[:_SUMMARY_LOGS]
     header = ("Figure",) + tuple(g["name"] for g in shown)
+    columns = [summary_column(*c, d.units) for c in SUMMARY_COLUMNS]
     rows = tuple((Cell(lab),) + tuple(
         Cell(sig(summary_value(g["cycles"]["summary"], key), 3, scale), key, "cycles",
              summary_value(g["cycles"]["summary"], key)) for g in shown)
-        for lab, key, scale in SUMMARY_COLUMNS)
+        for lab, key, scale in columns)
     rows += ((Cell("Worst tenth of cycles: Cs at least"),
               Cell(sig(d.cs_p90), "cs_p90", "report", d.cs_p90)) +
              tuple(Cell("–") for _ in shown[1:]),)
@@ -1266,13 +1328,13 @@ def _section_recommendation(d: ReportData) -> Section:
         paras.append(("For comparison, the constant-drive bound I = ΔE/(Cs·ω̄²), which "
                       "takes the drive torque as constant, asks for ",
                       _cell("size", "bound_constant_drive_required_inertia_kgm2",
-                            z["bound_constant_drive_required_inertia_kgm2"]),
+                            z["bound_constant_drive_required_inertia_kgm2"], units=d.units),
                       " in all at the logged shaft; a motor that slows under load carries "
                       "part of each cycle itself, so the bound is the safe side.",))
-    tables = [Table("key-figures", "Sizing", ("Figure", "Value"), _sizing_rows(z))]
+    tables = [Table("key-figures", "Sizing", ("Figure", "Value"), _sizing_rows(z, d.units))]
     now = z.get("machine_now") or {}
     if now:
-        tables.append(_motor_table(z))
+        tables.append(_motor_table(z, d.units))
     advice = () if now.get("drive_torque_rms_share_of_rated") else _advice("motor")
     return Section("recommendation", title, tuple(paras), advice, tuple(tables),
                    tuple(d.figures_in("recommendation")),
@@ -1280,37 +1342,37 @@ def _section_recommendation(d: ReportData) -> Section:
                    tuple(f"Caution: {c}" for c in specific_cautions(z)))
 
 
-def _sizing_rows(z: Mapping[str, Any]) -> tuple[tuple[Cell, ...], ...]:
+def _sizing_rows(z: Mapping[str, Any], units: str = "si") -> tuple[tuple[Cell, ...], ...]:
     """Rows of the sizing table: target, design swing, inertia now, required, added."""
     r = _ratio(z)
     ci = z["ci95_kgm2"]
+
+    def row(key: str, text: str | None = None, path: str | None = None,
+            value: Any = None) -> tuple[Cell, Cell]:
+        return (Cell(text or label(key, units)),
+                _cell("size", path or key, z.get(key) if path is None else value,
+                      key if path else None, False, units))
+
+    inertia = label_of("required_inertia_kgm2", units).unit
     rows = [
-        (Cell(label("target_cs")), _cell("size", "target_cs", z["target_cs"], unit=False)),
-        (Cell(label("design_energy_swing_J")),
-         _cell("size", "design_energy_swing_J", z["design_energy_swing_J"], unit=False)),
-        (Cell(label("existing_inertia_kgm2")),
-         _cell("size", "existing_inertia_kgm2", z.get("existing_inertia_kgm2"), unit=False)),
-        (Cell(label("required_inertia_kgm2")),
-         _cell("size", "required_inertia_kgm2", z["required_inertia_kgm2"], unit=False)),
-        (Cell("Required inertia, 95 % interval, low, kg·m²"),
-         _cell("size", "ci95_kgm2.0", ci[0], "required_inertia_kgm2", False)),
-        (Cell("Required inertia, 95 % interval, high, kg·m²"),
-         _cell("size", "ci95_kgm2.1", ci[1], "required_inertia_kgm2", False)),
-        (Cell(label("added_inertia_kgm2")),
-         _cell("size", "added_inertia_kgm2", z.get("added_inertia_kgm2"), unit=False)),
-        (Cell(label("added_inertia_at_flywheel_kgm2") +
-              (f" (it turns {sig(r)}× as fast as the logged shaft)" if r != 1.0 else "")),
-         _cell("size", "added_inertia_at_flywheel_kgm2",
-               z.get("added_inertia_at_flywheel_kgm2"), unit=False)),
+        row("target_cs"), row("design_energy_swing_J"), row("existing_inertia_kgm2"),
+        row("required_inertia_kgm2"),
+        row("required_inertia_kgm2", f"Required inertia, 95 % interval, low, {inertia}",
+            "ci95_kgm2.0", ci[0]),
+        row("required_inertia_kgm2", f"Required inertia, 95 % interval, high, {inertia}",
+            "ci95_kgm2.1", ci[1]),
+        row("added_inertia_kgm2"),
+        row("added_inertia_at_flywheel_kgm2", label("added_inertia_at_flywheel_kgm2", units)
+            + (f" (it turns {sig(r)}× as fast as the logged shaft)" if r != 1.0 else "")),
     ]
     for key in ("cs_measured", "cs_model_existing", "cs_model_error_rel",
                 "bound_constant_drive_required_inertia_kgm2"):
         if z.get(key) is not None:
-            rows.append((Cell(label(key)), _cell("size", key, z[key], unit=False)))
+            rows.append(row(key))
     return tuple(rows)
 
 
-def _motor_table(z: Mapping[str, Any]) -> Table:
+def _motor_table(z: Mapping[str, Any], units: str = "si") -> Table:
     """The machine now and with the added inertia: Cs, speeds, drive torque."""
     now, after = z.get("machine_now") or {}, z.get("machine_after") or {}
     at = now.get("drive_torque_at", "drive")
@@ -1320,9 +1382,10 @@ def _motor_table(z: Mapping[str, Any]) -> Table:
     return Table(
         "motor-table", f"The machine now and with the added inertia ({now.get('model')} "
         "model, median cycle)", ("Figure", "Now", "After"), tuple(
-            (Cell(label_of(k).full + (f" (at the {at})" if "torque" in k else "")),
-             _cell("size", f"machine_now.{k}", now.get(k), k, False),
-             _cell("size", f"machine_after.{k}", after.get(k), k, False)) for k in keys))
+            (Cell(label(k, units) + (f" (at the {at})" if "torque" in k else "")),
+             _cell("size", f"machine_now.{k}", now.get(k), k, False, units),
+             _cell("size", f"machine_after.{k}", after.get(k), k, False, units))
+            for k in keys))
 
 
 #: Logs shown side by side in the summary table (the rest are in the trend).
@@ -1341,7 +1404,7 @@ def _section_flywheel(d: ReportData) -> Section:
         adv = _advice("flywheel") if d.size is not None else ()
         return Section("flywheel", title, ((_clean_reason(
             d.skipped.get("flywheel", "no flywheel is proposed")),),), adv)
-    _, text = _governing_flywheel(fw)
+    _, text = _governing_flywheel(fw, d.units)
     paras: list[tuple[Any, ...]] = [(
         f"{label_of(fw['material']).text} ({fw['material_designation']}), "
         f"{fw['shape'].replace('-', ' ')}: {text}.",)]
@@ -1354,18 +1417,20 @@ def _section_flywheel(d: ReportData) -> Section:
         tables.append(Table(
             "material-comparison", "The flywheel in three materials",
             ("Figure",) + tuple(label_of(o["material"]).text for o in opts),
-            tuple((Cell(label_of(k).full),) + tuple(
-                _cell("flywheel-option", k, o.get(k), unit=False) for o in opts)
+            tuple((Cell(label(k, d.units)),) + tuple(
+                _cell("flywheel-option", k, o.get(k), unit=False, units=d.units)
+                for o in opts)
                 for k in ("outer_diameter_m", "width_m", "mass_kg", "rim_speed_m_s",
                           "stress_safety_factor", "speed_safety_factor")) +
             ((Cell("Every check"),) + tuple(Cell(o["verdict"], verdict=o["verdict"])
                                            for o in opts),)))
     tables.append(_kv_table("flywheel-table", "The proposed flywheel", "flywheel", fw,
-                            _FLYWHEEL_KEYS))
+                            _FLYWHEEL_KEYS, d.units))
     tables.append(Table("flywheel-checks", "Flywheel checks",
                         ("Check", "Value", "Limit", "Verdict"), tuple(
-        (Cell(_check_name(c["name"]).capitalize()), Cell(show(c["name"], c["value"])),
-         Cell(show(c["name"], c["limit"])),
+        (Cell(_check_name(c["name"]).capitalize()),
+         Cell(show(c["name"], c["value"], system=d.units)),
+         Cell(show(c["name"], c["limit"], system=d.units)),
          Cell("pass" if c["ok"] else "fail", verdict="pass" if c["ok"] else "fail"))
         for c in fw["checks"])))
     return Section("flywheel", title, tuple(paras), (), tuple(tables),
@@ -1396,8 +1461,9 @@ def _section_shaft(d: ReportData) -> Section:
         f"Running speed {sig(o.get('speed_rpm'))} rpm ({o.get('speed_source', '')}); "
         f"torque orders from the {o.get('orders_source', 'log')}.",)]
     if o.get("add_mass_kg") is not None:
-        paras.append((f"With the flywheel: {sig(o['add_mass_kg'])} kg at "
-                      f"{sig(o.get('add_mass_at_m'))} m along the shaft.",))
+        paras.append((f"With the flywheel: {show('mass_kg', o['add_mass_kg'], system=d.units)}"
+                      f" at {show('add_mass_at_m', o.get('add_mass_at_m'), system=d.units)} "
+                      "along the shaft.",))
     return Section("shaft", title, tuple(paras), (),
                    (Table("shaft-table", "Natural frequencies against the forcing, and "
                           "strength",
@@ -1416,7 +1482,8 @@ def _section_trends(d: ReportData) -> Section:
                                           + " " + used,),), _advice("shifts"))
     rows = tuple((Cell(str(r.get("date"))), Cell(str(r.get("shift"))),
                   Cell(sig(r.get("cycles"))),
-                  Cell(sig(r.get("energy_swing_J_median"), 3, 1e-3)),
+                  Cell(show("energy_swing_J_median", r.get("energy_swing_J_median"),
+                            unit=False, system=d.units)),
                   Cell(sig(r.get("cs_median"))), Cell(_flags(r.get("flags") or []) or "–"))
                  for r in t.get("shifts", []))
     on = t.get("drift_onset") or {}
@@ -1428,8 +1495,34 @@ def _section_trends(d: ReportData) -> Section:
     return Section("trends", title, tuple(paras), (), (Table(
         "trend-table", "One row per shift; control-chart signals in words (beyond limits, "
         "EWMA, run rule; high or low)",
-        ("Date", "Shift", "Clean cycles", label("energy_swing_J_median"), label("cs_median"),
-         label("flags")), rows),), tuple(d.figures_in("trends")))
+        ("Date", "Shift", "Clean cycles", label("energy_swing_J_median", d.units),
+         label("cs_median"), label("flags")), rows),), tuple(d.figures_in("trends")))
+
+
+def _section_fleet(d: ReportData) -> Section:
+    """The fleet page: every machine given, one row each, ranked (sortable in the HTML).
+
+    The rows are the fleet builder's (:func:`torqlog.fleet.compare.fleet_table`), the
+    same that fleet.html and the xlsx sheet show, here labelled and in the report's units
+    (:func:`torqlog.present.fleet_page.people_table`).
+    """
+    from torqlog.present.fleet_page import FLEET_CAUTION, people_table
+
+    f = d.fleet or {}
+    header, rows = people_table(f, d.units)
+    o = f.get("options", {})
+    by = label_of(str(o.get("sort_by", "cs_p90_over_target"))).text
+    first = "largest" if o.get("descending", True) else "smallest"
+    paras: list[tuple[Any, ...]] = [(
+        f"{len(rows)} machines, ranked by {by} ({first} first); in the HTML report a click "
+        f"on a column header sorts by it. This report's other pages are of {d.machine}.",)]
+    table = Table("fleet-table", "The fleet: Cs against each machine's target, the added "
+                  "inertia and motor load of its latest log, abnormal cycles and drift",
+                  header, tuple(tuple(Cell(text, key if value is not None else "", "fleet",
+                                           value) for text, key, value in r) for r in rows),
+                  sortable=True)
+    return Section("fleet", "The fleet: how the machines compare", tuple(paras), (),
+                   (table,), (), tuple(f.get("notes", [])) + (FLEET_CAUTION,))
 
 
 _GLOSSARY = (
@@ -1515,10 +1608,14 @@ def document(data: ReportData) -> Document:
             _section_flywheel(data), _section_shaft(data)]
     if len(data.logs) > 1:
         secs.append(_section_trends(data))
+    if data.fleet is not None:
+        secs.append(_section_fleet(data))
     secs += [_section_glossary(), _section_appendix(data)]
     n = len(data.logs)
     sub = (f"Design log {data.design['name']}" + (f" and {n - 1} more" if n > 1 else "") +
-           f" · torqlog {data.version} · {data.created}")
+           f" · torqlog {data.version} · {data.created}" +
+           (" · US customary units (notes quoted from the stages and the appendix in SI)"
+            if data.units == "us" else ""))
     return Document(f"Flywheel and shaft report: {data.machine}", sub,
                     tuple(page_one(data)), tuple(data.cautions), tuple(secs))
 
@@ -1548,7 +1645,15 @@ def render_html(data: ReportData) -> str:
     -------
     str
     """
-    return _environment().get_template("report.html").render(doc=document(data), d=data)
+    from markupsafe import Markup
+
+    from torqlog.fleet.compare import SORT_SCRIPT
+
+    doc = document(data)
+    sortable = any(t.sortable for sec in doc.sections for t in sec.tables)
+    # the sort script is the package's own constant text, not data: marked safe
+    return _environment().get_template("report.html").render(
+        doc=doc, d=data, sort_script=Markup(SORT_SCRIPT) if sortable else "")
 
 
 def write_pdf(data: ReportData, path: str | Path) -> Path:

@@ -119,9 +119,10 @@ def _table(t: Any, st: dict[str, Any], width: float) -> list[Any]:
                                        (st["small"] if small else st["cellb"])))
         rows.append(cells)
     n = len(t.header)
-    lengths = [max(len(h), *(len(r[i].text) for r in t.rows)) if t.rows else len(h)
-               for i, h in enumerate(t.header)]
-    lengths = [min(max(v, 6), 60) for v in lengths]
+    # a header wraps at its spaces, so its longest word counts, not its whole length
+    lengths = [max(max(map(len, h.split() or [""])), *(len(r[i].text) for r in t.rows))
+               if t.rows else len(h) for i, h in enumerate(t.header)]
+    lengths = [min(max(v, 6), 60) + 2 for v in lengths]  # + the cell padding
     total = float(sum(lengths))
     widths = [width * v / total for v in lengths] if n > 1 else [width]
     table = Table(rows, colWidths=widths, repeatRows=1, hAlign="LEFT")

@@ -482,7 +482,7 @@ def resolve_material(material: str | Mapping[str, object] | None, *,
                      density: float | None = None, modulus: float | None = None,
                      poisson: float | None = None, strength: float | None = None,
                      brittle: bool | None = None, name: str | None = None,
-                     where: str = "material") -> Material:
+                     where: str = "material", need_behaviour: bool = True) -> Material:
     """The material a command uses: a known name, a table of properties, or properties alone.
 
     Parameters
@@ -502,6 +502,10 @@ def resolve_material(material: str | Mapping[str, object] | None, *,
         The user's name for a material given by properties.
     where : str
         Where a profile table came from, for messages.
+    need_behaviour : bool
+        Ask for the ductile/brittle choice of a material given by its properties (True
+        where it decides the failure criterion, as for a flywheel; a shaft's stiffness
+        and mass do not depend on it, so :func:`shaft_material` passes False).
 
     Returns
     -------
@@ -518,17 +522,55 @@ def resolve_material(material: str | Mapping[str, object] | None, *,
         spec = dict(material)
         if name:
             spec["name"] = name
-        return material_from_mapping(spec, where, brittle=brittle, **given)
+        return material_from_mapping(spec, where, brittle=brittle,
+                                     need_behaviour=need_behaviour, **given)
     if material is None:
         if not given and brittle is None:
             known = [*MATERIALS, *(table or {})]
             raise UsageError(f"give --material (known: {', '.join(known)}) or the "
                              "material's properties --density, --modulus, --poisson, "
                              "--yield and --behaviour")
-        return material_from_properties(**props, brittle=brittle, name=name or "custom")
+        return material_from_properties(**props, brittle=brittle, name=name or "custom",
+                                        need_behaviour=need_behaviour)
     base = get_material(material, table)
     if not given and brittle is None:
         return base
     return custom_material(base, brittle=brittle,
                            strength_kind=None if brittle is None else
                            ("tensile" if brittle else "yield"), **given)
+
+
+def shaft_material(spec: str | Mapping[str, object] | None, *,
+                   table: Mapping[str, Material] | None = None,
+                   where: str = "[shaft] material") -> Material:
+    """The material of a shaft (or of one shaft segment), by the same rules as a flywheel's.
+
+    Parameters
+    ----------
+    spec : str, mapping or None
+        A material name (built-in, or in ``table``), or a table of properties with the
+        keys a flywheel material takes (``name``, ``density_kg_per_m3``, ``modulus_GPa``,
+        ``poisson``, ``yield_MPa`` | ``tensile_MPa``, ``behaviour``, ``designation``,
+        ``source``; :func:`material_from_mapping`). None is ``"steel"``.
+    table : mapping of str to Material, optional
+        The plant's own materials (``--materials FILE``, :func:`load_materials`).
+    where : str
+        Where the spec is (file and key), for messages.
+
+    Returns
+    -------
+    Material
+        A material given by its properties is named as the user named it (or "custom"),
+        with "properties as given by the user" as its source and no standard designation.
+        The shaft's lateral and torsional checks read its modulus, density and shear
+        modulus; the ductile/brittle choice is not asked for (it decides nothing there).
+
+    Examples
+    --------
+    >>> m = shaft_material({"name": "bar stock", "density_kg_per_m3": 7850,
+    ...                     "modulus_GPa": 210, "poisson": 0.3, "yield_MPa": 305})
+    >>> m.name, m.designation, m.modulus, m.source
+    ('bar stock', '', 210000000000.0, 'properties as given by the user')
+    """
+    return resolve_material("steel" if spec is None else spec, table=table, where=where,
+                            need_behaviour=False)

@@ -12,6 +12,7 @@ Every result here is a preliminary engineering estimate; see
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -131,11 +132,12 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
                 add_inertia: float | None = None, add_inertia_at: str | None = None,
                 required_ratio: float | None = None, band: float | None = None,
                 min_share: float | None = None, self_weight: bool | None = None,
-                material: str | None = None, revs_per_cycle: int | None = None,
+                material: str | Mapping[str, Any] | None = None,
+                revs_per_cycle: int | None = None,
                 margin: float | None = None, cycle_torque: np.ndarray | None = None,
                 torque_peak_logged: float | None = None, damping_ratio: float | None = None,
-                fatigue_method: str | None = None, excitation_at: str | None = None
-                ) -> ShaftResult:
+                fatigue_method: str | None = None, excitation_at: str | None = None,
+                materials: Mapping[str, Any] | None = None) -> ShaftResult:
     """Check a machine's shaft, lateral and torsional, before and after adding parts.
 
     Parameters
@@ -166,8 +168,11 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         Lateral separation margin from 1× and 2× for a shaft running above its first
         critical; default the profile's ``[shaft] separation_margin``, else 0.15 (common
         practice).
-    material : str, optional
-        Overrides ``[shaft] material``.
+    material : str or mapping, optional
+        Overrides ``[shaft] material``: a name, or a table of properties with the keys a
+        flywheel material takes (:func:`torqlog.rotor.materials.shaft_material`).
+    materials : mapping of str to Material, optional
+        The plant's own materials (``--materials FILE``), where names are looked up too.
     revs_per_cycle : int, optional
         Shaft revolutions per machine cycle (steps of the assumed orders when no
         spectrum is given); default the profile's ``[machine] revs_per_cycle``, else 1.
@@ -176,7 +181,12 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     -------
     ShaftResult
     """
-    model = shaft_model_from_profile(profile, material)
+    from torqlog.rotor.materials import shaft_material
+
+    spec = material or profile.shaft.get("material", "steel")
+    mat = shaft_material(spec, table=materials,
+                         where=f"{profile.source or '<profile>'}: [shaft] material")
+    model = shaft_model_from_profile(profile, material, materials=materials)
     chain = torsional_chain_from_profile(profile)
     if speed is None:
         speed = profile.machine.get("speed")
@@ -265,7 +275,8 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         "lateral_forcing": "1× (unbalance) and 2× (misalignment) of the flywheel shaft "
                            "speed; torque orders act on the torsional modes only",
         "gyroscopic": "not included (non-rotating modes)",
-        "material": material or profile.shaft.get("material", "steel"),
+        "material": spec if isinstance(spec, str) else mat.name,
+        "material_designation": mat.designation, "material_source": mat.source,
         "modulus_GPa": model.modulus / 1e9, "density_kg_per_m3": model.density,
         "supports": "simple (rigid)", "lateral_mass": "consistent shaft mass + point masses",
         "add_mass_kg": add_mass, "add_mass_at_m": add_mass_at,
@@ -275,6 +286,11 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
         options.update(strength_ctx["options"])
         cautions += strength_ctx["notes"]
     return ShaftResult(before, after, tuple(cautions), options, float(speed))
+
+
+def _material_name(spec: str | Mapping[str, Any]) -> str:
+    """A shaft material's name as the profile gives it (a table's ``name``, or custom)."""
+    return spec if isinstance(spec, str) else str(spec.get("name", "custom"))
 
 
 def _strength_context(profile: MachineProfile, model: ShaftModel, damping_ratio: Any,
@@ -293,7 +309,8 @@ def _strength_context(profile: MachineProfile, model: ShaftModel, damping_ratio:
     opts = StrengthOptions(
         ultimate=float(sec.get("ultimate_strength_MPa", DEFAULT_SHAFT_STEEL[1])),
         yield_strength=float(sec.get("yield_strength_MPa", DEFAULT_SHAFT_STEEL[2])),
-        material=(f"{sec.get('material', 'steel')} (strengths from the profile)" if given
+        material=(f"{_material_name(sec.get('material', 'steel'))} (strengths from the "
+                  "profile)" if given
                   else DEFAULT_SHAFT_STEEL[0]),
         surface=str(sec.get("surface", "machined")),
         reliability=float(sec.get("reliability", 0.99)),

@@ -61,8 +61,8 @@ from torqlog.shaft.geometry import PointMass, ShaftSegment
 #: Standard acceleration of gravity [m/s^2] (CGPM 1901; NIST SP 811).
 GRAVITY = 9.80665
 
-#: Carbon steel (E [Pa], rho [kg/m^3], nu [-]), used only when ``torqlog.rotor.materials`` is
-#: not available. Typical handbook values for carbon steel, quoted from memory.
+#: Carbon steel (E [Pa], rho [kg/m^3], nu [-]): the defaults of a ShaftModel built in code.
+#: Typical handbook values for carbon steel, quoted from memory.
 _STEEL = (207e9, 7850.0, 0.3)
 
 #: Cautions carried by every shaft result.
@@ -165,20 +165,18 @@ class ShaftModel:
         return dataclasses.replace(self, masses=())
 
 
-def material_properties(name: str) -> tuple[float, float, float]:
-    """Young's modulus [Pa], density [kg/m^3] and shear modulus [Pa] of a material.
+def material_properties(spec: str | Mapping[str, Any] | None,
+                        table: Mapping[str, Any] | None = None,
+                        where: str = "[shaft] material") -> tuple[float, float, float]:
+    """Young's modulus [Pa], density [kg/m^3] and shear modulus [Pa] of a shaft material.
 
-    Uses :func:`torqlog.rotor.materials.get_material`; when that module is not available only
-    ``"steel"`` is known (E = 207 GPa, rho = 7850 kg/m^3, nu = 0.3, G = E / (2 (1 + nu))).
+    ``spec`` is a material name or a table of its properties, read by
+    :func:`torqlog.rotor.materials.shaft_material` (the parser a flywheel material goes
+    through); ``table`` is the plant's own materials (``--materials FILE``).
     """
-    try:
-        from torqlog.rotor.materials import get_material
-    except ImportError:
-        if name.strip().lower() != "steel":
-            raise UsageError(f"unknown material {name!r}; valid: steel") from None
-        e, rho, nu = _STEEL
-        return e, rho, e / (2.0 * (1.0 + nu))
-    mat = get_material(name)
+    from torqlog.rotor.materials import shaft_material
+
+    mat = shaft_material(spec, table=table, where=where)
     return float(mat.modulus), float(mat.density), float(mat.shear_modulus)
 
 
@@ -194,15 +192,19 @@ def _number(item: Mapping[str, Any], key: str, where: str, default: float | None
     return float(value)
 
 
-def shaft_model_from_profile(profile: MachineProfile, material: str | None = None
-                             ) -> ShaftModel:
+def shaft_model_from_profile(profile: MachineProfile,
+                             material: str | Mapping[str, Any] | None = None, *,
+                             materials: Mapping[str, Any] | None = None) -> ShaftModel:
     """Build the lateral model from the profile's ``[shaft]`` section.
 
     Parameters
     ----------
     profile : MachineProfile
-    material : str, optional
-        Material name overriding ``[shaft] material`` (default ``"steel"``).
+    material : str or mapping, optional
+        Material name or table of properties overriding ``[shaft] material`` (default
+        ``"steel"``); a segment's own ``material`` overrides it for that segment.
+    materials : mapping of str to Material, optional
+        The plant's own materials (``--materials FILE``), where names are looked up too.
 
     Returns
     -------
@@ -222,13 +224,15 @@ def shaft_model_from_profile(profile: MachineProfile, material: str | None = Non
     for key in ("segments", "bearings_m"):
         if not sec.get(key):
             raise DataError(f"{src}: [shaft] needs {key}")
-    modulus, density, _ = material_properties(material or sec.get("material", "steel"))
+    modulus, density, _ = material_properties(material or sec.get("material", "steel"),
+                                              materials, f"{src}: [shaft] material")
     segments = []
     for i, item in enumerate(sec["segments"]):
         where = f"{src}: [shaft] segments[{i}]"
         seg_e = seg_rho = None
         if "material" in item:
-            seg_e, seg_rho, _ = material_properties(str(item["material"]))
+            seg_e, seg_rho, _ = material_properties(item["material"], materials,
+                                                    f"{where} material")
         segments.append(ShaftSegment(_number(item, "length_m", where),
                                      _number(item, "diameter_m", where),
                                      _number(item, "bore_m", where, 0.0), seg_e, seg_rho))

@@ -298,11 +298,12 @@ class CycleResult:
         e = np.concatenate(([0.0], np.cumsum(t - t.mean()) * step))
         return e
 
-    def plot(self, path: str | Path) -> Path:
-        """Three panels: torque vs angle, E(θ) of the mean cycle, speed vs angle."""
+    def plot(self, path: str | Path, units: str = "si") -> Path:
+        """Three panels: torque vs angle, E(θ) of the mean cycle, speed vs angle; axes in
+        ``units`` ("si" or "us")."""
         from torqlog.present.plots import plot_cycles
 
-        return plot_cycles(self, path)
+        return plot_cycles(self, path, units=units)
 
 
 # ----------------------------------------------------------------------------- engine
