@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import math
 import sys
 from pathlib import Path
@@ -11,6 +12,7 @@ import click
 
 from torqlog.cli.base import (
     FIGURE_FILE,
+    FORMATS,
     TABULAR,
     QuantityType,
     check_outputs,
@@ -26,6 +28,7 @@ from torqlog.cli.base import (
     positive_float,
     read_kwargs,
     run_cycles,
+    write_text,
 )
 from torqlog.cli.watch import shape_options
 
@@ -138,20 +141,22 @@ def _cycles_text(res: Any, system: str = "si") -> str:
 @click.option("--sketch-error", type=click.FloatRange(0, 1, min_open=True, max_open=True),
               default=None, help="Relative error bound of the quantile sketch.  "
                                  "[default: 1e-4]")
-@output_options
+@output_options(formats=(*FORMATS, "jsonl"))
 def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_only: bool,
            quantile_budget: int | None, sketch_error: float | None, **kw: Any) -> None:
     """Split a log into machine cycles: energy swing, Cs and torque per cycle, and cycles
     whose shape is abnormal (with where in the cycle).
 
-    With the shape check off, in SI, ``--format json`` and ``table`` write each cycle's row
-    as it completes, so memory does not grow with the log; the shape check (its scores come
-    once the model has its reference cycles), csv, xlsx, Parquet and ``--units us`` build
-    the table in memory first.
+    The rows are written as the cycles complete (table, csv, json, jsonl, parquet), so
+    memory does not grow with the log; the cycles before the shape model has its
+    reference cycles wait for their scores. ``jsonl``: a first line with source and
+    options, one object per cycle, a last line with summary, notes and the shape check.
+    xlsx and ``--units us`` build the table in memory first.
     """
     from torqlog.cli.base import _flat
     from torqlog.cli.cycle_output import make_writer
     from torqlog.cli.watch import shape_kwargs
+    from torqlog.present.exporting import DEFAULT_DIGITS
 
     check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
     save = kw.pop("save_shape_model")
@@ -159,11 +164,13 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     extra = {k: v for k, v in (("quantile_budget", quantile_budget),
                                ("sketch_error", sketch_error)) if v is not None}
     extra.update(shape_kwargs(log, kw))
-    stream = not summary_only and fmt in ("json", "table") \
-        and output_settings()["units"] == "si" \
-        and extra.get("anomaly") is False and extra.get("shape_model") is None
+    how = output_settings()
+    stream = not summary_only and fmt != "xlsx" and how["units"] == "si"
     if stream:
-        writer = make_writer(fmt, output, _cycles_text)
+        writer = make_writer(
+            fmt, output, _cycles_text, shape=extra.get("anomaly") is not False,
+            digits=None if how["full_precision"] else (how["digits"] or DEFAULT_DIGITS),
+            units_row=bool(how["units_row"]))
         try:
             res, _ = run_cycles(log, kw, keep_rows=False, sink=writer, **extra)
         except BaseException:
@@ -186,6 +193,23 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
         click.echo(f"wrote {plot}", err=True)
     if stream:
         return
+    data = res.to_dict(rows=not summary_only)
+    if fmt == "jsonl":  # as streamed: head line, a line per cycle (none), last line
+        from torqlog.cli.base import _jsonable
+        from torqlog.io.units import convert_keys
+
+        if how["units"] != "si":
+            data = convert_keys(data, how["units"])
+        rows = data.pop("cycles", [])
+        head = {k: data.pop(k) for k in ("source", "options")}
+        body = "".join(json.dumps(_jsonable(x), ensure_ascii=False) + "\n"
+                       for x in (head, *rows, data))
+        if output:
+            write_text(output, body)
+            click.echo(f"wrote {output}", err=True)
+        else:
+            click.echo(body, nl=False)
+        return
     table = None  # the JSON needs no pandas table (and so no pandas)
     if summary_only and fmt in TABULAR:
         import pandas as pd  # only here: the streamed outputs need no pandas
@@ -197,9 +221,8 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
                            "torque_peak_Nm", "work_J", "energy_swing_J", "cs",
                            "cs_constant_drive", "flag", "anomaly", "anomaly_score"]]
-    system = output_settings()["units"]
-    emit(res.to_dict(rows=not summary_only), table, fmt, output,
-         text=lambda _data: _cycles_text(res, system))
+    system = how["units"]
+    emit(data, table, fmt, output, text=lambda _data: _cycles_text(res, system))
 
 
 # --- size
