@@ -770,6 +770,8 @@ def plot_trend(result: object, figure: str, path: str | Path, *, units: str = "s
         name = f" — {m}" if m else ""
         if d.empty:
             ax.set_title(f"{label}{name}: not charted (too few baseline values)")
+            for a in (ax, ax_e):  # no empty axes with made-up ticks
+                a.set_axis_off()
             continue
         rows = d["row"].to_numpy()
         t = _trend_times(result, rows)
