@@ -352,8 +352,7 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
     logs : sequence of path
         Logger exports of one machine; the first is the design log.
     profile : path, optional
-        Machine profile (TOML). Without one the report holds what the log alone gives and
-        says, per section, which profile lines would add the rest.
+        Machine profile (TOML); without one, each section says which profile lines to add.
     cycle_options : CycleOptions, optional
         Cycle-stage options; default :func:`torqlog.signal.cycles.options_from_profile`.
     read : mapping, optional
@@ -370,19 +369,17 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
     trend : bool
         Run the shift trend when several logs are given and ``torqlog.fleet.trend`` exists.
     survey : bool
-        Also run ``inspect``'s full survey of each log (a second pass over the file: gap
-        list, NaN and clipping counts per channel). Default: the log facts come from the
-        one cycle pass.
+        Also run ``inspect``'s full survey of each log (a second pass: gaps, NaN and
+        clipping per channel); default: the log facts come from the one cycle pass.
     extra : mapping, optional
         Results of further stages shown on page one (see :attr:`ReportData.extra`).
     units : str
         ``"si"`` or ``"us"``: the units of the tables, sentences and figure axes.
     fleet : FleetResult or its dict, optional
-        The fleet table of several machines (:func:`torqlog.fleet.compare.fleet_table`);
-        the report gets a fleet page, sortable by any column.
+        Several machines' table (:func:`torqlog.fleet.compare.fleet_table`): a fleet page.
     machine_class : str, optional
-        Without a target Cs (argument or profile): take the common-practice target of
-        this machine class (:data:`torqlog.sizing.inertia.MACHINE_CLASSES`); default
+        Without a target Cs (argument or profile): take this machine class's
+        common-practice target (:data:`torqlog.sizing.inertia.MACHINE_CLASSES`); default
         :data:`ASSUMED_MACHINE_CLASS`, and the report says the target is assumed.
 
     Returns
@@ -392,12 +389,19 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
     Raises
     ------
     UsageError
-        No log given.
+        No log given, or an unknown unit system.
     DataError
         A log cannot be read or holds too few cycles.
     """
-    from dataclasses import replace
+    _check_request(logs, units)
+    with _figure_folder(figure_dir) as out:
+        data = _build(logs, profile, cycle_options, dict(read or {}), target_cs, quantile,
+                      seed, out, trend, survey, dict(extra or {}), units, machine_class)
+    return data if fleet is None else _with_fleet(data, fleet)
 
+
+def _check_request(logs: Sequence[str | Path], units: str) -> None:
+    """Refuse a report without logs or in an unknown unit system."""
     from torqlog.errors import UsageError
     from torqlog.io.units import UNIT_SYSTEMS
 
@@ -405,14 +409,14 @@ def build_report(logs: Sequence[str | Path], profile: str | Path | None = None, 
         raise UsageError("give at least one log file")
     if units not in UNIT_SYSTEMS:
         raise UsageError(f"unknown unit system {units!r}; valid: {', '.join(UNIT_SYSTEMS)}")
-    with _figure_folder(figure_dir) as out:
-        data = _build(logs, profile, cycle_options, dict(read or {}), target_cs, quantile,
-                      seed, out, trend, survey, dict(extra or {}), units,
-                      machine_class)
-    if fleet is not None:
-        data = replace(data, fleet=_plain(fleet if isinstance(fleet, Mapping)
-                                          else fleet.to_dict()))
-    return data
+
+
+def _with_fleet(data: ReportData, fleet: Any) -> ReportData:
+    """The report with the fleet table of several machines (a FleetResult or its dict)."""
+    from dataclasses import replace
+
+    return replace(data, fleet=_plain(fleet if isinstance(fleet, Mapping)
+                                      else fleet.to_dict()))
 
 
 @contextlib.contextmanager
