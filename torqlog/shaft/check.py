@@ -46,8 +46,10 @@ from torqlog.shaft.torsional_response import (
     forced_response,
 )
 
-
 # --------------------------------------------------------------------------- the check
+_RANK = {"fail": 0, "marginal": 1, "pass": 2}
+
+
 @dataclass(frozen=True, eq=False)
 class ShaftState:
     """Lateral and torsional results of one configuration (torsional may be None), and
@@ -89,11 +91,41 @@ class ShaftResult:
         return {name: res.margin_text for name, res in checks.items()
                 if res is not None and res.verdict == "fail"}
 
+    def _checks(self) -> list[tuple[str, str, str]]:
+        """(name, verdict, margin text) of the current state's checks, worst first: fail,
+        marginal, pass; among equals the strength check (its governing check is named)
+        before lateral before torsional. A check that could not be made is left out."""
+        st = self.current
+        out = []
+        if st.strength is not None:
+            name, verdict, _ = st.strength.checks[0]
+            out.append((name, verdict, st.strength.margin_text))
+        out += [(n, r.verdict, r.margin_text) for n, r in (("lateral", st.lateral),
+                                                           ("torsional", st.torsional))
+                if r is not None and r.verdict in _RANK]
+        return sorted(out, key=lambda c: _RANK[c[1]])
+
+    @property
+    def marginals(self) -> dict[str, str]:
+        """Marginal checks of the current state (safety factor between 1 and the required
+        one): {"strength": margin text}."""
+        st = self.current.strength
+        return {"strength": st.margin_text} if st is not None and st.verdict == "marginal" \
+            else {}
+
     @property
     def verdict(self) -> str:
-        """"fail" when a check of the current state fails, else "pass" (a torsional
-        check that could not be made does not fail)."""
-        return "fail" if self.failures else "pass"
+        """The worst check of the current state: "fail" over "marginal" over "pass" (a
+        torsional check that could not be made does not count)."""
+        checks = self._checks()
+        return checks[0][1] if checks else "pass"
+
+    @property
+    def governing_check(self) -> str | None:
+        """The check that sets the verdict: ``"lateral"``, ``"torsional"`` or the strength
+        check's own name (e.g. ``"fatigue at keyseat under flywheel"``)."""
+        checks = self._checks()
+        return checks[0][0] if checks else None
 
     def to_pandas(self) -> pd.DataFrame:
         """One row per frequency: ``state``, ``check``, ``estimate``, ``frequency_Hz``."""
@@ -123,7 +155,8 @@ class ShaftResult:
                 "fatigue_safety_factor": strength.fatigue_safety_factor if strength else None,
                 "governing_section": strength.to_dict()["governing_section"]
                 if strength else None,
-                "verdict": self.verdict, "failed": list(self.failures),
+                "verdict": self.verdict, "governing_check": self.governing_check,
+                "failed": list(self.failures), "marginal": list(self.marginals),
                 "cautions": list(self.cautions), "options": dict(self.options)}
 
 
