@@ -31,7 +31,7 @@ def test_page_one_names_the_governing_check_of_the_shaft_json():
     assert sh["verdict"] == f.verdict == "marginal"
     assert sh["governing_check"] == "fatigue at plain, largest moment at 0.400 m"
     assert f.text.startswith("Shaft as it is: fatigue at plain, largest moment at 0.400 m "
-                             "governs; the lateral check passes (")
+                             "governs; the lateral check passes: first lateral mode ")
     assert "the lateral check governs" not in f.text
     n = sh["fatigue_safety_factor"]
     assert f.text.endswith(f" Strength: fatigue safety factor {n:.2f} at plain, largest "

@@ -1204,7 +1204,7 @@ def _find_shaft(d: ReportData) -> Finding:
                         f"; {text}."]
     named = sh.get("governing_check")  # the shaft result's own governing check
     if named and named not in ("lateral", "torsional") and not failed:
-        parts = [f"Shaft {who}: {named} governs; the {name} check passes ({text})."]
+        parts = [f"Shaft {who}: {named} governs; the {name} check passes: {text}."]
     parts.append(" " + strength.text if strength is not None else
                  " Strength, fatigue and bearing life are not assessed in this report.")
     return Finding("shaft-fine", q, tuple(parts), verdict, "shaft")
