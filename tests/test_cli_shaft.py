@@ -60,7 +60,8 @@ def test_json_contract_and_values(tmp_path):
     d = json.loads(res.stdout)
     assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed",
                       "cautions", "options", "forced_response", "strength",
-                      "fatigue_safety_factor", "governing_section"}
+                      "fatigue_safety_factor", "governing_section",
+                      "governing_check", "marginal"}
     assert d["options"]["speed_rpm"] == pytest.approx(45.0)
     assert d["options"]["add_mass_at_m"] == 1.40
     assert d["after"]["lateral"]["fe_hz"][0] < d["before"]["lateral"]["fe_hz"][0]

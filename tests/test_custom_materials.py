@@ -177,7 +177,11 @@ def _leaves(d, prefix=""):
 
 
 def test_shaft_given_by_properties_matches_built_in_steel_exactly():
-    own, ref = _shaft(_STEEL_TABLE), _shaft("steel")
+    # the profile's strength lines (630/530 MPa, AISI 1045 CD, Shigley 10th ed. Table A-20)
+    # win over the built-in steel's minimum values; an own material must carry the same
+    # strengths to give the same result
+    own = _shaft({**_STEEL_TABLE, "yield_MPa": 530.0, "tensile_MPa": 630.0})
+    ref = _shaft("steel")
     assert own["options"]["material"] == "shop bar"
     assert own["options"]["material_designation"] == ""  # no standard claimed
     assert own["options"]["material_source"] == "properties as given by the user"
@@ -187,6 +191,9 @@ def test_shaft_given_by_properties_matches_built_in_steel_exactly():
     for key in a:
         assert a[key] == pytest.approx(b[key], rel=1e-12, abs=1e-300), key
     assert own["verdict"] == ref["verdict"]
+    assert own["strength"]["options"]["material"] == ("shop bar (properties as given by "
+                                                      "the user)")
+    assert ref["strength"]["options"]["material"] == "steel (strengths from the profile)"
 
 
 def test_shaft_material_from_a_plant_file_and_on_the_command_line(tmp_path):
@@ -194,8 +201,9 @@ def test_shaft_material_from_a_plant_file_and_on_the_command_line(tmp_path):
 
     mats = tmp_path / "plant.toml"
     mats.write_text('["shop-bar"]\nbehaviour = "ductile"\ndensity_kg_per_m3 = 7850\n'
-                    'modulus_GPa = 210\npoisson = 0.3\nyield_MPa = 305\n'
-                    'source = "mill certificate 26-031"\n', encoding="utf-8")
+                    'modulus_GPa = 210\npoisson = 0.3\nyield_MPa = 530\n'
+                    'tensile_MPa = 630\nsource = "mill certificate 26-031"\n',
+                    encoding="utf-8")
     own = _shaft("shop-bar", load_materials(mats))
     assert own["options"]["material_source"] == "mill certificate 26-031"
     assert own["options"]["material_designation"] == ""

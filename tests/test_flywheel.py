@@ -17,6 +17,8 @@ from scipy.integrate import solve_bvp
 from torqlog.errors import DataError, UsageError
 from torqlog.rotor.discs import disc_stresses, rim_hoop_stress, stepped_disc_stresses
 from torqlog.rotor.flywheel import (
+    BRITTLE_CAUTION,
+    CASTING_CAUTION,
     CAUTIONS,
     DiscGeometry,
     check_flywheel,
@@ -234,6 +236,22 @@ def test_required_factor_and_verdict():
     assert d["checks"][1] == {"name": "rim_speed_m_s", "value": pytest.approx(43.98, abs=0.01),
                               "limit": 30.0, "ok": False}
     assert d["cautions"][: len(CAUTIONS)] == list(CAUTIONS)
+    assert BRITTLE_CAUTION in d["cautions"]  # grey cast iron is brittle (EN 1561)
+
+
+def test_only_a_cast_material_gets_the_casting_caution():
+    # a steel disc is forged or rolled, not cast: no cast-iron caution (common practice)
+    g = DiscGeometry("annular-disc", 1.4, 0.16, 0.12)
+    steel = check_flywheel(g, "steel-c45", 300 * RPM).to_dict()["cautions"]
+    assert not [c for c in steel if "brittle" in c or "casting" in c]
+    assert BRITTLE_CAUTION not in steel and CASTING_CAUTION not in steel
+    grey = check_flywheel(g, "grey-iron-250", 300 * RPM).to_dict()["cautions"]
+    assert BRITTLE_CAUTION in grey and CASTING_CAUTION not in grey
+    sg = check_flywheel(g, "ductile-iron", 300 * RPM).to_dict()["cautions"]
+    assert CASTING_CAUTION in sg and BRITTLE_CAUTION not in sg
+    assert sg[len(CAUTIONS)] == ("Ductile iron is a casting: casting flaws, porosity and "
+                                 "thick sections lower its strength below the test-bar "
+                                 "value; inspect castings before use.")
 
 
 def test_energy_stored_and_released():

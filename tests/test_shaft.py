@@ -250,7 +250,8 @@ def test_check_shaft_before_after_contract():
     d = res.to_dict()
     assert set(d) == {"before", "after", "lateral", "torsional", "verdict", "failed",
                       "cautions", "options", "forced_response", "strength",
-                      "fatigue_safety_factor", "governing_section"}
+                      "fatigue_safety_factor", "governing_section",
+                      "governing_check", "marginal"}
     assert (d["verdict"], d["failed"]) == ("pass", [])
     assert set(d["lateral"]) >= {"rayleigh_hz", "dunkerley_hz", "fe_hz",
                                  "static_deflection_max_mm", "forcing_hz", "ratio",

@@ -112,7 +112,11 @@ def _shaft_text(d: dict[str, Any], name: str, system: str = "si") -> str:
         lines += _strength_lines(st.get("strength"), system)
     state = "after" if d["after"] is not None else "current"
     lines.append(f"\nVerdict ({state}): {d['verdict']}"
-                 + (f" (failed: {', '.join(d['failed'])})" if d["failed"] else ""))
+                 + (f" (failed: {', '.join(d['failed'])})" if d["failed"] else "")
+                 + (f" (marginal: {', '.join(d.get('marginal', []))})"
+                    if d.get("marginal") else "")
+                 + (f"\nGoverning check: {d['governing_check']}"
+                    if d.get("governing_check") else ""))
     lines.append("\nCautions:")
     lines += [f"  - {c}" for c in d["cautions"]]
     return "\n".join(lines) + "\n"
@@ -129,7 +133,8 @@ def _response_lines(fr: dict[str, Any] | None, system: str = "si") -> list[str]:
     lines = [f"  forced response (log torque at {o['excitation_at']}, damping ratio "
              f"{o['damping_ratio']:g}):"]
     for i, name in enumerate(fr["sections"]):
-        lines.append(f"    {name}: mean {nm(fr['torque_mean_Nm'][i])}, dynamic peak "
+        lines.append(f"    {name}: mean (time average) {nm(fr['torque_mean_Nm'][i])}, "
+                     "dynamic peak "
                      f"{nm(fr['torque_dynamic_peak_Nm'][i])}, peak "
                      f"{nm(fr['torque_peak_Nm'][i])}")
     if fr["governing_section"]:
@@ -151,8 +156,9 @@ def _strength_lines(sd: dict[str, Any] | None, system: str = "si") -> list[str]:
     def diameter(mm: float) -> str:  # a shaft diameter: mm, or inches (not mils)
         return f"{mm:5.0f} mm" if system == "si" else _q("diameter_m", mm / 1e3, system, "5.2f")
 
-    lines = [f"  strength ({o['material']}, {o['method']}; shaft torque mean "
-             f"{nm(t['torque_mean_Nm']).split()[0]}, alternating "
+    mid = t.get("torque_midrange_Nm", t.get("torque_mean_Nm"))
+    lines = [f"  strength ({o['material']}, {o['method']}; shaft torque mid-range "
+             f"(max+min)/2 {nm(mid).split()[0]}, alternating "
              f"{nm(t['torque_alt_Nm']).split()[0]}, peak {nm(t['torque_peak_Nm'])}):"]
     for r in sd["sections"]:
         lines.append(f"    {r['section']:<34} d {diameter(r['diameter_mm'])}  Kf {r['kf']:.2f} "
@@ -233,7 +239,8 @@ def _given_log_only(ctx: click.Context) -> list[str]:
               default=None, help="The plant's own materials table (TOML, one table per "
                                  "material), where [shaft] material names are looked up.")
 @click.option("--strict", is_flag=True,
-              help="Exit with code 3 when a check fails (the result is still written).")
+              help="Exit with code 3 when a check fails or is marginal (a safety factor "
+                   "below the required one); the result is still written.")
 @click.option("--plot", "plot_path", type=FIGURE_FILE, default=None,
               help="Write a PNG figure (with --log, also the order spectrum).")
 @output_options
@@ -328,6 +335,9 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
     if strict and result.failures:
         reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
         raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")
+    if strict and result.marginals:
+        reasons = "; ".join(result.marginals.values())
+        raise CheckFailed(f"shaft check marginal ({', '.join(result.marginals)}): {reasons}")
 
 
 # --- flywheel

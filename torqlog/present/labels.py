@@ -63,6 +63,7 @@ LABELS: Mapping[str, Label] = MappingProxyType({
     "speed_min_rpm": _L("Lowest speed", "rpm", digits=4),
     "speed_max_rpm": _L("Highest speed", "rpm", digits=4),
     "torque_mean_Nm": _L("Mean torque", "kN·m", 1e-3),
+    "torque_midrange_Nm": _L("Mid-range torque (max+min)/2", "kN·m", 1e-3),
     "torque_peak_Nm": _L("Peak torque", "kN·m", 1e-3),
     "torque_peak_Nm_p99": _L("Peak torque (99th percentile)", "kN·m", 1e-3),
     "energy_swing_J": _L("Energy swing ΔE", "kJ", 1e-3),

@@ -1275,7 +1275,11 @@ def _find_shaft(d: ReportData) -> Finding:
     verdict = ("fail" if failed or (strength and strength.verdict == "fail") else
                "marginal" if strength and strength.verdict == "marginal" else "pass")
     who = "with the flywheel" if state == "after" else "as it is"
-    parts: list[Any] = [f"Shaft {who}: the {name} check {'fails' if failed else 'governs'}; "]
+    named = sh.get("governing_check")  # the shaft result's own governing check
+    if named and named not in ("lateral", "torsional") and not failed:
+        parts: list[Any] = [f"Shaft {who}: {named} governs; the {name} check passes: "]
+    else:
+        parts = [f"Shaft {who}: the {name} check {'fails' if failed else 'governs'}; "]
     if name == "lateral" and gov.get("fe_hz") and gov.get("ratio") is not None:
         parts += ["first lateral mode ", _cell("shaft", f"{state}.lateral.fe_hz.0",
                                                gov["fe_hz"][0], "natural_frequency_hz"),

@@ -80,7 +80,17 @@ MATERIAL_FACTOR_BRITTLE = 3.0
 
 _RPM = 2.0 * math.pi / 60.0
 
-#: Cautions carried by every flywheel result.
+#: Caution of a brittle (grey cast iron) flywheel; common practice.
+BRITTLE_CAUTION = (
+    "Cast iron is brittle: casting flaws, porosity, shrinkage stresses and thick sections "
+    "lower its strength below the test-bar value; inspect castings before use.")
+
+#: Caution of a ductile cast iron (spheroidal graphite, EN 1563) flywheel; common practice.
+CASTING_CAUTION = (
+    "Ductile iron is a casting: casting flaws, porosity and thick sections lower its "
+    "strength below the test-bar value; inspect castings before use.")
+
+#: Cautions carried by every flywheel result (a cast material adds its own).
 CAUTIONS: tuple[str, ...] = (
     "Burst hazard: a flywheel stores kinetic energy that is released violently if it "
     "bursts; fragments can kill.",
@@ -89,8 +99,6 @@ CAUTIONS: tuple[str, ...] = (
     "overspeed assumed here.",
     "Keep the rim speed within the limit for the material and construction (common "
     "practice, e.g. about 30 m/s for grey cast iron).",
-    "Cast iron is brittle: casting flaws, porosity, shrinkage stresses and thick sections "
-    "lower its strength below the test-bar value; inspect castings before use.",
     "Preliminary engineering estimate from elastic rotating-disc formulas (keyways, bolt "
     "holes, fillets and fatigue not included); the final design, guards, spin testing and "
     "inspection follow the applicable codes and standards and are approved by a "
@@ -774,6 +782,10 @@ def _design_checks(geometry: DiscGeometry, mat: Material, margin: _Margin, energ
 def _design_cautions(geometry: DiscGeometry, mat: Material) -> list[str]:
     """The cautions every result carries, with those its proportions, shape and material add."""
     cautions = list(CAUTIONS)
+    if mat.brittle:
+        cautions.append(BRITTLE_CAUTION)
+    elif "EN-GJS" in mat.designation:  # a spheroidal-graphite (ductile) iron casting
+        cautions.append(CASTING_CAUTION)
     if geometry.width / geometry.outer_diameter > MAX_WIDTH_TO_DIAMETER:
         cautions.insert(0, (
             f"The face width ({geometry.width:.4g} m) is more than "

@@ -58,6 +58,10 @@ class Material:
         Where each value comes from.
     designation : str
         Standard designation, e.g. ``"EN-GJS-400-15 (EN 1563)"``.
+    ultimate : float or None [Pa]
+        Minimum ultimate tensile strength Sut of a ductile material, when known: a shaft's
+        fatigue check needs it (endurance limit and Goodman line, Shigley 10th ed.
+        eqs. 6-8, 7-8). None when not given.
     """
 
     name: str
@@ -70,6 +74,7 @@ class Material:
     rim_speed_limit: float | None
     source: str
     designation: str = ""
+    ultimate: float | None = None
 
     def __post_init__(self) -> None:
         if self.strength_kind not in STRENGTH_KINDS:
@@ -80,6 +85,9 @@ class Material:
             if not value > 0:
                 raise UsageError(f"material {self.name!r}: {label} must be positive, "
                                  f"got {value!r}")
+        if self.ultimate is not None and not self.ultimate > 0:
+            raise UsageError(f"material {self.name!r}: ultimate strength must be positive, "
+                             f"got {self.ultimate!r}")
         if not 0.0 <= self.poisson < 0.5:
             raise UsageError(f"material {self.name!r}: poisson must be in [0, 0.5), "
                              f"got {self.poisson!r}")
@@ -119,6 +127,7 @@ _TABLE: tuple[Material, ...] = (
         name="ductile-iron", designation="EN-GJS-400-15 (EN 1563)",
         density=7100.0, modulus=169 * _GPA, poisson=0.275,
         strength=250 * _MPA, strength_kind="yield", brittle=False, rim_speed_limit=50.0,
+        ultimate=400 * _MPA,
         source=("Rp0.2 min 250 MPa (Rm min 400 MPa, A min 15 %): EN 1563; E, nu, density: "
                 "EN 1563 informative annex typical values, from memory; rim-speed limit "
                 "50 m/s: common practice, from memory."),
@@ -127,7 +136,9 @@ _TABLE: tuple[Material, ...] = (
         name="steel-c45", designation="C45+N (EN 10083-2)",
         density=7850.0, modulus=210 * _GPA, poisson=0.3,
         strength=305 * _MPA, strength_kind="yield", brittle=False, rim_speed_limit=60.0,
-        source=("ReH min 305 MPa, normalised, 16 < d <= 100 mm: EN 10083-2, from memory; "
+        ultimate=580 * _MPA,
+        source=("ReH min 305 MPa, Rm min 580 MPa, normalised, 16 < d <= 100 mm: EN 10083-2, "
+                "from memory; "
                 + _STEEL_ELASTIC + "; rim-speed limit 60 m/s: common practice for a "
                 "forged or rolled steel disc, from memory."),
     ),
@@ -135,7 +146,9 @@ _TABLE: tuple[Material, ...] = (
         name="steel-s355", designation="S355 (EN 10025-2)",
         density=7850.0, modulus=210 * _GPA, poisson=0.3,
         strength=335 * _MPA, strength_kind="yield", brittle=False, rim_speed_limit=50.0,
-        source=("ReH min 335 MPa for 40 < t <= 63 mm: EN 10025-2; " + _STEEL_ELASTIC
+        ultimate=470 * _MPA,
+        source=("ReH min 335 MPa for 40 < t <= 63 mm, Rm min 470 MPa for 3 <= t <= 100 mm "
+                "(from memory): EN 10025-2; " + _STEEL_ELASTIC
                 + "; rim-speed limit 50 m/s: common practice for a steel-plate flywheel, "
                 "from memory."),
     ),
@@ -233,7 +246,8 @@ def material_from_properties(*, density: float | None = None, modulus: float | N
                              brittle: bool | None = None,
                              rim_speed_limit: float | None = None, name: str = "custom",
                              source: str = USER_SOURCE, designation: str = "",
-                             need_behaviour: bool = True) -> Material:
+                             need_behaviour: bool = True,
+                             ultimate: float | None = None) -> Material:
     """A material of its own, from properties the user gives (no table entry behind it).
 
     Parameters
@@ -255,6 +269,8 @@ def material_from_properties(*, density: float | None = None, modulus: float | N
         A standard designation only when the user gives one; none is claimed otherwise.
     need_behaviour : bool
         Refuse ``brittle=None`` (True where it decides the criterion); else ductile.
+    ultimate : float [Pa], optional
+        Ultimate tensile strength Sut of a ductile material (beside its yield strength).
 
     Returns
     -------
@@ -285,7 +301,8 @@ def material_from_properties(*, density: float | None = None, modulus: float | N
     return Material(name=name, density=float(density), modulus=float(modulus),
                     poisson=float(poisson), strength=float(strength),
                     strength_kind="tensile" if brittle else "yield", brittle=bool(brittle),
-                    rim_speed_limit=rim_speed_limit, source=source, designation=designation)
+                    rim_speed_limit=rim_speed_limit, source=source, designation=designation,
+                    ultimate=None if ultimate is None or brittle else float(ultimate))
 
 
 def custom_material(base: Material | str | None = None, *, density: float | None = None,
@@ -357,7 +374,8 @@ def material_from_mapping(spec: Mapping[str, object], where: str,
     ----------
     spec : mapping
         Keys ``name``, ``density_kg_per_m3``, ``modulus_GPa``, ``poisson``, ``yield_MPa``
-        (ductile) or ``tensile_MPa`` (brittle), ``behaviour`` (``"ductile"`` or
+        (ductile; with ``tensile_MPa`` beside it, its ultimate tensile strength) or
+        ``tensile_MPa`` alone (brittle), ``behaviour`` (``"ductile"`` or
         ``"brittle"``), optional ``rim_speed_limit_m_s``, ``designation``, ``source``.
         A number is in the key's unit; text with a unit (``"0.26 lb/in^3"``) is converted.
     where : str
@@ -391,31 +409,37 @@ def material_from_mapping(spec: Mapping[str, object], where: str,
     brittle = overrides.get("brittle")
     if brittle is None and behaviour is not None:
         brittle = behaviour == "brittle"
-    if "yield_MPa" in spec and "tensile_MPa" in spec:
-        raise UsageError(f"{where}: give yield_MPa (ductile) or tensile_MPa (brittle), "
-                         "not both: one design strength is checked")
+    both = "yield_MPa" in spec and "tensile_MPa" in spec
+    if both and brittle is None:
+        brittle = False  # a yield strength is given: a ductile material
     if brittle is True and "yield_MPa" in spec:
         raise UsageError(f"{where}: a brittle material is checked against its tensile "
                          "strength; give tensile_MPa instead of yield_MPa")
-    if brittle is False and "tensile_MPa" in spec:
+    if brittle is not True and "tensile_MPa" in spec and "yield_MPa" not in spec:
         raise UsageError(f"{where}: a ductile material is checked against its yield "
-                         "strength; give yield_MPa instead of tensile_MPa")
+                         "strength; give yield_MPa too (tensile_MPa is then its ultimate "
+                         "tensile strength), or behaviour = \"brittle\" for a cast iron")
     values: dict[str, float | None] = {}
     for field_name, key, unit, kind in (
             ("density", "density_kg_per_m3", "kg/m**3", "density"),
             ("modulus", "modulus_GPa", "GPa", "stress"),
             ("poisson", "poisson", "", "dimensionless"),
             ("strength", "yield_MPa", "MPa", "stress"),
-            ("strength", "tensile_MPa", "MPa", "stress"),
+            ("ultimate" if both else "strength", "tensile_MPa", "MPa", "stress"),
             ("rim_speed_limit", "rim_speed_limit_m_s", "m/s", "velocity")):
         if key in spec:
             values[field_name] = _quantity(spec[key], unit, kind, f"{where} {key}")
     for k in ("density", "modulus", "poisson", "strength"):
         if overrides.get(k) is not None:
             values[k] = float(overrides[k])  # type: ignore[arg-type]
+    ult, sy = values.get("ultimate"), values.get("strength")
+    if ult is not None and sy is not None and sy > ult:
+        raise UsageError(f"{where}: yield_MPa {sy / 1e6:g} is above tensile_MPa {ult / 1e6:g}; "
+                         "the yield strength of a ductile material is below its ultimate "
+                         "tensile strength")
     return material_from_properties(
         **{k: values.get(k) for k in ("density", "modulus", "poisson", "strength",
-                                      "rim_speed_limit")},
+                                      "rim_speed_limit", "ultimate")},
         brittle=brittle, name=name, source=str(spec.get("source", source)),
         designation=str(spec.get("designation", "")), need_behaviour=need_behaviour)
 

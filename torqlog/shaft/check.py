@@ -46,8 +46,10 @@ from torqlog.shaft.torsional_response import (
     forced_response,
 )
 
-
 # --------------------------------------------------------------------------- the check
+_RANK = {"fail": 0, "marginal": 1, "pass": 2}
+
+
 @dataclass(frozen=True, eq=False)
 class ShaftState:
     """Lateral and torsional results of one configuration (torsional may be None), and
@@ -89,11 +91,41 @@ class ShaftResult:
         return {name: res.margin_text for name, res in checks.items()
                 if res is not None and res.verdict == "fail"}
 
+    def _checks(self) -> list[tuple[str, str, str]]:
+        """(name, verdict, margin text) of the current state's checks, worst first: fail,
+        marginal, pass; among equals the strength check (its governing check is named)
+        before lateral before torsional. A check that could not be made is left out."""
+        st = self.current
+        out = []
+        if st.strength is not None:
+            name, verdict, _ = st.strength.checks[0]
+            out.append((name, verdict, st.strength.margin_text))
+        out += [(n, r.verdict, r.margin_text) for n, r in (("lateral", st.lateral),
+                                                           ("torsional", st.torsional))
+                if r is not None and r.verdict in _RANK]
+        return sorted(out, key=lambda c: _RANK[c[1]])
+
+    @property
+    def marginals(self) -> dict[str, str]:
+        """Marginal checks of the current state (safety factor between 1 and the required
+        one): {"strength": margin text}."""
+        st = self.current.strength
+        return {"strength": st.margin_text} if st is not None and st.verdict == "marginal" \
+            else {}
+
     @property
     def verdict(self) -> str:
-        """"fail" when a check of the current state fails, else "pass" (a torsional
-        check that could not be made does not fail)."""
-        return "fail" if self.failures else "pass"
+        """The worst check of the current state: "fail" over "marginal" over "pass" (a
+        torsional check that could not be made does not count)."""
+        checks = self._checks()
+        return checks[0][1] if checks else "pass"
+
+    @property
+    def governing_check(self) -> str | None:
+        """The check that sets the verdict: ``"lateral"``, ``"torsional"`` or the strength
+        check's own name (e.g. ``"fatigue at keyseat under flywheel"``)."""
+        checks = self._checks()
+        return checks[0][0] if checks else None
 
     def to_pandas(self) -> pd.DataFrame:
         """One row per frequency: ``state``, ``check``, ``estimate``, ``frequency_Hz``."""
@@ -123,7 +155,8 @@ class ShaftResult:
                 "fatigue_safety_factor": strength.fatigue_safety_factor if strength else None,
                 "governing_section": strength.to_dict()["governing_section"]
                 if strength else None,
-                "verdict": self.verdict, "failed": list(self.failures),
+                "verdict": self.verdict, "governing_check": self.governing_check,
+                "failed": list(self.failures), "marginal": list(self.marginals),
                 "cautions": list(self.cautions), "options": dict(self.options)}
 
 
@@ -215,7 +248,7 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     margin = _pick(margin, profile.shaft.get("separation_margin"), 0.15)
 
     strength_ctx = (_strength_context(profile, model, damping_ratio, fatigue_method,
-                                      excitation_at, speed, shaft_ratio)
+                                      excitation_at, speed, shaft_ratio, spec, mat)
                     if cycle_torque is not None else None)
 
     def state(m: ShaftModel, c: TorsionalChain | None) -> ShaftState:
@@ -288,14 +321,98 @@ def check_shaft(profile: MachineProfile, *, speed: float | None = None, orders: 
     return ShaftResult(before, after, tuple(cautions), options, float(speed))
 
 
-def _material_name(spec: str | Mapping[str, Any]) -> str:
-    """A shaft material's name as the profile gives it (a table's ``name``, or custom)."""
-    return spec if isinstance(spec, str) else str(spec.get("name", "custom"))
+_STRENGTH_LINES = (("ultimate", "ultimate_strength_MPa", "tensile_MPa",
+                    "ultimate tensile strength Sut"),
+                   ("yield", "yield_strength_MPa", "yield_MPa", "yield strength Sy"))
+
+
+def shaft_strengths(sec: Mapping[str, Any], spec: str | Mapping[str, Any], mat: Any,
+                    method: str, src: str) -> tuple[float, float, str, list[str]]:
+    """Ultimate and yield strength [Pa] of the shaft's strength check, their label and notes.
+
+    A material of the user's own (a table of properties, or a name from ``--materials``)
+    is never replaced: its strengths are used, and ``[shaft] ultimate_strength_MPa`` /
+    ``yield_strength_MPa`` lines must agree with it (they may supply a value it lacks).
+    A built-in material's minimum values give way to the profile's lines (a certificate's
+    values, say), and the label says so. The generic ``"steel"`` with no lines keeps the
+    stated default, AISI 1045 CD (Shigley 10th ed. Table A-20), with a note. Every
+    fatigue criterion needs Sut: the endurance limit Se' = 0.5 Sut (Shigley 10th ed.
+    eq. 6-8) and the surface factor ka = a Sut^b (eq. 6-19).
+
+    Parameters
+    ----------
+    sec : mapping
+        The profile's ``[shaft]`` section (strength lines in Pa).
+    spec : str or mapping
+        The ``[shaft] material`` as given.
+    mat : Material
+        The material it resolves to.
+    method : str
+        Fatigue criterion, for messages.
+    src : str
+        The profile's file, for messages.
+
+    Returns
+    -------
+    ultimate, yield_strength : float [Pa]
+    label : str
+    notes : list of str
+
+    Raises
+    ------
+    UsageError
+        A strength line that disagrees with the user's own material (both values named);
+        a brittle material; no Sut (the key to add named).
+    """
+    from torqlog.rotor.materials import MATERIALS
+
+    name = spec if isinstance(spec, str) else mat.name
+    own = not isinstance(spec, str) or spec.strip().lower() not in MATERIALS
+    if mat.brittle:
+        raise UsageError(f"{src}: [shaft] material {name!r} is brittle: the shaft fatigue "
+                         "and yield check (Shigley 10th ed. ch. 6-7) is for ductile steels; "
+                         "give the shaft's ductile material")
+    from_mat = {"ultimate": mat.ultimate, "yield": mat.strength}
+    lines = {kind: float(sec[key]) for kind, key, _, _ in _STRENGTH_LINES if key in sec}
+    notes: list[str] = []
+    if own:
+        for kind, key, mkey, what in _STRENGTH_LINES:
+            have, line = from_mat[kind], lines.get(kind)
+            if have is not None and line is not None and not math.isclose(have, line,
+                                                                          rel_tol=1e-3):
+                raise UsageError(
+                    f"{src}: [shaft] {key} = {line / 1e6:g} disagrees with the {what} of "
+                    f"material {name!r} ({mkey} = {have / 1e6:g} MPa); remove the line or "
+                    "make the two agree: the check will not choose between them")
+        values = {k: lines.get(k, from_mat[k]) for k in from_mat}
+        label = f"{name} ({mat.source})"
+    elif not lines and name.strip().lower() == "steel":
+        values = {"ultimate": DEFAULT_SHAFT_STEEL[1], "yield": DEFAULT_SHAFT_STEEL[2]}
+        label = DEFAULT_SHAFT_STEEL[0]
+        notes.append(f"Shaft strengths not in the profile: {DEFAULT_SHAFT_STEEL[0]} assumed "
+                     f"(Sut {DEFAULT_SHAFT_STEEL[1] / 1e6:g} MPa, "
+                     f"Sy {DEFAULT_SHAFT_STEEL[2] / 1e6:g} MPa).")
+    else:
+        values = {k: lines.get(k, from_mat[k]) for k in from_mat}
+        label = (f"{name} (strengths from the profile)" if len(lines) == 2 else
+                 f"{name} (" + ", ".join(
+                     f"{what} {values[k] / 1e6:g} MPa from the "
+                     + ("profile" if k in lines else f"table, {mat.designation}")
+                     for k, _, _, what in _STRENGTH_LINES) + ")")
+        if lines:
+            notes.append(f"Shaft strengths: the profile's {', '.join(sorted(lines))} "
+                         f"line(s) used instead of the minimum values of {name!r}.")
+    if values["ultimate"] is None:
+        raise UsageError(f"{src}: [shaft] material {name!r} gives no ultimate tensile "
+                         f"strength Sut, which the {method} fatigue check needs (endurance "
+                         "limit Se' = 0.5 Sut, Shigley 10th ed. eq. 6-8): add tensile_MPa = "
+                         "... to the material (or ultimate_strength_MPa = ... to [shaft])")
+    return float(values["ultimate"]), float(values["yield"]), label, notes
 
 
 def _strength_context(profile: MachineProfile, model: ShaftModel, damping_ratio: Any,
-                      method: Any, excitation_at: Any, speed: float, shaft_ratio: float
-                      ) -> dict[str, Any]:
+                      method: Any, excitation_at: Any, speed: float, shaft_ratio: float,
+                      spec: str | Mapping[str, Any], mat: Any) -> dict[str, Any]:
     """Options and profile details shared by the before and after strength checks."""
 
     src = profile.source or "<profile>"
@@ -305,23 +422,14 @@ def _strength_context(profile: MachineProfile, model: ShaftModel, damping_ratio:
     if method not in FATIGUE_METHODS:
         raise UsageError(f"unknown fatigue method {method!r}; valid: "
                          f"{', '.join(FATIGUE_METHODS)}")
-    given = "ultimate_strength_MPa" in sec and "yield_strength_MPa" in sec
+    ultimate, yield_strength, label, notes = shaft_strengths(sec, spec, mat, method, src)
     opts = StrengthOptions(
-        ultimate=float(sec.get("ultimate_strength_MPa", DEFAULT_SHAFT_STEEL[1])),
-        yield_strength=float(sec.get("yield_strength_MPa", DEFAULT_SHAFT_STEEL[2])),
-        material=(f"{_material_name(sec.get('material', 'steel'))} (strengths from the "
-                  "profile)" if given
-                  else DEFAULT_SHAFT_STEEL[0]),
+        ultimate=ultimate, yield_strength=yield_strength, material=label,
         surface=str(sec.get("surface", "machined")),
         reliability=float(sec.get("reliability", 0.99)),
         temperature=float(sec.get("temperature_C", 20.0)), method=method,
         service_factor=float(sec.get("service_factor", 1.5)),
         roller_bearings=str(sec.get("bearing_type", "ball")) == "roller")
-    notes = []
-    if not given:
-        notes.append(f"Shaft strengths not in the profile: {DEFAULT_SHAFT_STEEL[0]} assumed "
-                     f"(Sut {DEFAULT_SHAFT_STEEL[1] / 1e6:g} MPa, "
-                     f"Sy {DEFAULT_SHAFT_STEEL[2] / 1e6:g} MPa).")
     pressures: dict[str, float] = {}
     if any(d["seat"] == "shrink" for d in details.seats):
         try:

@@ -12,8 +12,10 @@ Loads:
 * bending from the weights of the parts (:func:`torqlog.shaft.lateral.bending_moment`); on a
   rotating shaft it is fully reversed (alternating, no mean). Belt or gear pulls are not
   modelled (the profile has no key for them yet).
-* torque: mean and alternating from the section torque of the torsional forced response
-  to the log (:mod:`torqlog.shaft.torsional_response`), so a resonance shows up here, referred
+* torque: mid-range (max + min) / 2 -- the mean stress component of the fatigue
+  criterion, not the time average -- and alternating (max - min) / 2 from the section
+  torque of the torsional forced response to the log
+  (:mod:`torqlog.shaft.torsional_response`), so a resonance shows up here, referred
   to the flywheel shaft (divided by ``flywheel_speed_ratio``). Every section is taken to
   carry it (conservative for an overhung end beyond the drive).
 
@@ -227,7 +229,11 @@ def shaft_strength(model: ShaftModel, details: ShaftDetails, torque_mean: float,
     model : ShaftModel
     details : ShaftDetails
     torque_mean, torque_alt : float [N*m]
-        Mean and alternating shaft torque (on this shaft).
+        Mid-range torque (max + min) / 2 and alternating torque (max - min) / 2 of the
+        shaft torque (on this shaft): the mean and alternating components Tm, Ta of the
+        fatigue criterion (Shigley 10th ed. sec. 6-11, eq. 6-36, from memory; sec. 7-4).
+        The mid-range torque is not the time average of the torque (the forced
+        response's "mean").
     torque_peak : float [N*m]
         Largest absolute shaft torque (for yield, keys and fits).
     options : StrengthOptions
@@ -269,7 +275,7 @@ def shaft_strength(model: ShaftModel, details: ShaftDetails, torque_mean: float,
         rows.append({"section": name, "x_m": x, "diameter_mm": d * 1e3, "kt": kt, "kts": kts,
                      "q": q, "qs": qs, "kf": kf, "kfs": kfs, "ka": ka, "kb": kb, "kd": kd,
                      "ke": ke, "endurance_limit_MPa": se / 1e6, "moment_alt_Nm": m,
-                     "torque_mean_Nm": tm, "torque_alt_Nm": ta, "torque_peak_Nm": tp,
+                     "torque_midrange_Nm": tm, "torque_alt_Nm": ta, "torque_peak_Nm": tp,
                      "fatigue_safety_factor": n_f, "yield_safety_factor": n_y})
 
     ends = np.cumsum([s.length for s in model.segments])
@@ -324,7 +330,7 @@ def shaft_strength(model: ShaftModel, details: ShaftDetails, torque_mean: float,
                        l10_hours=hours)
         bearings.append(row)
     return StrengthResult(tuple(rows), tuple(keys), tuple(fits), tuple(bearings), o,
-                          {"torque_mean_Nm": tm, "torque_alt_Nm": ta, "torque_peak_Nm": tp})
+                          {"torque_midrange_Nm": tm, "torque_alt_Nm": ta, "torque_peak_Nm": tp})
 
 
 __all__ = ["DEFAULT_REQUIRED_FACTOR", "DEFAULT_SERVICE_FACTOR", "SEATS", "ShaftDetails",
