@@ -46,7 +46,7 @@ def _life_text(d: dict[str, Any], system: str = "si") -> str:
         lines.append(f"  model: {d['drive_model']} ({d['drive_model_note']})")
     lines += [f"  note: {n}" for n in d.get("notes", [])]
     if system != "si" and d.get("notes"):
-        lines.append("  (notes in SI units)")
+        lines.append("  (the notes in SI units)")
     lines += ["Cautions:"] + [f"  - {c}" for c in d["cautions"]]
     return "\n".join(lines) + "\n"
 

@@ -246,9 +246,11 @@ def _size_text(d: dict[str, Any], source: str, system: str = "si") -> str:
                      f"±{d['cs_model_tolerance_rel']:.0%})")
     if d.get("drive_slope_Nms_per_rad") is not None:
         se = d.get("drive_slope_se_Nms_per_rad")
-        lines.append(f"drive slope           {d['drive_slope_Nms_per_rad']:.4g}"
-                     + (f" ± {se:.2g}" if se else "") + " N·m·s/rad at the logged shaft"
-                     + (f" (nameplate {d['drive_slope_nameplate_Nms_per_rad']:.4g})"
+        ks, us = label_of("drive_slope_Nms_per_rad", system).scale, \
+            label_of("drive_slope_Nms_per_rad", system).unit
+        lines.append(f"drive slope           {d['drive_slope_Nms_per_rad'] * ks:.4g}"
+                     + (f" ± {se * ks:.2g}" if se else "") + f" {us} at the logged shaft"
+                     + (f" (nameplate {d['drive_slope_nameplate_Nms_per_rad'] * ks:.4g})"
                         if d.get("drive_slope_nameplate_Nms_per_rad") else ""))
     parts = d.get("ci95_parts_kgm2") or {}
     if parts:
@@ -304,6 +306,8 @@ def _size_text(d: dict[str, Any], source: str, system: str = "si") -> str:
                          f"{rf['drive_torque_rms_after_log_Nm'] * kt:.4g} {ut}")
         lines += [f"  {m}" for m in rf["messages"]]
     lines += [""] + [f"note: {m}" for m in d["messages"]]
+    if system != "si" and d["messages"]:
+        lines.append("(the notes in SI units)")
     lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
     return "\n".join(lines)
 
