@@ -75,6 +75,8 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
           if d["inf_rows"] else []),
         "clipped     " + (", ".join(f"{k} {v} samples" for k, v in d["clipped_samples"].items())
                           or "none found"),
+        *([f"spikes      {', '.join(f'{k} {v} samples' for k, v in d['spike_samples'].items())}"]
+          if d["spike_samples"] else []),
         f"cycles from {d['cycle_source'] or '-'}: {d['cycle_source_note']}",
     ]
     if d["preamble"]:
