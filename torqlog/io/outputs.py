@@ -33,12 +33,14 @@ from torqlog.errors import UsageError
 OUTPUT_METADATA_KEY = b"torqlog.output"
 
 #: Header columns of the CSV tables torqlog writes (trend rows by shift, day, file or
-#: hour; per-cycle rows of trend and of ``cycles --format csv``): a CSV whose header holds
-#: all of one set is an output of torqlog, not a logger export.
+#: hour; per-cycle rows of trend and of ``cycles --format csv``; the fleet table): a CSV
+#: whose header holds all of one set is an output of torqlog, not a logger export.
 OUTPUT_CSV_COLUMNS: tuple[frozenset[str], ...] = (
     frozenset({"machine", "start_time", "cycles", "cycles_total", "flagged_share"}),
     frozenset({"machine", "file", "start_time", "cycle", "energy_swing_J"}),
     frozenset({"cycle", "t_start_s", "energy_swing_J", "cs", "flag"}),
+    # the fleet table (torqlog.fleet.compare.FLEET_COLUMNS) of the demo's fleet.csv
+    frozenset({"rank", "machine", "last_log", "cs_p90", "status"}),
 )
 
 #: Names torqlog gives the files of ``trend --out-dir``.
