@@ -438,3 +438,21 @@ def test_discovery_skips_the_fleet_table_the_demo_writes(tmp_path):
     assert not is_torqlog_output(log)
     files, missing = discover([tmp_path])
     assert files == [log] and missing == []
+
+
+@pytest.mark.parametrize("fmt, name, said", [
+    ("parquet", "c2.csv", "--format parquet writes Parquet, but -o {out} ends in .csv (a csv "
+                          "file); name it c2.parquet, or give --format csv"),
+    ("csv", "c2.xlsx", "--format csv writes CSV, but -o {out} ends in .xlsx (a xlsx file); "
+                       "name it c2.csv, or give --format xlsx"),
+])
+def test_a_format_written_under_another_formats_suffix_is_refused(work, tmp_path, fmt, name,
+                                                                  said):
+    out = tmp_path / name
+    res = run("cycles", work["csv"], "--format", fmt, "-o", out)
+    assert res.exit_code == 2
+    assert said.format(out=out) in res.stderr
+    assert not out.exists()
+    ok = run("cycles", work["csv"], "--format", "csv", "-o", tmp_path / "c2.txt",
+             "--no-shape-check")
+    assert ok.exit_code == 0, ok.stderr  # a suffix that names no format is fine

@@ -322,6 +322,9 @@ class TableWriter:
 
 def make_writer(fmt: str, path: str | None, text: Callable[[CycleResult], str]) -> Any:
     """The streaming writer for ``--format`` ``fmt`` to ``path`` (None: stdout)."""
+    from torqlog.io.outputs import check_format_suffix
+
+    check_format_suffix(fmt, path)
     if fmt == "json":
         return JsonWriter(path)
     if fmt == "jsonl":

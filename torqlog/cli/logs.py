@@ -155,8 +155,10 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     from torqlog.cli.base import _flat
     from torqlog.cli.cycle_output import make_writer
     from torqlog.cli.watch import shape_kwargs
+    from torqlog.io.outputs import check_format_suffix
 
     check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
+    check_format_suffix(fmt, output)  # before the log is read
     save = kw.pop("save_shape_model")
     shape_plot = kw.pop("shape_plot")
     extra = {k: v for k, v in (("quantile_budget", quantile_budget),
