@@ -172,6 +172,7 @@ def test_unknown_key_reported_by_profile_loader(tmp_path):
     res = _run("--profile", p)
     assert res.exit_code == 1
     assert res.stderr == (f"Error: {p}: unknown key 'diameter' in [shaft] segments[0]; "
+                          f"did you mean 'diameter_m'? "
                           f"valid keys: bore_m, diameter_m, fillet_m, length_m, material\n")
 
 
