@@ -338,6 +338,9 @@ def test_a_log_alone_gives_a_report_that_names_the_profile_lines_to_add(compress
     assert "no target Cs is given" in rough
     rec = _text(_section(tree, "recommendation"))
     assert "target_cs = " in rec and "[machine]" in rec and "[motor]" in rec
+    # no profile was given: the report says so, not that the profile lacks a target
+    assert "No profile was given; a machine profile with [machine] target_cs sets the Cs" \
+        in rec and "The profile gives no target Cs" not in html.read_text(encoding="utf-8")
     assert "[shaft]" in _text(_section(tree, "shaft"))
     # the measured state is all there: spectrum figure included
     assert {f.get("id") for f in tree.iter("figure")} >= {"fig-cycles", "fig-spectrum"}
