@@ -41,6 +41,10 @@ RUNS = {
                          f"{S}/engine_preamble.txt"],
     "life_press": ["life", f"{S}/press_comma.csv", "--profile", f"{S}/press.toml",
                    "--add-inertia", "150"],
+    "trend_press_hour": ["trend", f"{S}/press_counts_iso.csv", "--profile", f"{S}/press.toml",
+                         "--by", "hour", "--jobs", "1"],
+    "trend_two_files": ["trend", f"{S}/press_counts_iso.csv", f"{S}/engine_preamble.txt",
+                        "--by", "file", "--jobs", "1"],
 }
 IGNORED = {"version", "torqlog_version", "software_version"}
 

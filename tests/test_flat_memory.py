@@ -14,6 +14,7 @@ from __future__ import annotations
 import io
 import json
 import math
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -268,6 +269,218 @@ def test_summary_only_and_failed_run_leaves_no_file(flagged_log, tmp_path):
     w.start("x.csv", {})
     w.write({k: np.zeros(3) for k in COLUMNS} | {"flag": np.array(["", "", ""])})
     w._flush(w.batch.take())
-    assert len(list(tmp_path.glob(".out.json.*.part"))) == 1
+    assert len(list(tmp_path.glob(".out.json.*.tmp"))) == 1
     w.abort()
     assert not target.exists() and list(tmp_path.glob(".out.json.*")) == []
+
+
+# --------------------------------------------------------------------------- held blocks
+def _blocks(rng, n_blocks):
+    """Blocks of 1..40 cycles, about a third flagged (numbers run 1..n)."""
+    out, c = [], 1
+    for _ in range(n_blocks):
+        m = int(rng.integers(1, 40))
+        flag = np.where(rng.random(m) < 0.35, "gap", "").astype(object)
+        out.append({"cycle": np.arange(c, c + m), "flag": flag,
+                    "anomaly": np.zeros(m, dtype=bool), "anomaly_score": np.full(m, np.nan)})
+        c += m
+    return out
+
+
+@pytest.mark.parametrize("memory_rows", [10**6, 25])
+def test_held_blocks_get_their_scores_in_order_spilled_or_not(memory_rows):
+    # the shape model learns after `learn` clean cycles: every block before that waits,
+    # then each block waits only for its own scores; the released rows must carry the
+    # scores of exactly their cycles, in cycle order (reference: the scores set by index)
+    from torqlog.signal.cycle_table import ScoredBlocks
+
+    rng = np.random.default_rng(3)
+    blocks = _blocks(rng, 60)
+    got = []
+    join = ScoredBlocks(got.append, memory_rows=memory_rows)
+    truth = {}
+    learn, buffered, waiting_scores = 120, [], True
+    for b in blocks:
+        join.add(b)
+        clean = b["cycle"][b["flag"] == ""]
+        sc = rng.random(clean.size) * 1.4
+        truth.update(zip(clean.tolist(), sc.tolist(), strict=True))
+        if waiting_scores:
+            buffered.append((clean, sc))
+            if sum(c.size for c, _ in buffered) >= learn:
+                join.add_scores(buffered)
+                waiting_scores = False
+        else:
+            join.add_scores([(clean, sc)])
+        if not waiting_scores:  # once learned, nothing is left waiting after a chunk
+            assert join.held == []
+    join.close()
+    rows = {k: np.concatenate([g[k] for g in got]) for k in got[0]}
+    n = sum(b["cycle"].size for b in blocks)
+    assert rows["cycle"].tolist() == list(range(1, n + 1))
+    want = np.array([truth.get(c, np.nan) for c in range(1, n + 1)])
+    np.testing.assert_array_equal(rows["anomaly_score"], want)
+    np.testing.assert_array_equal(rows["anomaly"], want > 1.0)
+    assert join.scored == len(truth) and join.abnormal == int((want > 1.0).sum())
+    assert (join.spilled_blocks > 0) == (memory_rows == 25)
+    assert join.rows_in_memory == 0 and join.pending == []
+
+
+def test_held_blocks_pass_at_once_when_no_score_will_come():
+    from torqlog.signal.cycle_table import ScoredBlocks
+
+    blocks = _blocks(np.random.default_rng(4), 5)
+    got = []
+    join = ScoredBlocks(got.append, memory_rows=10)
+    for b in blocks[:3]:
+        join.add(b)
+    assert got == [] and join.spilled_blocks >= 1  # waiting for a model, spilled
+    join.stop_waiting()  # the model could not be learned
+    join.add(blocks[3])
+    assert [g["cycle"][0] for g in got] == [b["cycle"][0] for b in blocks[:4]]
+    assert all(np.isnan(g["anomaly_score"]).all() for g in got)
+
+
+def test_shape_monitor_keeps_only_flagged_cycles_and_gives_the_dense_runs():
+    # the run analysis (isolated / recurring / sustained) from the flagged cycles alone
+    # must equal flag_runs over every scored cycle (the dense reference), also after a
+    # bounded watch forgets old cycles
+    from torqlog.signal import anomaly as an
+
+    rng = np.random.default_rng(5)
+    x = np.linspace(0, TWO_PI, 36, endpoint=False)
+    normal = 100 + 40 * np.sin(x)
+
+    def cycles(n, bad):
+        c = normal + rng.normal(0, 1.0, (n, 36)) + rng.normal(0, 2.0, (n, 1)) * np.cos(x)
+        c[bad] += 25 * np.exp(-((x - 2.0) ** 2) / 0.05)  # a dent at 115°
+        return c
+
+    model = an.fit_model({"torque": cycles(400, np.zeros(400, bool))}, duration=0.5)
+    mon = an.ShapeMonitor(an.AnomalyOptions(), 1, {"torque"}, model)
+    n = 900
+    bad = np.zeros(n, bool)
+    bad[100:700:9] = True     # recurring first
+    bad[820:] = True          # then sustained to the end
+    curves = cycles(n, bad)
+    cyc = np.arange(1, n + 1)
+    ts = cyc * 0.5
+    scores = []
+    for lo in range(0, n, 64):  # in chunks, as the engine hands them over
+        sl = slice(lo, lo + 64)
+        scores += mon.push(cyc[sl], ts[sl], np.full(cyc[sl].size, 0.5),
+                           {"torque": curves[sl]})
+    flagged = np.concatenate([s for _, s in scores]) > 1.0
+    assert flagged[bad].all()
+    dense = an.flag_runs(flagged, cyc, ts)
+    assert dense["pattern"] == "sustained" and dense["from_cycle"] <= 821
+    assert mon.result().runs == dense
+    mon.compact(0)
+    pos, fc, _ = mon.flags_all[0]
+    assert mon.window_n == n and pos.tolist() == np.flatnonzero(flagged).tolist()
+    assert fc.tolist() == cyc[flagged].tolist() and pos.size < n / 5  # the flagged alone
+    mon.forget(150)
+    assert mon.result().runs == an.flag_runs(flagged[-150:], cyc[-150:], ts[-150:])
+
+
+# --------------------------------------------------------------------------- shape check on
+def _rows(d):
+    return json.loads(json.dumps(d, default=str).replace("NaN", "null"))
+
+
+@pytest.mark.parametrize("held_rows", [20_000, 7])
+def test_streamed_rows_carry_the_shape_scores_of_the_whole_log_path(flagged_log, tmp_path,
+                                                                   monkeypatch, held_rows):
+    # the model learns from the first 40 clean cycles: the rows before wait for their
+    # scores (in memory, or spilled to a file with 7 held rows), later rows only for their
+    # own chunk. Reference: the same log read in one chunk, where every score is known
+    # only at the end and filled into the kept rows.
+    from torqlog.signal import anomaly as an
+    from torqlog.signal import cycle_table
+
+    monkeypatch.setattr(cycle_table, "HELD_ROWS_IN_MEMORY", held_rows)
+    ao = an.AnomalyOptions(learn_cycles=40)
+    whole = analyse_cycles(flagged_log, CycleOptions(block_rows=10**6), anomaly=ao)
+    out = tmp_path / "c.json"
+    streamed = analyse_cycles(flagged_log, CycleOptions(block_rows=3000), anomaly=ao,
+                              keep_rows=False, sink=make_writer("json", str(out), str))
+    kept = analyse_cycles(flagged_log, CycleOptions(block_rows=3000), anomaly=ao)
+    rows = json.loads(out.read_text())["cycles"]
+    assert rows == _rows(kept.to_dict()["cycles"])  # streamed = kept in memory, same chunks
+    assert [r["cycle"] for r in rows] == list(range(1, 120))
+    clean = [r["flag"] == "" for r in rows]
+    assert [r["anomaly_score"] is not None for r in rows] == clean  # every clean one scored
+    # the rows, scores included, do not depend on when the scores were known
+    for k in COLUMNS:
+        if whole.columns[k].dtype.kind == "f":
+            got = np.array([np.nan if r[k] is None else r[k] for r in rows])
+            np.testing.assert_allclose(got, whole.columns[k], rtol=1e-9, atol=1e-12,
+                                       err_msg=k)
+    assert [r["anomaly"] for r in rows] == whole.columns["anomaly"].tolist()
+    assert streamed.summary["anomaly"] == whole.summary["anomaly"]
+    assert streamed.summary["anomaly"]["scored"] == sum(clean) == 107
+    assert streamed.anomaly.flagged == sum(r["anomaly"] for r in rows)
+
+
+def test_cli_formats_with_the_shape_check_read_back_equal_the_json_rows(flagged_log,
+                                                                      tmp_path):
+    out = {f: tmp_path / f"c.{f}" for f in ("json", "jsonl", "parquet", "csv")}
+    for f, path in out.items():
+        _cli(["cycles", flagged_log, "--learn-cycles", "40", "--quantile-budget", "30",
+              "--format", f, "-o", str(path), *(["--full-precision"] if f == "csv" else [])])
+    d = json.loads(out["json"].read_text())
+    rows = d["cycles"]
+    assert len(rows) == 119 and sum(r["anomaly_score"] is not None for r in rows) == 107
+    assert d["summary"]["quantiles"]["method"] == "sketch"
+    lines = [json.loads(x) for x in out["jsonl"].read_text().splitlines()]
+    assert lines[1:-1] == rows
+    assert lines[0] == {"source": d["source"], "options": d["options"]}
+    assert lines[-1] == {"summary": d["summary"], "notes": d["notes"], "anomaly": d["anomaly"]}
+    got = pq.read_table(out["parquet"])
+    assert got.schema.field("energy_swing_J").metadata[b"unit"] == b"J"
+    assert b"torqlog.output" in got.schema.metadata
+    back = _rows(got.drop_columns(["start_time"]).to_pylist())
+    assert back == [{k: v for k, v in r.items() if k != "start_time"} for r in rows]
+    csv = pd.read_csv(out["csv"], keep_default_na=False, na_values=[""])
+    np.testing.assert_array_equal(csv["anomaly_score"].to_numpy(),
+                                  [np.nan if r["anomaly_score"] is None else r["anomaly_score"]
+                                   for r in rows])
+    assert csv["flag"].fillna("").tolist() == [r["flag"] for r in rows]
+    # the summary alone as JSON lines: the first and last line of the streamed file
+    one = [json.loads(x) for x in _cli(["cycles", flagged_log, "--learn-cycles", "40",
+                                        "--quantile-budget", "30", "--summary-only",
+                                        "--format", "jsonl"]).stdout.splitlines()]
+    assert one == [lines[0], lines[-1]]
+
+
+@pytest.mark.parametrize("digits", [None, 6, 3])
+def test_csv_cells_without_pandas_equal_pandas_to_csv(digits):
+    # the streamed CSV writes its cells itself (pandas costs ~50 MB); reference: pandas'
+    # own to_csv, through to_csv_text, on values from 1e-12 to 1e12, NaN, ±inf, ±0
+    import csv as csvmod
+
+    from torqlog.cli.cycle_output import _csv_cells
+    from torqlog.present.exporting import to_csv_text
+
+    rng = np.random.default_rng(0)
+    v = np.concatenate([rng.normal(0, 1, 200) * 10.0 ** rng.integers(-12, 12, 200),
+                        [np.nan, np.inf, -np.inf, 0.0, -0.0, 1e16, 123456789.0, 5.0, 1e-5]])
+    df = pd.DataFrame({"x": v, "flag": np.array(["", "gap+nan"] * 104 + [""], dtype=object),
+                       "anomaly": np.arange(v.size) % 3 == 0, "cycle": np.arange(v.size),
+                       "start_time": np.full(v.size, np.datetime64("NaT"), "datetime64[ns]")})
+    out = io.StringIO()
+    csvmod.writer(out, lineterminator="\n").writerows(
+        zip(*[_csv_cells(df[c].to_numpy(), digits) for c in df], strict=True))
+    assert out.getvalue() == to_csv_text(df, digits=digits, header=False)
+
+
+def test_streamed_csv_with_time_stamps_equals_the_in_memory_csv(tmp_path):
+    # a log with a start time: the per-cycle start_time column is written (by pandas)
+    from torqlog.present.exporting import to_csv_text
+
+    log = str(Path(__file__).resolve().parents[1] / "sample_data" / "press_counts_iso.csv")
+    res = analyse_cycles(log, anomaly=False)
+    assert res.table["start_time"].notna().all()
+    out = tmp_path / "c.csv"
+    _cli(["cycles", log, "--no-shape-check", "--format", "csv", "-o", str(out), "--units-row"])
+    assert out.read_text() == to_csv_text(res.table, units_row=True)

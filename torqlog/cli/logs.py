@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import math
 import sys
 from pathlib import Path
@@ -11,9 +12,9 @@ import click
 
 from torqlog.cli.base import (
     FIGURE_FILE,
+    FORMATS,
     TABULAR,
     QuantityType,
-    atomic_path,
     check_outputs,
     cli,
     cycle_options,
@@ -27,6 +28,7 @@ from torqlog.cli.base import (
     positive_float,
     read_kwargs,
     run_cycles,
+    write_text,
 )
 from torqlog.cli.watch import shape_options
 
@@ -141,21 +143,23 @@ def _cycles_text(res: Any, system: str = "si") -> str:
 @click.option("--sketch-error", type=click.FloatRange(0, 1, min_open=True, max_open=True),
               default=None, help="Relative error bound of the quantile sketch.  "
                                  "[default: 1e-4]")
-@output_options
+@output_options(formats=(*FORMATS, "jsonl"))
 def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_only: bool,
            quantile_budget: int | None, sketch_error: float | None, **kw: Any) -> None:
     """Split a log into machine cycles: energy swing, Cs and torque per cycle, and cycles
     whose shape is abnormal (with where in the cycle).
 
-    With the shape check off, in SI, ``--format json`` and ``table`` write each cycle's row
-    as it completes, so memory does not grow with the log; the shape check (its scores come
-    once the model has its reference cycles), csv, xlsx, Parquet and ``--units us`` build
-    the table in memory first.
+    The rows are written as the cycles complete (table, csv, json, jsonl, parquet), so
+    memory does not grow with the log; the cycles before the shape model has its
+    reference cycles wait for their scores. ``jsonl``: a first line with source and
+    options, one object per cycle, a last line with summary, notes and the shape check.
+    xlsx and ``--units us`` build the table in memory first.
     """
     from torqlog.cli.base import _flat
     from torqlog.cli.cycle_output import make_writer
     from torqlog.cli.watch import shape_kwargs
     from torqlog.io.outputs import check_format_suffix
+    from torqlog.present.exporting import DEFAULT_DIGITS
 
     check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
     check_format_suffix(fmt, output)  # before the log is read
@@ -164,11 +168,13 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     extra = {k: v for k, v in (("quantile_budget", quantile_budget),
                                ("sketch_error", sketch_error)) if v is not None}
     extra.update(shape_kwargs(log, kw))
-    stream = not summary_only and fmt in ("json", "table") \
-        and output_settings()["units"] == "si" \
-        and extra.get("anomaly") is False and extra.get("shape_model") is None
+    how = output_settings()
+    stream = not summary_only and fmt != "xlsx" and how["units"] == "si"
     if stream:
-        writer = make_writer(fmt, output, _cycles_text)
+        writer = make_writer(
+            fmt, output, _cycles_text, shape=extra.get("anomaly") is not False,
+            digits=None if how["full_precision"] else (how["digits"] or DEFAULT_DIGITS),
+            units_row=bool(how["units_row"]))
         try:
             res, _ = run_cycles(log, kw, keep_rows=False, sink=writer, **extra)
         except BaseException:
@@ -191,6 +197,23 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
         click.echo(f"wrote {plot}", err=True)
     if stream:
         return
+    data = res.to_dict(rows=not summary_only)
+    if fmt == "jsonl":  # as streamed: head line, a line per cycle (none), last line
+        from torqlog.cli.base import _jsonable
+        from torqlog.io.units import convert_keys
+
+        if how["units"] != "si":
+            data = convert_keys(data, how["units"])
+        rows = data.pop("cycles", [])
+        head = {k: data.pop(k) for k in ("source", "options")}
+        body = "".join(json.dumps(_jsonable(x), ensure_ascii=False) + "\n"
+                       for x in (head, *rows, data))
+        if output:
+            write_text(output, body)
+            click.echo(f"wrote {output}", err=True)
+        else:
+            click.echo(body, nl=False)
+        return
     table = None  # the JSON needs no pandas table (and so no pandas)
     if summary_only and fmt in TABULAR:
         import pandas as pd  # only here: the streamed outputs need no pandas
@@ -202,9 +225,8 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
         table = res.table[["cycle", "t_start_s", "speed_mean_rpm", "torque_mean_Nm",
                            "torque_peak_Nm", "work_J", "energy_swing_J", "cs",
                            "cs_constant_drive", "flag", "anomaly", "anomaly_score"]]
-    system = output_settings()["units"]
-    emit(res.to_dict(rows=not summary_only), table, fmt, output,
-         text=lambda _data: _cycles_text(res, system))
+    system = how["units"]
+    emit(data, table, fmt, output, text=lambda _data: _cycles_text(res, system))
 
 
 # --- size
@@ -419,6 +441,8 @@ def _trend_text(d: dict[str, Any], n_files: int) -> str:
              f"limits: {dr['baseline']}; individuals {dr['individuals']} ({dr['limits']}), "
              f"EWMA λ = {dr['ewma_lambda']:g}, L = {dr['ewma_L']:g}; run rule {dr['run_rule']} "
              f"({dr['run_length']} in a row on one side)"]
+    if dr.get("p_chart") and "anomaly_rate" in dr["figures"]:
+        lines.append("anomaly rate: p chart, " + dr["p_chart"].partition(": ")[2])
     on = d["drift_onset"]
     if on:
         who = f"{on['machine']}: " if on["machine"] else ""
@@ -428,15 +452,16 @@ def _trend_text(d: dict[str, Any], n_files: int) -> str:
         lines.append("drift: none flagged after the baseline")
     lines += [f"note: {n}" for n in d["notes"]]
     lines += [f"failed: {f['file']}: {f['reason']}" for f in d["failed"]]
-    lines.append("flags: limits = beyond the individuals-chart limits, ewma = EWMA beyond its "
-                 "limits, run = run rule; + above, - below")
+    lines.append("flags: limits = beyond the individuals-chart limits (the p-chart limits "
+                 "for anomaly_rate), ewma = EWMA beyond its limits, run = run rule; + above, "
+                 "- below")
     return "\n".join(lines) + "\n"
 
 
 def _short_flags(flags: list[str]) -> str:
     """``cs_median:individuals_high`` and friends as ``cs_median limits+ ewma+`` for a
     table (words, not letters: a lone ``R`` reads as a range chart)."""
-    sym = {"individuals": "limits", "ewma": "ewma", "run": "run"}
+    sym = {"individuals": "limits", "p_chart": "limits", "ewma": "ewma", "run": "run"}
     per: dict[str, list[str]] = {}
     for f in flags:
         fig, _, rule = f.partition(":")
@@ -514,7 +539,8 @@ def trend_jobs(paths: tuple[str, ...], kw: dict[str, Any], name_time: str | None
 @click.option("--baseline", "baseline_path", type=click.Path(dir_okay=False), default=None,
               help="Take the limits from an earlier run instead (its shifts.csv or JSON).")
 @click.option("--figures", default=",".join(("energy_swing_J_median", "cs_median",
-                                              "torque_peak_Nm_p99")), show_default=True,
+                                              "torque_peak_Nm_p99", "anomaly_rate")),
+              show_default=True,
               help="Row figures to chart and judge, comma-separated.")
 @click.option("--limits", "limits_method", type=click.Choice(["prediction", "classic"]),
               default="prediction", show_default=True,
@@ -556,7 +582,7 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
 
     from torqlog.fleet.batch import dask_client
     from torqlog.fleet.trend import DriftOptions, ShiftCalendar, read_baseline, run_trend
-    from torqlog.io.outputs import OUTPUT_NAMES, parquet_metadata, write_text
+    from torqlog.io.outputs import OUTPUT_NAMES, write_text
 
     profile_path = kw.get("profile")
     jobs, missing, profile = trend_jobs(paths, kw, name_time, machine, folder_profiles)
@@ -581,19 +607,11 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
                                                         file=sys.stderr))
             progress = lambda: bar.update(1)  # noqa: E731
         res = run_trend(jobs, calendar, by=by, drift=drift, baseline=baseline,
-                        workers=n_jobs, client=client, progress=progress, missing=missing)
+                        workers=n_jobs, client=client, progress=progress, missing=missing,
+                        cycles_path=Path(out_dir) / "cycles.parquet" if out_dir else None)
     d = res.to_dict()
     if out_dir:
         out = Path(out_dir)
-        out.mkdir(parents=True, exist_ok=True)
-        import pyarrow as pa
-        import pyarrow.parquet as pq
-
-        table = pa.Table.from_pandas(res.cycles_table(), preserve_index=False)
-        table = table.replace_schema_metadata({**(table.schema.metadata or {}),
-                                               **parquet_metadata("trend-cycles")})
-        with atomic_path(out / "cycles.parquet") as tmp:
-            pq.write_table(table, tmp)
         write_text(out / "shifts.csv", res.to_pandas().to_csv(index=False))
         written = [out / "cycles.parquet", out / "shifts.csv",
                    *res.plot(out, units=output_settings()["units"])]
@@ -603,7 +621,9 @@ def trend_cmd(paths: tuple[str, ...], fmt: str, output: str | None, name_time: s
         table = table.assign(start_time=[t.strftime("%Y-%m-%d %H:%M") for t in
                                          table["start_time"]],
                              flags=[_short_flags(f) for f in res.groups["flags"]])
-        table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95"])
+        table = table.drop(columns=["cycles_total", "energy_swing_J_p95", "cs_p95",
+                                    "cycles_scored", "cycles_abnormal", "anomaly_rate_lcl",
+                                    "anomaly_rate_ucl"])
     sheets = None
     if fleet_flag:
         from torqlog.cli.fleet import fleet_for

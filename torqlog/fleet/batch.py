@@ -21,11 +21,15 @@ from datetime import datetime
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import pandas as pd
 
 from torqlog.errors import DataError, TorqlogError, UsageError
+from torqlog.fleet.groupstats import TREND_QUANTILE_BUDGET, GroupStats
+from torqlog.fleet.shifts import ShiftCalendar
 from torqlog.io.outputs import is_torqlog_output
 from torqlog.signal.cycles import CycleOptions
+from torqlog.signal.streamstats import DEFAULT_SKETCH_ERROR
 
 #: File endings read when a folder is given.
 LOG_SUFFIXES: tuple[str, ...] = (".csv", ".csv.gz", ".txt", ".parquet", ".pq")
@@ -153,8 +157,34 @@ class FileJob:
 
 
 @dataclass(frozen=True)
+class Grouping:
+    """How the worker reduces a file's cycles for a trend (picklable).
+
+    Attributes
+    ----------
+    calendar : ShiftCalendar
+        Puts each cycle in a shift.
+    by : {"shift", "day", "file", "hour"}
+    quantile_budget : int
+        Clean cycles per group held for exact quantiles [count]; a sketch beyond.
+    sketch_error : float
+        Relative error α of that sketch [–].
+    parts : str or None
+        Folder the worker writes its cycles into (one Parquet file of row groups per
+        log, for the trend's ``cycles.parquet``); None: no per-cycle output.
+    """
+
+    calendar: ShiftCalendar
+    by: str = "shift"
+    quantile_budget: int = TREND_QUANTILE_BUDGET
+    sketch_error: float = DEFAULT_SKETCH_ERROR
+    parts: str | None = None
+
+
+@dataclass(frozen=True)
 class FileOutcome:
-    """What the worker found in one file: the per-cycle table and facts, or the reason
+    """What the worker found in one file: the per-cycle table (or, for a trend, the
+    per-group summaries and the file its rows were streamed to) and facts, or the reason
     it failed."""
 
     path: str
@@ -162,6 +192,8 @@ class FileOutcome:
     table: pd.DataFrame | None
     facts: dict[str, Any]
     error: str | None = None
+    groups: dict[tuple[str, Any], GroupStats] | None = None
+    part: str | None = None
 
     @property
     def ok(self) -> bool:
@@ -191,19 +223,27 @@ def _file_start(job: FileJob) -> tuple[pd.Timestamp, str]:
                     "file name, or --start ISO for a single file")
 
 
-def process_file(job: FileJob) -> FileOutcome:
+def process_file(job: FileJob, grouping: Grouping | None = None) -> FileOutcome:
     """Run the cycle stage on one file and place its cycles in time (the batch worker).
 
     Top level and picklable, so it runs in this process, in a process pool or on a Dask
     worker alike. Errors do not escape: a file that cannot be read, has too few cycles
     or cannot be placed in time comes back with ``error`` set to the reason.
 
+    Parameters
+    ----------
+    job : FileJob
+    grouping : Grouping, optional
+        Reduce the cycles to per-group running summaries (a trend): the outcome then
+        carries ``groups`` (and ``part``, the file its rows were written to) instead of
+        the table, so what travels back does not grow with the number of cycles.
+
     Returns
     -------
     FileOutcome
         ``table``: the per-cycle table of :func:`torqlog.signal.cycles.analyse_cycles` whose
-        ``start_time`` is absolute; ``facts``: start time and where it came from, cycles,
-        duration [s], cycle source, sample rate [Hz], notes.
+        ``start_time`` is absolute (None with ``grouping``); ``facts``: start time and
+        where it came from, cycles, duration [s], cycle source, sample rate [Hz], notes.
     """
     import pyarrow as pa
 
@@ -225,16 +265,88 @@ def process_file(job: FileJob) -> FileOutcome:
     finally:
         if job.threads:
             pa.set_cpu_count(threads)
-    tab = res.table
+    cols = res.columns
     facts = {
         "file": job.path, "machine": job.machine, "start_time": start,
         "start_source": src, "cycles": int(res.summary["cycles"]),
         "cycles_total": int(res.summary["cycles_total"]),
-        "duration_s": float(tab["t_start_s"].iloc[-1] + tab["duration_s"].iloc[-1]),
+        "duration_s": float(cols["t_start_s"][-1] + cols["duration_s"][-1]),
         "cycle_source": res.options["cycle_source"],
         "sample_rate_hz": res.options.get("sample_rate_hz"), "notes": list(res.notes),
     }
-    return FileOutcome(job.path, job.machine, tab, facts)
+    if grouping is None:
+        return FileOutcome(job.path, job.machine, res.table, facts)
+    groups, part = _reduce_file(job, cols, start, grouping)
+    return FileOutcome(job.path, job.machine, None, facts, groups=groups, part=part)
+
+
+#: Cycles per block when a file's cycles are folded into group summaries and per Parquet
+#: row group of the streamed per-cycle output.
+ROW_GROUP_CYCLES = 65_536
+
+
+def absolute_start(start: pd.Timestamp, calendar: ShiftCalendar) -> pd.Timestamp:
+    """A file's start as a UTC instant: a start without a zone is wall-clock time in the
+    calendar's zone."""
+    if start.tz is None:
+        start = start.tz_localize(calendar.zone, ambiguous=True, nonexistent="shift_forward")
+    return start.tz_convert("UTC")
+
+
+def _reduce_file(job: FileJob, cols: dict[str, Any], start: pd.Timestamp, grouping: Grouping
+                 ) -> tuple[dict[tuple[str, Any], GroupStats], str | None]:
+    """Fold one file's cycles into per-group summaries, block by block, and write its rows
+    (with absolute start, shift, date and the index of their group in the returned dict)
+    into a Parquet file of row groups when ``grouping.parts`` names a folder.
+
+    The cycle stage's columns are used as it hands them over; the cycle-shape scores
+    reach them only at the end of the file (once the shape model has its reference
+    cycles), so the file's rows are read here after the pass, a block at a time.
+    """
+    import uuid
+
+    from torqlog.fleet.groupstats import fold
+    from torqlog.signal.cycles import COLUMNS
+
+    t0 = absolute_start(start, grouping.calendar)
+    groups: dict[tuple[str, Any], GroupStats] = {}
+    n = cols["cycle"].size
+    writer = None
+    part = None
+    local: dict[tuple[str, Any], int] = {}
+    try:
+        for lo in range(0, n, ROW_GROUP_CYCLES):
+            sl = slice(lo, min(n, lo + ROW_GROUP_CYCLES))
+            block = {k: v[sl] for k, v in cols.items()}
+            times = t0 + pd.to_timedelta(block["t_start_s"], unit="s")
+            files = np.full(times.size, job.path, dtype=object)
+            keys, codes, lab = fold(groups, job.machine, pd.DatetimeIndex(times), block, files,
+                                    grouping.calendar, grouping.by, grouping.quantile_budget,
+                                    grouping.sketch_error)
+            if grouping.parts is None:
+                continue
+            import pyarrow as pa
+            import pyarrow.parquet as pq
+
+            idx = np.array([local.setdefault(k, len(local)) for k in keys], dtype=np.int64)
+            df = pd.DataFrame({"machine": job.machine, "file": job.path,
+                               "start_time": times,
+                               **{c: block[c] for c in COLUMNS if c != "start_time"},
+                               "shift": lab["shift"], "date": lab["date"],
+                               "group": idx[codes]})
+            table = pa.Table.from_pandas(df, preserve_index=False)
+            if writer is None:
+                part = str(Path(grouping.parts) / f"{uuid.uuid4().hex}.parquet")
+                writer = pq.ParquetWriter(part, table.schema)
+            writer.write_table(table)
+    finally:
+        if writer is not None:
+            writer.close()
+    for g in groups.values():
+        g.compact()
+    # the part's `group` column is the position of the group in `groups` (both number
+    # the groups in the order they were met)
+    return groups, part
 
 
 def default_workers() -> int:
@@ -246,7 +358,8 @@ def default_workers() -> int:
 
 
 def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: Any = None,
-              progress: Callable[[], None] | None = None) -> list[FileOutcome]:
+              progress: Callable[[], None] | None = None,
+              grouping: Grouping | None = None) -> list[FileOutcome]:
     """Run :func:`process_file` on every job; outcomes in the order of ``jobs``.
 
     Parameters
@@ -260,6 +373,8 @@ def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: An
         Run on this Dask cluster instead (``workers`` is then ignored).
     progress : callable, optional
         Called once per finished file (for a progress bar).
+    grouping : Grouping, optional
+        Passed to :func:`process_file`: per-group summaries instead of tables.
     """
     tick = progress or (lambda: None)
     results: list[FileOutcome | None] = [None] * len(jobs)
@@ -284,7 +399,7 @@ def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: An
     if client is not None:
         from distributed import as_completed as dask_completed
 
-        futures = client.map(process_file, list(jobs), pure=False)
+        futures = client.map(process_file, list(jobs), grouping=grouping, pure=False)
         index = {f.key: i for i, f in enumerate(futures)}
         for f in dask_completed(futures):
             i = index[f.key]
@@ -296,7 +411,7 @@ def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: An
         return results  # type: ignore[return-value]
     if n <= 1 or len(jobs) <= 1:
         for i, j in enumerate(jobs):
-            results[i] = process_file(j)
+            results[i] = process_file(j, grouping)
             tick()
         return results  # type: ignore[return-value]
     import multiprocessing as mp
@@ -311,7 +426,7 @@ def run_files(jobs: Sequence[FileJob], *, workers: int | None = None, client: An
         ctx = mp.get_context("forkserver")
         ctx.set_forkserver_preload(["torqlog.fleet.batch"])
     with ProcessPoolExecutor(max_workers=min(n, len(jobs)), mp_context=ctx) as pool:
-        futs = {pool.submit(process_file, j): i for i, j in enumerate(jobs)}
+        futs = {pool.submit(process_file, j, grouping): i for i, j in enumerate(jobs)}
         for f in as_completed(futs):
             i = futs[f]
             try:

@@ -205,7 +205,8 @@ def _drift_text(onset: Mapping[str, Any] | None, judged: bool) -> str:
     return f"since {onset['date']} {onset.get('shift') or ''}".strip()
 
 
-def fleet_table(cycles: pd.DataFrame, *, targets: Mapping[str, float | None] | None = None,
+def fleet_table(cycles: pd.DataFrame | Mapping[str, Mapping[str, Any]], *,
+                targets: Mapping[str, float | None] | None = None,
                 sizes: Mapping[str, Mapping[str, Any] | None] | None = None,
                 onsets: Sequence[Mapping[str, Any]] = (),
                 unjudged: Sequence[str] = (), sort_by: str = "cs_p90_over_target",
@@ -214,10 +215,11 @@ def fleet_table(cycles: pd.DataFrame, *, targets: Mapping[str, float | None] | N
 
     Parameters
     ----------
-    cycles : DataFrame
+    cycles : DataFrame or mapping
         Per-cycle rows of every log: ``machine``, ``file``, ``start_time``, ``cs``
         [-], ``flag`` ("" for a clean cycle), optionally ``anomaly`` (true for an
-        anomalous cycle shape).
+        anomalous cycle shape); or those figures per machine already reduced
+        (:func:`trend_figures` of a trend's per-group summaries).
     targets : mapping, optional
         Machine -> target Cs.
     sizes : mapping, optional
@@ -241,12 +243,9 @@ def fleet_table(cycles: pd.DataFrame, *, targets: Mapping[str, float | None] | N
     by_onset = {o["machine"]: o for o in onsets}
     rows = []
     notes = []
-    for machine, c in cycles.groupby("machine", sort=False):
-        clean = c["flag"].astype(str) == "" if "flag" in c else np.ones(len(c), bool)
-        cs = c.loc[clean, "cs"].to_numpy(dtype=float)
-        cs = cs[np.isfinite(cs)]
-        med = float(np.median(cs)) if cs.size else None
-        p90 = float(np.quantile(cs, 0.9)) if cs.size else None
+    per = cycles if isinstance(cycles, Mapping) else _table_figures(cycles)
+    for machine, f in per.items():
+        med, p90 = f["cs_median"], f["cs_p90"]
         target = targets.get(machine)
         ratio = p90 / target if (p90 is not None and target) else None
         if p90 is None:
@@ -255,22 +254,18 @@ def fleet_table(cycles: pd.DataFrame, *, targets: Mapping[str, float | None] | N
             status = "no target"
         else:
             status = "within target" if ratio <= 1.0 else "over target"
-        anomaly = None
-        if "anomaly" in c:
-            anomaly = float(np.mean(c["anomaly"].astype(bool)))
         figs = size_figures(sizes.get(machine))
         if sizes.get(machine) is not None and figs["added_inertia_key"] is None:
             notes.append(f"{machine}: the sizing result has no added inertia")
-        last = c["start_time"].max() if "start_time" in c else None
+        last = f["last"]
         rows.append({
-            "rank": 0, "machine": machine, "logs": int(c["file"].nunique()),
-            "cycles": int(clean.sum()),
+            "rank": 0, "machine": machine, "logs": f["logs"], "cycles": f["cycles"],
             "last_log": None if last is None or last != last else _date(last),
             "cs_median": med, "cs_p90": p90, "target_cs": target,
             "cs_p90_over_target": ratio, "status": status,
             "added_inertia_kgm2": figs["added_inertia_kgm2"],
-            "motor_rms_load": figs["motor_rms_load"], "anomaly_rate": anomaly,
-            "flagged_share": float(1.0 - np.mean(clean)) if len(c) else None,
+            "motor_rms_load": figs["motor_rms_load"], "anomaly_rate": f["anomaly_rate"],
+            "flagged_share": f["flagged_share"],
             "drift": _drift_text(by_onset.get(machine), machine not in unjudged),
         })
     if rows and all(r["anomaly_rate"] is None for r in rows):
@@ -284,6 +279,45 @@ def fleet_table(cycles: pd.DataFrame, *, targets: Mapping[str, float | None] | N
                "motor_rms_load": "drive.existing.motor_torque_rms_Nm / "
                                  "drive.existing.motor_torque_rated_Nm of the latest log"}
     return FleetResult(tuple(rows), options, tuple(notes))
+
+
+def _table_figures(cycles: pd.DataFrame) -> dict[str, dict[str, Any]]:
+    """Per machine from a per-cycle table: ``logs``, ``cycles`` (clean), ``last`` (latest
+    cycle start), ``cs_median``, ``cs_p90``, ``anomaly_rate`` (abnormal / all cycles),
+    ``flagged_share``."""
+    out = {}
+    for machine, c in cycles.groupby("machine", sort=False):
+        clean = c["flag"].astype(str) == "" if "flag" in c else np.ones(len(c), bool)
+        cs = c.loc[clean, "cs"].to_numpy(dtype=float)
+        cs = cs[np.isfinite(cs)]
+        out[machine] = {
+            "logs": int(c["file"].nunique()), "cycles": int(clean.sum()),
+            "last": c["start_time"].max() if "start_time" in c else None,
+            "cs_median": float(np.median(cs)) if cs.size else None,
+            "cs_p90": float(np.quantile(cs, 0.9)) if cs.size else None,
+            "anomaly_rate": (float(np.mean(c["anomaly"].astype(bool))) if "anomaly" in c
+                             else None),
+            "flagged_share": float(1.0 - np.mean(clean)) if len(c) else None}
+    return out
+
+
+def trend_figures(trend: Any) -> dict[str, dict[str, Any]]:
+    """Per machine from a trend's per-group summaries, as :func:`_table_figures` gives
+    them from a per-cycle table (Cs quantiles exact while the merged groups fit the
+    budget, from the quantile sketch beyond)."""
+    logs: dict[str, set[str]] = {}
+    for f in trend.files:
+        logs.setdefault(f["machine"], set()).add(f["file"])
+    out = {}
+    for machine, m in trend.machine_summary().items():
+        last = trend.local([m["last"]])[0] if m["last"] > np.iinfo(np.int64).min else None
+        out[machine] = {
+            "logs": len(logs.get(machine, ())), "cycles": m["cycles"], "last": last,
+            "cs_median": m["cs"].median(), "cs_p90": m["cs"].quantile(0.9),
+            "anomaly_rate": m["abnormal"] / m["cycles_total"] if m["cycles_total"] else None,
+            "flagged_share": (1.0 - m["cycles"] / m["cycles_total"] if m["cycles_total"]
+                              else None)}
+    return out
 
 
 def fleet_from_trend(trend: Any, latest: Mapping[str, Any],
@@ -330,7 +364,7 @@ def fleet_from_trend(trend: Any, latest: Mapping[str, Any],
                 notes.append(f"{machine}: not sized ({exc})")
     unjudged = [n.split(": ", 1)[0].removeprefix("machine ") for n in trend.notes
                 if n.endswith("drift not judged")]
-    result = fleet_table(trend.cycles_table(), targets=targets, sizes=sizes,
+    result = fleet_table(trend_figures(trend), targets=targets, sizes=sizes,
                          onsets=trend.onsets, unjudged=unjudged, sort_by=sort_by,
                          descending=descending)
     return FleetResult(result.rows, {**result.options, "sized": size},

@@ -14,6 +14,11 @@ References
    successive points on one side of the centre line); L. S. Nelson, "The Shewhart control
    chart — tests for special causes", *J. Quality Technology* 16(4), 1984 (test 2 uses
    nine points).
+.. [4] D. C. Montgomery, *Introduction to Statistical Quality Control*, 7th ed., Wiley,
+   2013, sec. 7.2 (control chart for the fraction nonconforming, the p chart; variable
+   sample size: limits p̄ ± 3·√(p̄(1 − p̄)/n_i) for each sample, sec. 7.2.2).
+.. [5] J. A. Hanley and A. Lippman-Hand, "If nothing goes wrong, is everything all
+   right? Interpreting zero numerators", *JAMA* 249(13), 1743–1745, 1983 (rule of three).
 """
 
 from __future__ import annotations
@@ -190,3 +195,78 @@ def run_rule(x: np.ndarray, centre: float, length: int = 8) -> tuple[np.ndarray,
     pos = np.arange(n) - run_start + 1
     long = pos >= length
     return long & (side > 0), long & (side < 0)
+
+
+def p_chart_centre(defects: np.ndarray, n: np.ndarray) -> tuple[float, str]:
+    """Centre line p̄ of a p chart from baseline counts.
+
+    Parameters
+    ----------
+    defects : array of int
+        Nonconforming items (here: cycles of abnormal shape) per baseline sample.
+    n : array of int
+        Items inspected (cycles scored) per baseline sample.
+
+    Returns
+    -------
+    (p_bar, note)
+        p̄ = Σ defects / Σ n, the pooled fraction (Montgomery sec. 7.2.2 for samples of
+        different size). A baseline without a single defect gives p̄ = 0 and limits that
+        any defect would cross; p̄ is then taken as 3 / Σ n, the rule-of-three upper 95 %
+        bound of a rate seen zero times in Σ n (Hanley & Lippman-Hand 1983), and
+        ``note`` says so (else "").
+
+    References
+    ----------
+    Montgomery, *Introduction to Statistical Quality Control*, 7th ed., sec. 7.2;
+    Hanley & Lippman-Hand, *JAMA* 249(13), 1983.
+    """
+    d = np.asarray(defects, dtype=np.float64)
+    m = np.asarray(n, dtype=np.float64)
+    ok = np.isfinite(d) & np.isfinite(m) & (m > 0)
+    total = float(m[ok].sum())
+    if total <= 0:
+        raise DataError("a p chart needs baseline samples with items inspected (n > 0)")
+    found = float(d[ok].sum())
+    if found == 0:
+        return 3.0 / total, (f"no abnormal cycle among the baseline's {int(total)} scored "
+                             f"cycles: centre taken as 3/{int(total)} (rule of three)")
+    return found / total, ""
+
+
+def p_chart_limits(p_bar: float, n: np.ndarray, k: float = 3.0
+                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Limits of a p chart for samples of size ``n_i``.
+
+    σ_i = √(p̄(1 − p̄)/n_i); limits p̄ ± k·σ_i with the lower limit clipped at 0 (a
+    fraction cannot be negative). NaN where n_i = 0.
+
+    Parameters
+    ----------
+    p_bar : float
+        Centre line, in-control fraction nonconforming [–].
+    n : array
+        Sample sizes (cycles scored per group) [count].
+    k : float
+        Width in σ_i (3 by convention).
+
+    Returns
+    -------
+    (sigma, lcl, ucl)
+        Arrays like ``n`` [–].
+
+    References
+    ----------
+    Montgomery, *Introduction to Statistical Quality Control*, 7th ed., sec. 7.2.1–7.2.2
+    (eq. 7.8 with variable sample size).
+
+    Examples
+    --------
+    >>> sigma, lcl, ucl = p_chart_limits(0.1, np.array([100, 400]))
+    >>> np.round(ucl, 4).tolist(), np.round(lcl, 4).tolist()
+    ([0.19, 0.145], [0.01, 0.055])
+    """
+    m = np.asarray(n, dtype=np.float64)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        sigma = np.where(m > 0, np.sqrt(p_bar * (1.0 - p_bar) / m), np.nan)
+    return sigma, np.maximum(p_bar - k * sigma, 0.0), p_bar + k * sigma

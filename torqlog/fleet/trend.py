@@ -27,18 +27,30 @@ import numpy as np
 import pandas as pd
 
 from torqlog.errors import DataError, UsageError
-from torqlog.fleet.batch import FileJob, FileOutcome, run_files
+from torqlog.fleet.batch import FileJob, FileOutcome, Grouping, absolute_start, run_files
 from torqlog.fleet.control import (
     D2_MR2,
     RUN_RULES,
     baseline_factors,
     ewma_chart,
     individuals_limits,
+    p_chart_centre,
+    p_chart_limits,
     run_rule,
+)
+from torqlog.fleet.groupstats import (
+    BLOCK_COLUMNS,
+    TREND_QUANTILE_BUDGET,
+    GroupStats,
+    fold,
+    group_table,
+    machine_summary,
+    ordered,
 )
 from torqlog.fleet.shifts import ShiftCalendar
 from torqlog.io.notebook import result_html
 from torqlog.signal.cycles import CycleOptions
+from torqlog.signal.streamstats import DEFAULT_SKETCH_ERROR
 
 #: Ways to group cycles into rows.
 GROUP_BY: tuple[str, ...] = ("shift", "day", "file", "hour")
@@ -46,8 +58,12 @@ GROUP_BY: tuple[str, ...] = ("shift", "day", "file", "hour")
 GROUP_FIGURES: tuple[str, ...] = (
     "cycles_per_min", "energy_swing_J_median", "energy_swing_J_p95", "cs_median", "cs_p95",
     "torque_peak_Nm_p99", "work_J_mean", "flagged_share", "anomaly_rate")
-#: Figures charted unless told otherwise: energy swing, speed fluctuation, peak torque.
-DEFAULT_FIGURES: tuple[str, ...] = ("energy_swing_J_median", "cs_median", "torque_peak_Nm_p99")
+#: Figures charted unless told otherwise: energy swing, speed fluctuation, peak torque and
+#: the share of cycles of abnormal shape.
+DEFAULT_FIGURES: tuple[str, ...] = ("energy_swing_J_median", "cs_median", "torque_peak_Nm_p99",
+                                    "anomaly_rate")
+#: The figure that is a rate of counts, charted as a p chart (binomial limits per group).
+P_FIGURE = "anomaly_rate"
 
 # ----------------------------------------------------------------------------- tables
 def combine(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
@@ -85,9 +101,14 @@ def combine(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
     return cycles, files, failed
 
 
-def group_cycles(cycles: pd.DataFrame, calendar: ShiftCalendar, by: str = "shift"
+def group_cycles(cycles: pd.DataFrame, calendar: ShiftCalendar, by: str = "shift", *,
+                 quantile_budget: int = TREND_QUANTILE_BUDGET,
+                 sketch_error: float = DEFAULT_SKETCH_ERROR
                  ) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Put each cycle in a group and reduce every group to one row.
+
+    The same reduction as the batch workers make file by file (per-group running
+    summaries, :mod:`torqlog.fleet.groupstats`), here over a table already in memory.
 
     Parameters
     ----------
@@ -96,83 +117,114 @@ def group_cycles(cycles: pd.DataFrame, calendar: ShiftCalendar, by: str = "shift
         columns of :data:`torqlog.signal.cycles.COLUMNS`.
     by : {"shift", "day", "file", "hour"}
         ``day`` is the production day: the shifts that started on one date.
+    quantile_budget, sketch_error
+        Exact quantiles up to this many clean cycles per group, a sketch of this
+        relative error beyond.
 
     Returns
     -------
     (cycles, groups)
         ``cycles`` gains ``date``, ``shift`` and ``group`` (row number in ``groups``);
-        ``groups`` has one row per machine and group in time order: ``machine``,
-        ``date``, ``shift``, ``start_time`` [UTC], ``cycles`` (clean), ``cycles_total``,
-        ``cycles_per_min`` (60 / median clean cycle duration), ``energy_swing_J_median``,
-        ``energy_swing_J_p95``, ``cs_median``, ``cs_p95``, ``torque_peak_Nm_p99``,
-        ``work_J_mean`` (all over clean cycles), ``flagged_share`` (flagged / all) and
-        ``anomaly_rate`` (abnormal cycle shape / cycles scored, :mod:`torqlog.signal.anomaly`).
+        ``groups`` has one row per machine and group in time order (see
+        :func:`torqlog.fleet.groupstats.group_table`).
     """
+    c = cycles.reset_index(drop=True)
+    stats, index, labels = _fold_table(c, calendar, by, quantile_budget, sketch_error)
+    rank = {id(g): i for i, g in enumerate(stats)}
+    c["shift"], c["date"] = labels["shift"], labels["date"]
+    c["group"] = np.array([rank[id(g)] for g in index], dtype=np.int64) if len(c) else \
+        np.zeros(0, dtype=np.int64)
+    return c, group_table(stats, by)
+
+
+def _fold_table(c: pd.DataFrame, calendar: ShiftCalendar, by: str, quantile_budget: int,
+                sketch_error: float) -> tuple[list[GroupStats], list[GroupStats],
+                                              dict[str, np.ndarray]]:
+    """Per-group summaries of a per-cycle table: the groups in time order, each cycle's
+    group and its ``shift`` and ``date`` labels."""
     if by not in GROUP_BY:
         raise UsageError(f"unknown grouping {by!r}; valid: {', '.join(GROUP_BY)}")
-    c = cycles.reset_index(drop=True)
-    sh = calendar.assign(c["start_time"])
-    c["shift"] = sh["shift"].to_numpy()
-    c["date"] = sh["date"].to_numpy()
-    if by == "shift":
-        key = start = pd.Series(sh["shift_start"].to_numpy())
-    elif by == "day":
-        key = pd.Series(pd.to_datetime(c["date"]).to_numpy())
-        start = pd.Series(sh["shift_start"].to_numpy())
-    elif by == "hour":
-        t = pd.DatetimeIndex(c["start_time"])
-        wall = t.tz_convert(calendar.zone).tz_localize(None)
-        floor = wall.floor("h")
-        key = start = pd.Series(t - (wall - floor))
-        c["date"] = floor.date
-    else:
-        key, start = c["file"], c["start_time"]
-    gid = pd.DataFrame({"m": c["machine"], "k": key}).groupby(
-        ["m", "k"], sort=False).ngroup().to_numpy()
-    c["_g"] = gid
-    c["_start"] = start.to_numpy()
-    c["_bad"] = (c["flag"] != "").astype(np.int64)
-    # cycle-shape check: abnormal share of the scored cycles (torqlog.signal.anomaly)
-    score = c["anomaly_score"] if "anomaly_score" in c else pd.Series(np.nan, index=c.index)
-    c["_scored"] = np.isfinite(score.to_numpy(dtype=np.float64)).astype(np.int64)
-    c["_abn"] = (score.to_numpy(dtype=np.float64) > 1.0).astype(np.int64)
-    g_all = c.groupby("_g", sort=True)
-    out = g_all.agg(machine=("machine", "first"), date=("date", "first"),
-                    shift=("shift", "first"), start_time=("_start", "min"),
-                    cycles_total=("cycle", "size"), flagged=("_bad", "sum"),
-                    scored=("_scored", "sum"), abnormal=("_abn", "sum"))
-    if by == "file":
-        out.insert(1, "file", g_all["file"].first())
-    g = c[c["_bad"] == 0].groupby("_g", sort=True)
-    stats = pd.DataFrame({
-        "cycles": g.size(),
-        "cycles_per_min": 60.0 / g["duration_s"].median(),
-        "energy_swing_J_median": g["energy_swing_J"].median(),
-        "energy_swing_J_p95": g["energy_swing_J"].quantile(0.95),
-        "cs_median": g["cs"].median(),
-        "cs_p95": g["cs"].quantile(0.95),
-        "torque_peak_Nm_p99": g["torque_peak_Nm"].quantile(0.99),
-        "work_J_mean": g["work_J"].mean(),
-    })
-    out = out.join(stats, how="left")
-    out["cycles"] = out["cycles"].fillna(0).astype(np.int64)
-    out["flagged_share"] = out.pop("flagged") / out["cycles_total"]
-    scored = out.pop("scored")
-    out["anomaly_rate"] = (out.pop("abnormal") / scored).where(scored > 0)
-    if by == "day":
-        out["shift"] = ""
-    out["start_time"] = pd.DatetimeIndex(out["start_time"]).tz_convert("UTC")
-    out = out.sort_values(["start_time", "machine"], kind="stable")
-    rank = np.empty(len(out), dtype=np.int64)
-    rank[out.index.to_numpy()] = np.arange(len(out))
-    c["group"] = rank[gid]
-    cols = ["machine", "date", "shift", "start_time", "cycles", "cycles_total",
-            "cycles_per_min", "energy_swing_J_median", "energy_swing_J_p95", "cs_median",
-            "cs_p95", "torque_peak_Nm_p99", "work_J_mean", "flagged_share", "anomaly_rate"]
-    if by == "file":
-        cols.insert(1, "file")
-    return (c.drop(columns=["_g", "_start", "_bad", "_scored", "_abn"]),
-            out[cols].reset_index(drop=True))
+    groups: dict[tuple[str, Any], GroupStats] = {}
+    index: list[Any] = [None] * len(c)
+    labels = {"shift": np.empty(len(c), dtype=object), "date": np.empty(len(c), dtype=object)}
+    times = pd.DatetimeIndex(c["start_time"])
+    files = c["file"].to_numpy(dtype=object)
+    for machine, rows in c.groupby("machine", sort=False).indices.items():
+        # a figure the table lacks is empty (NaN); no anomaly_score: no shape check
+        block = {k: c[k].to_numpy()[rows] if k in c else np.full(rows.size, np.nan)
+                 for k in BLOCK_COLUMNS if k in c or k != "anomaly_score"}
+        keys, codes, lab = fold(groups, machine, times[rows], block, files[rows], calendar, by,
+                                quantile_budget, sketch_error)
+        for r, code in zip(rows, codes, strict=True):
+            index[r] = groups[keys[code]]
+        labels["shift"][rows], labels["date"][rows] = lab["shift"], lab["date"]
+    return ordered(groups), index, labels
+
+
+def merge_outcomes(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
+                   ) -> tuple[list[GroupStats], list[dict[str, Any]], list[dict[str, str]]]:
+    """Per-group summaries of the good outcomes merged over files (a group found in
+    several files is one group), in time order; the file facts; the failures."""
+    merged: dict[tuple[str, Any], GroupStats] = {}
+    files, failed = [], []
+    for o in outcomes:
+        if not o.ok:
+            reason = o.error or ""
+            if reason.startswith(f"{o.path}: "):
+                reason = reason[len(o.path) + 2:]
+            failed.append({"file": o.path, "reason": reason})
+            continue
+        start = pd.Timestamp(o.facts["start_time"])
+        files.append({**o.facts, "start_time": absolute_start(start, calendar),
+                      "tz_given": start.tz is not None})
+        for key, g in (o.groups or {}).items():
+            if key in merged:
+                merged[key].merge(g)
+            else:
+                merged[key] = g
+    for g in merged.values():
+        g.compact()
+    return ordered(merged), files, failed
+
+
+def write_cycles(path: str | Path, outcomes: Sequence[FileOutcome],
+                 stats: list[GroupStats], result: TrendResult) -> Path:
+    """Every cycle of the trend into one Parquet file, streamed row group by row group
+    from the workers' part files (never the whole table in memory): files by machine and
+    start, each cycle with ``group`` (row of the group table) and its ``start_time`` as
+    the trend shows it.
+    """
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    from torqlog.io.outputs import atomic_path, parquet_metadata
+
+    rank = {(g.machine, g.key): i for i, g in enumerate(stats)}
+    good = [o for o in outcomes if o.ok and o.part]
+    good.sort(key=lambda o: (o.machine, min((g.first for g in (o.groups or {}).values()),
+                                            default=0)))
+    meta = parquet_metadata("trend-cycles")
+    out = Path(path)
+    with atomic_path(out) as tmp:
+        writer = None
+        try:
+            for o in good:
+                to_row = np.array([rank[k] for k in (o.groups or {})], dtype=np.int64)
+                part = pq.ParquetFile(o.part)
+                for i in range(part.num_row_groups):
+                    df = part.read_row_group(i).to_pandas()
+                    df["start_time"] = result.local(df["start_time"])
+                    df["group"] = to_row[df["group"].to_numpy()]
+                    table = pa.Table.from_pandas(df, preserve_index=False)
+                    if writer is None:
+                        schema = table.schema.with_metadata({**(table.schema.metadata or {}),
+                                                             **meta})
+                        writer = pq.ParquetWriter(tmp, schema)
+                    writer.write_table(table.cast(writer.schema))
+        finally:
+            if writer is not None:
+                writer.close()
+    return out
 
 
 # ----------------------------------------------------------------------------- drift
@@ -245,8 +297,9 @@ def detect_drift(groups: pd.DataFrame, options: DriftOptions = DriftOptions(),
     -------
     (flags, charts, limits, onsets)
         ``flags[i]``: codes for row i, ``"<figure>:<chart>_<high|low>"`` with chart
-        ``individuals`` (beyond ±k·σ), ``ewma`` (EWMA beyond its limits) or ``run``
-        (the run rule); ``charts``: long table (row, machine, figure, value, centre, lcl,
+        ``individuals`` (beyond ±k·σ; ``p_chart`` for the anomaly rate, beyond its
+        binomial limits, see :func:`_p_chart`), ``ewma`` (EWMA beyond its limits) or
+        ``run`` (the run rule); ``charts``: long table (row, machine, figure, value, centre, lcl,
         ucl, ewma, ewma_lcl, ewma_ucl, baseline); ``limits``: one dict per machine and
         figure; ``onsets``: per machine, the first flagged row after the baseline (or
         None).
@@ -272,42 +325,90 @@ def detect_drift(groups: pd.DataFrame, options: DriftOptions = DriftOptions(),
             bx = (base[fig].to_numpy(dtype=np.float64) if baseline is not None
                   else x[in_base])
             if np.isfinite(bx).sum() < 2:
-                limits.append({"machine": machine, "figure": fig, "centre": None,
-                               "sigma": None, "lcl": None, "ucl": None,
+                limits.append({"machine": machine, "figure": fig,
+                               "chart": "p" if fig == P_FIGURE else "individuals",
+                               "centre": None, "sigma": None, "lcl": None, "ucl": None,
                                "baseline_groups": int(np.isfinite(bx).sum()),
                                "note": "too few baseline values: not charted"})
                 continue
             m_base = int(np.isfinite(bx).sum())
-            k_eff, l_eff, c_var = baseline_factors(o.k, o.L, m_base, o.limits)
-            centre, sigma, lcl, ucl = individuals_limits(bx, k_eff)
-            z, zl, zu = ewma_chart(x, centre, sigma, o.lam, l_eff, c_var)
+            if fig == P_FIGURE:  # a rate of counts: the p chart, binomial limits per group
+                base_rows = base if baseline is not None else rows[in_base]
+                centre, sigma, lcl, ucl, z, zl, zu, lim = _p_chart(rows, base_rows, o)
+                beyond = "p_chart"
+            else:
+                k_eff, l_eff, c_var = baseline_factors(o.k, o.L, m_base, o.limits)
+                centre, sigma, lcl, ucl = individuals_limits(bx, k_eff)
+                z, zl, zu = ewma_chart(x, centre, sigma, o.lam, l_eff, c_var)
+                lim = {"chart": "individuals", "centre": centre, "sigma": sigma, "lcl": lcl,
+                       "ucl": ucl, "k_eff": k_eff, "ewma_L_eff": l_eff, "note": ""}
+                beyond = "individuals"
             # runs are counted afresh from the first group after the baseline: the
             # baseline points set the centre line, so a run among them says little
             hi_r, lo_r = np.zeros(x.size, bool), np.zeros(x.size, bool)
             for part in (in_base, ~in_base):
                 hi_r[part], lo_r[part] = run_rule(x[part], centre, run_len)
-            marks = {"individuals_high": x > ucl, "individuals_low": x < lcl,
+            marks = {f"{beyond}_high": x > ucl, f"{beyond}_low": x < lcl,
                      "ewma_high": z > zu, "ewma_low": z < zl,
                      "run_high": hi_r, "run_low": lo_r}
             for name, m in marks.items():
                 for j in np.flatnonzero(m):
                     flags[idx[j]].append(f"{fig}:{name}")
                 hit |= m
-            limits.append({"machine": machine, "figure": fig, "centre": centre,
-                           "sigma": sigma, "lcl": lcl, "ucl": ucl, "k_eff": k_eff,
-                           "ewma_L_eff": l_eff, "baseline_groups": m_base, "note": ""})
+            limits.append({"machine": machine, "figure": fig, **lim,
+                           "baseline_groups": m_base})
             charts.append(pd.DataFrame({
-                "row": idx, "machine": machine, "figure": fig, "value": x,
-                "centre": centre, "sigma": sigma, "lcl": lcl, "ucl": ucl, "ewma": z, "ewma_lcl": zl,
-                "ewma_ucl": zu, "baseline": in_base,
+                "row": idx, "machine": machine, "figure": fig, "chart": lim["chart"],
+                "value": x, "centre": centre, "sigma": sigma, "lcl": lcl, "ucl": ucl,
+                "ewma": z, "ewma_lcl": zl, "ewma_ucl": zu, "baseline": in_base,
                 "flagged": np.any(np.column_stack(list(marks.values())), axis=1)}))
         after = np.flatnonzero(hit & ~in_base)
         onsets.append({"machine": machine,
                        "row": int(idx[after[0]]) if after.size else None})
     chart = pd.concat(charts, ignore_index=True) if charts else pd.DataFrame(
-        columns=["row", "machine", "figure", "value", "centre", "sigma", "lcl", "ucl", "ewma",
-                 "ewma_lcl", "ewma_ucl", "baseline", "flagged"])
+        columns=["row", "machine", "figure", "chart", "value", "centre", "sigma", "lcl", "ucl",
+                 "ewma", "ewma_lcl", "ewma_ucl", "baseline", "flagged"])
     return flags, chart, limits, onsets
+
+
+def _p_chart(rows: pd.DataFrame, base: pd.DataFrame, o: DriftOptions) -> tuple[Any, ...]:
+    """The p chart of the anomaly rate of one machine's group rows.
+
+    Centre p̄ = Σ abnormal / Σ scored over the baseline groups
+    (:func:`torqlog.fleet.control.p_chart_centre`), limits p̄ ± k·√(p̄(1 − p̄)/n_i) with n_i
+    the cycles scored in group i, the lower limit clipped at 0
+    (:func:`torqlog.fleet.control.p_chart_limits`). The EWMA and run rule are the same
+    as for every figure; the EWMA runs on the standardized rate (p_i − p̄)/σ_i, so that
+    groups of different size weigh alike (its centre 0, σ 1, limits ±L·√(λ/(2 − λ)·…)).
+    σ comes from the binomial model, not from the spread of the baseline, so the limits
+    are not widened for the baseline's size. A baseline table without the counts (an
+    earlier run's rows) gives p̄ as the mean of its rates (noted).
+
+    References
+    ----------
+    Montgomery, *Introduction to Statistical Quality Control*, 7th ed., sec. 7.2.2
+    (variable sample size; the standardized chart z_i = (p̂_i − p̄)/σ_i).
+    """
+    x = rows[P_FIGURE].to_numpy(dtype=np.float64)
+    n = rows["cycles_scored"].to_numpy(dtype=np.float64)
+    note = ""
+    if "cycles_scored" in base and "cycles_abnormal" in base:
+        centre, note = p_chart_centre(base["cycles_abnormal"].to_numpy(dtype=np.float64),
+                                      base["cycles_scored"].to_numpy(dtype=np.float64))
+    else:
+        centre = float(np.nanmean(base[P_FIGURE].to_numpy(dtype=np.float64)))
+        note = "baseline without cycle counts: centre is the mean of its rates"
+    sigma, lcl, ucl = p_chart_limits(centre, n, o.k)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        std = np.where(sigma > 0, (x - centre) / sigma, np.nan)
+    z, zl, zu = ewma_chart(std, 0.0, 1.0, o.lam, o.L)
+    lim = {"chart": "p", "centre": centre, "sigma": None, "lcl": None, "ucl": None,
+           "limits": f"p̄ ± {o.k:g}·√(p̄(1 − p̄)/n) per group, n = cycles scored; "
+                     "lower limit clipped at 0",
+           "baseline_cycles_scored": int(np.nansum(base["cycles_scored"]))
+           if "cycles_scored" in base else None,
+           "ewma_of": "(rate − p̄)/σ_n", "note": note}
+    return centre, sigma, lcl, ucl, z, zl, zu, lim
 
 
 # ----------------------------------------------------------------------------- result
@@ -330,9 +431,10 @@ class TrendResult:
     groups : DataFrame
         One row per machine and group, in time order (see :func:`group_cycles`), plus
         ``flags`` (list of codes, see :func:`detect_drift`); ``start_time`` in UTC.
-    cycles : DataFrame
-        Every cycle of every good file with ``machine``, ``file``, ``start_time`` (UTC),
-        ``date``, ``shift``, ``group`` and the cycle columns.
+    stats : list of GroupStats
+        The running summary of each group row (same order as ``groups``): the clean
+        cycles' quantiles (exact below the budget), counts and box-plot statistics —
+        what the trend keeps instead of a row per cycle.
     charts : DataFrame
         Chart points (long format) for the plots.
     limits : list of dict
@@ -351,7 +453,7 @@ class TrendResult:
     """
 
     groups: pd.DataFrame
-    cycles: pd.DataFrame
+    stats: list[GroupStats]
     charts: pd.DataFrame
     limits: list[dict[str, Any]]
     files: list[dict[str, Any]]
@@ -373,11 +475,11 @@ class TrendResult:
         g["flags"] = ["; ".join(f) for f in g["flags"]]
         return g
 
-    def cycles_table(self) -> pd.DataFrame:
-        """The per-cycle table as shown (local ``start_time``)."""
-        c = self.cycles.copy()
-        c["start_time"] = self.local(c["start_time"])
-        return c
+    def machine_summary(self) -> dict[str, dict[str, Any]]:
+        """Per machine over all its groups: clean and total cycles, abnormal and scored
+        cycles, start of the latest cycle [ns, UTC] and the Cs quantile keeper
+        (:func:`torqlog.fleet.groupstats.machine_summary`)."""
+        return machine_summary(self.stats)
 
     def _row(self, i: int) -> dict[str, Any]:
         r = self.groups.iloc[i]
@@ -456,9 +558,30 @@ def trend_table(cycles: pd.DataFrame, calendar: ShiftCalendar, *, by: str = "shi
         t = t.tz_localize(calendar.zone, ambiguous=np.ones(len(t), dtype=bool),
                           nonexistent="shift_forward")
     c["start_time"] = t.tz_convert("UTC")
-    c, groups = group_cycles(c, calendar, by)
+    stats = _fold_table(c.reset_index(drop=True), calendar, by, TREND_QUANTILE_BUDGET,
+                        DEFAULT_SKETCH_ERROR)[0]
+    files = files or []
+    any_tz = any(f.get("tz_given") for f in files) if files else not naive
+    return _result(stats, calendar, by=by, drift=drift, baseline=baseline, files=files,
+                   failed=failed, options=options, any_tz=any_tz)
+
+
+def _result(stats: list[GroupStats], calendar: ShiftCalendar, *, by: str, drift: DriftOptions,
+            baseline: pd.DataFrame | None, files: list[dict[str, Any]],
+            failed: list[dict[str, str]] | None, options: dict[str, Any] | None,
+            any_tz: bool) -> TrendResult:
+    """Group rows, control charts, drift onsets and notes from the per-group summaries."""
+    groups = group_table(stats, by)
+    sketched = any(k.method == "sketch" for g in stats for k in g.stream.keepers.values())
+    s0 = stats[0].stream if stats else None
     flags, charts, limits, onsets = detect_drift(groups, drift, baseline)
     groups = groups.copy()
+    # each group's own p-chart limits of the anomaly rate (they vary with its size)
+    pc = charts[charts["figure"] == P_FIGURE]
+    for side in ("lcl", "ucl"):
+        col = np.full(len(groups), np.nan)
+        col[pc["row"].to_numpy(dtype=np.int64)] = pc[side].to_numpy(dtype=np.float64)
+        groups[f"{P_FIGURE}_{side}"] = col
     groups["flags"] = flags
     notes: list[str] = []
     for m, idx in groups.groupby("machine", sort=False).indices.items():
@@ -469,8 +592,6 @@ def trend_table(cycles: pd.DataFrame, calendar: ShiftCalendar, *, by: str = "shi
         if lim["note"]:
             notes.append(f"machine {lim['machine'] or '(unnamed)'}: {lim['figure']}: "
                          f"{lim['note']}")
-    files = files or []
-    any_tz = any(f.get("tz_given") for f in files) if files else not naive
     display = calendar.timezone or ("UTC" if any_tz else None)
     if calendar.timezone is None and any_tz:
         notes.append("times carry a zone but no --timezone was given: shifts follow the "
@@ -492,17 +613,23 @@ def trend_table(cycles: pd.DataFrame, calendar: ShiftCalendar, *, by: str = "shi
     opts = dict(options or {})
     opts.update({
         "by": by,
+        "quantiles": {"method": "sketch" if sketched else "exact",
+                      "exact_budget_cycles_per_group": s0.quantile_budget if s0 else None,
+                      "relative_error_bound": s0.sketch_error if sketched and s0 else None},
         "shifts": {"starts": list(calendar.starts), "names": list(calendar.names),
                    "timezone": calendar.timezone, "zone": calendar.zone},
         "drift": {"figures": list(drift.figures),
                   "baseline": "table" if baseline is not None else
                   f"first {drift.baseline_groups} groups per machine",
                   "individuals": f"mean ± {drift.k:g}·MR̄/{D2_MR2}", "k": drift.k,
+                  "p_chart": f"{P_FIGURE}: p̄ ± {drift.k:g}·√(p̄(1 − p̄)/n), n = cycles "
+                             "scored in the group, lower limit clipped at 0; EWMA of "
+                             "(rate − p̄)/σ_n",
                   "limits": drift.limits,
                   "ewma_lambda": drift.lam, "ewma_L": drift.L,
                   "run_rule": drift.run_rule, "run_length": RUN_RULES[drift.run_rule]},
     })
-    return TrendResult(groups, c, charts, limits, files, list(failed or []), onset, shown,
+    return TrendResult(groups, stats, charts, limits, files, list(failed or []), onset, shown,
                        opts, notes, display)
 
 
@@ -510,8 +637,14 @@ def run_trend(jobs: Sequence[FileJob], calendar: ShiftCalendar, *, by: str = "sh
               drift: DriftOptions = DriftOptions(), baseline: pd.DataFrame | None = None,
               workers: int | None = None, client: Any = None,
               progress: Callable[[], None] | None = None,
-              missing: Sequence[dict[str, str]] = ()) -> TrendResult:
+              missing: Sequence[dict[str, str]] = (), cycles_path: str | Path | None = None,
+              quantile_budget: int = TREND_QUANTILE_BUDGET,
+              sketch_error: float = DEFAULT_SKETCH_ERROR) -> TrendResult:
     """Run the batch and build the trend.
+
+    Each worker reduces its file's cycles to per-group running summaries
+    (:mod:`torqlog.fleet.groupstats`); this process merges them, so its memory does not
+    grow with the number of cycles.
 
     Parameters
     ----------
@@ -524,6 +657,15 @@ def run_trend(jobs: Sequence[FileJob], calendar: ShiftCalendar, *, by: str = "sh
         As for :func:`run_files`.
     missing : sequence of dict
         Paths that named no file (from :func:`discover`), reported with the failures.
+    cycles_path : str or Path, optional
+        Write every cycle to this Parquet file, streamed by row groups from the workers
+        (see :func:`write_cycles`). On a Dask cluster the workers write their parts next
+        to it, so they must see that folder.
+    quantile_budget : int
+        Clean cycles per group held for exact quantiles [count]; beyond it a
+        relative-error sketch answers (recorded in the options).
+    sketch_error : float
+        Relative error α of that sketch [–].
 
     Returns
     -------
@@ -535,18 +677,35 @@ def run_trend(jobs: Sequence[FileJob], calendar: ShiftCalendar, *, by: str = "sh
     DataError
         When no file could be used.
     """
-    outcomes = run_files(jobs, workers=workers, client=client, progress=progress)
-    cycles, files, failed = combine(outcomes, calendar)
-    failed = list(missing) + failed
-    if cycles.empty:
-        first = f"{failed[0]['file']}: {failed[0]['reason']}" if failed else "no files given"
-        more = f" (and {len(failed) - 1} more)" if len(failed) > 1 else ""
-        raise DataError(f"no file could be used: {first}{more}")
-    o = jobs[0].options if jobs else CycleOptions()
-    copts = asdict(o)
-    copts.pop("block_rows", None)
-    return trend_table(cycles, calendar, by=by, drift=drift, baseline=baseline, files=files,
-                       failed=failed, options={"cycles": copts})
+    import tempfile
+
+    if cycles_path is not None:
+        Path(cycles_path).parent.mkdir(parents=True, exist_ok=True)
+    with tempfile.TemporaryDirectory(
+            prefix=".torqlog-parts-",
+            dir=None if cycles_path is None else Path(cycles_path).parent) as parts:
+        grouping = Grouping(calendar, by, quantile_budget, sketch_error,
+                            parts if cycles_path is not None else None)
+        if by not in GROUP_BY:
+            raise UsageError(f"unknown grouping {by!r}; valid: {', '.join(GROUP_BY)}")
+        outcomes = run_files(jobs, workers=workers, client=client, progress=progress,
+                             grouping=grouping)
+        stats, files, failed = merge_outcomes(outcomes, calendar)
+        failed = list(missing) + failed
+        if not stats:
+            first = (f"{failed[0]['file']}: {failed[0]['reason']}" if failed
+                     else "no files given")
+            more = f" (and {len(failed) - 1} more)" if len(failed) > 1 else ""
+            raise DataError(f"no file could be used: {first}{more}")
+        o = jobs[0].options if jobs else CycleOptions()
+        copts = asdict(o)
+        copts.pop("block_rows", None)
+        res = _result(stats, calendar, by=by, drift=drift, baseline=baseline, files=files,
+                      failed=failed, options={"cycles": copts},
+                      any_tz=any(f.get("tz_given") for f in files))
+        if cycles_path is not None:
+            write_cycles(cycles_path, outcomes, stats, res)
+    return res
 
 
 def read_baseline(path: str | Path) -> pd.DataFrame:

@@ -86,7 +86,7 @@ def column_units(columns: list[str], system: str = "si") -> list[str]:
 
 
 def to_csv_text(table: pd.DataFrame, *, digits: int | None = DEFAULT_DIGITS,
-                units_row: bool = False, system: str = "si") -> str:
+                units_row: bool = False, system: str = "si", header: bool = True) -> str:
     """A table as CSV text, floats rounded to ``digits`` significant digits.
 
     Parameters
@@ -100,6 +100,9 @@ def to_csv_text(table: pd.DataFrame, *, digits: int | None = DEFAULT_DIGITS,
         Write a second line with each column's unit under the header.
     system : str
         ``"si"`` or ``"us"``: how to read unit suffixes for the units row.
+    header : bool
+        Write the header (and units row); False gives the rows alone, for a table
+        written in parts.
 
     Examples
     --------
@@ -113,12 +116,24 @@ def to_csv_text(table: pd.DataFrame, *, digits: int | None = DEFAULT_DIGITS,
     if digits is not None and not 1 <= int(digits) <= 17:
         raise UsageError(f"--digits must be 1 to 17, got {digits}")
     fmt = None if digits is None else f"%.{int(digits)}g"
-    body = table.to_csv(index=False, float_format=fmt, lineterminator="\n")
-    if not units_row:
+    body = table.to_csv(index=False, float_format=fmt, lineterminator="\n", header=False)
+    if not header:
         return body
-    header, _, rest = body.partition("\n")
-    units = ",".join(_csv_cell(u) for u in column_units(list(table.columns), system))
-    return f"{header}\n{units}\n{rest}"
+    return csv_header(list(table.columns), units_row=units_row, system=system) + body
+
+
+def csv_header(columns: list[str], *, units_row: bool = False, system: str = "si") -> str:
+    """The header line of a CSV table (and its units row under it), as
+    :func:`to_csv_text` writes them."""
+    import csv
+    import io
+
+    out = io.StringIO()
+    csv.writer(out, lineterminator="\n").writerow([str(c) for c in columns])  # as pandas
+    head = out.getvalue()
+    if not units_row:
+        return head
+    return head + ",".join(_csv_cell(u) for u in column_units(columns, system)) + "\n"
 
 
 def _csv_cell(text: str) -> str:
@@ -234,18 +249,45 @@ def write_parquet(path: str | Path, table: pd.DataFrame,
     import pyarrow.parquet as pq
 
     t = pa.Table.from_pandas(table, preserve_index=False)
-    units = column_units([f.name for f in t.schema], system)
-    fields = [f.with_metadata({**(f.metadata or {}), b"unit": u.encode()})
-              for f, u in zip(t.schema, units, strict=True)]
-    meta = dict(t.schema.metadata or {})
-    meta[b"torqlog.io.units"] = system.encode()
-    if options is not None:
-        meta[b"torqlog.options"] = json.dumps(dict(flat_items(options))).encode()
-    t = t.cast(pa.schema(fields, metadata=meta))
+    t = t.cast(parquet_schema(t.schema, options, system))
     p = Path(path)
     with atomic_path(p) as tmp:
         pq.write_table(t, tmp)
     return p
+
+
+def parquet_schema(schema: Any, options: Mapping[str, Any] | None = None,
+                   system: str = "si", extra: Mapping[bytes, bytes] | None = None) -> Any:
+    """A Parquet schema with each column's unit in its field metadata (``unit``).
+
+    The unit system goes in the schema metadata under ``torqlog.io.units``, the options
+    that made the result as flat JSON under ``torqlog.options``, and ``extra`` beside
+    them. :func:`write_parquet` and the per-cycle table written in row groups
+    (:mod:`torqlog.cli.cycle_output`) share it.
+
+    Parameters
+    ----------
+    schema : pyarrow.Schema
+    options : mapping, optional
+    system : str
+        ``"si"`` or ``"us"``, to read the unit suffixes.
+    extra : mapping of bytes to bytes, optional
+
+    Returns
+    -------
+    pyarrow.Schema
+    """
+    import pyarrow as pa
+
+    units = column_units([f.name for f in schema], system)
+    fields = [f.with_metadata({**(f.metadata or {}), b"unit": u.encode()})
+              for f, u in zip(schema, units, strict=True)]
+    meta = dict(schema.metadata or {})
+    meta[b"torqlog.io.units"] = system.encode()
+    if options is not None:
+        meta[b"torqlog.options"] = json.dumps(dict(flat_items(options))).encode()
+    meta.update(extra or {})
+    return pa.schema(fields, metadata=meta)
 
 
 def write_binary(fmt: str, path: str | None, data: Mapping[str, Any],

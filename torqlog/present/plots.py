@@ -578,6 +578,7 @@ _TREND_LABELS = {  # figure: (title, short axis label, unit)
     "torque_peak_Nm_p99": ("peak torque, 99th percentile", "peak torque p99", "N·m"),
     "work_J_mean": ("work per cycle, mean", "work mean", "J"),
     "flagged_share": ("share of flagged cycles", "flagged share", "-"),
+    "anomaly_rate": ("share of cycles of abnormal shape", "anomaly rate", "-"),
 }
 
 
@@ -632,11 +633,19 @@ def plot_trend(result: object, figure: str, path: str | Path, *, units: str = "s
                 a.axvspan(*span, color=PALETTE["band"], alpha=0.35, lw=0,
                           label="baseline" if a is ax else None)
         ax.plot(t, x, "-o", color=PALETTE["data"], ms=4, lw=1.2, label=f"{by} value")
-        ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre {c0:.4g}")
-        ax.axhline(ucl, color=PALETTE["limit"], ls="--", lw=1.2,
-                   label=f"limits ±{(ucl - c0) / (k * d['sigma'].iloc[0]):.2f}σ "
-                         f"({drift['limits']}): {lcl:.4g} … {ucl:.4g}")
-        ax.axhline(lcl, color=PALETTE["limit"], ls="--", lw=1.2)
+        pchart = "chart" in d and (d["chart"] == "p").all()
+        if pchart:  # binomial limits that vary with each group's scored cycles
+            ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre p̄ = {c0:.4g}")
+            ax.step(t, d["ucl"] * k, where="mid", color=PALETTE["limit"], ls="--", lw=1.2,
+                    label="p-chart limits p̄ ± 3·√(p̄(1−p̄)/n)\n(n = cycles scored; "
+                          "lower clipped at 0)")
+            ax.step(t, d["lcl"] * k, where="mid", color=PALETTE["limit"], ls="--", lw=1.2)
+        else:
+            ax.axhline(c0, color=PALETTE["mean"], lw=1.4, label=f"centre {c0:.4g}")
+            ax.axhline(ucl, color=PALETTE["limit"], ls="--", lw=1.2,
+                       label=f"limits ±{(ucl - c0) / (k * d['sigma'].iloc[0]):.2f}σ "
+                             f"({drift['limits']}): {lcl:.4g} … {ucl:.4g}")
+            ax.axhline(lcl, color=PALETTE["limit"], ls="--", lw=1.2)
         if flagged.any():
             ax.plot(t[flagged], x[flagged], "o", ms=9, mfc="none", mew=2,
                     color=PALETTE["limit"], label="flagged (any rule)")
@@ -646,7 +655,7 @@ def plot_trend(result: object, figure: str, path: str | Path, *, units: str = "s
             for a in (ax, ax_e):
                 a.axvline(ts, color=PALETTE["limit"], lw=1.0, ls=":",
                           label="drift onset\n(first flag, any figure)" if a is ax else None)
-        ax.set_title(f"{label} per {by}{name} — individuals chart")
+        ax.set_title(f"{label} per {by}{name} — {'p' if pchart else 'individuals'} chart")
         ax.set_ylabel(f"{short} [{unit}]")
         ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
         ax_e.plot(t, d["ewma"] * k, "-o", color=PALETTE["data"], ms=3, lw=1.2,
@@ -654,13 +663,17 @@ def plot_trend(result: object, figure: str, path: str | Path, *, units: str = "s
         ax_e.step(t, d["ewma_ucl"] * k, where="mid", color=PALETTE["limit"], ls="--", lw=1.2,
                   label=f"EWMA limits (L = {drift['ewma_L']:g})")
         ax_e.step(t, d["ewma_lcl"] * k, where="mid", color=PALETTE["limit"], ls="--", lw=1.2)
-        ax_e.axhline(c0, color=PALETTE["mean"], lw=1.4, label="centre")
+        ax_e.axhline(0.0 if pchart else c0, color=PALETTE["mean"], lw=1.4, label="centre")
         ef = (d["ewma"] > d["ewma_ucl"]) | (d["ewma"] < d["ewma_lcl"])
         if ef.any():
             ax_e.plot(t[ef.to_numpy()], d["ewma"][ef] * k, "o", ms=8, mfc="none", mew=2,
                       color=PALETTE["limit"], label="beyond EWMA limits")
-        ax_e.set_title(f"EWMA of {label}{name}")
-        ax_e.set_ylabel(f"EWMA of {short} [{unit}]")
+        if pchart:  # the EWMA runs on the standardized rate (p − p̄)/σ_n
+            ax_e.set_title(f"EWMA of the standardized {short} (rate − p̄)/σ_n{name}")
+            ax_e.set_ylabel(f"EWMA of standardized {short} [σ]")
+        else:
+            ax_e.set_title(f"EWMA of {label}{name}")
+            ax_e.set_ylabel(f"EWMA of {short} [{unit}]")
         ax_e.set_xlabel(f"{by} start ({zone})")
         ax_e.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
         for a in (ax, ax_e):
@@ -685,9 +698,10 @@ def plot_trend_box(result: object, path: str | Path, *, units: str = "si") -> Pa
     from matplotlib.patches import Patch
 
     ke, ue = axis_unit("energy_swing_J", units)
-    cyc = result.cycles[result.cycles["flag"] == ""]
-    by_group = {int(k): v.dropna().to_numpy() * ke
-                for k, v in cyc.groupby("group")["energy_swing_J"]}
+    # box statistics from each group's running summary (exact below its budget)
+    boxes = [None if b is None else {**b, **{q: b[q] * ke for q in
+                                             ("med", "q1", "q3", "whislo", "whishi")}}
+             for b in (g.box("energy_swing_J") for g in result.stats)]
     groups = result.groups
     machines = list(dict.fromkeys(groups["machine"])) or [""]
     by = result.options["by"]
@@ -700,14 +714,13 @@ def plot_trend_box(result: object, path: str | Path, *, units: str = "si") -> Pa
         result.options["drift"]["baseline"].split()[1])
     for ax, m in zip(axes[:, 0], machines, strict=True):
         rows = np.flatnonzero((groups["machine"] == m).to_numpy())
-        data = [by_group[r] if r in by_group else np.zeros(0) for r in rows]
-        keep = [i for i, v in enumerate(data) if v.size]
+        keep = [i for i, r in enumerate(rows) if boxes[r] is not None]
         if not keep:
             ax.set_title(f"Energy swing per {by}: no clean cycles")
             continue
-        bp = ax.boxplot([data[i] for i in keep], positions=np.arange(len(rows))[keep],
-                        widths=0.6, showfliers=False, patch_artist=True,
-                        medianprops={"color": "black", "lw": 1.2})
+        bp = ax.bxp([boxes[rows[i]] for i in keep], positions=np.arange(len(rows))[keep],
+                    widths=0.6, showfliers=False, patch_artist=True,
+                    medianprops={"color": "black", "lw": 1.2})
         for b, i in zip(bp["boxes"], keep, strict=True):
             g = groups.iloc[rows[i]]
             s = g["shift"]

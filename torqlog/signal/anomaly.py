@@ -127,12 +127,14 @@ def t2_limit(n_components: int, n_reference: int, alpha: float) -> float:
     >>> round(t2_limit(2, 100, 0.01), 3)
     9.853
     """
-    from scipy import stats
+    # the F quantile by scipy.special (what scipy.stats.f.ppf calls, without loading
+    # scipy.stats: ~0.5 s and ~50 MB on the cycles command)
+    from scipy.special import fdtri
 
     k, n = int(n_components), int(n_reference)
     if not (0 < k < n):
         raise UsageError(f"T² limit needs 0 < k < n, got k={k}, n={n}")
-    return float(k * (n + 1) * (n - 1) / (n * (n - k)) * stats.f.ppf(1.0 - alpha, k, n - k))
+    return float(k * (n + 1) * (n - 1) / (n * (n - k)) * fdtri(k, n - k, 1.0 - alpha))
 
 
 def q_limit(residual_eigenvalues: np.ndarray, alpha: float) -> float:
@@ -160,7 +162,7 @@ def q_limit(residual_eigenvalues: np.ndarray, alpha: float) -> float:
     >>> round(q_limit(np.full(10, 1.0), 0.05), 2)   # ~ chi-square(10) 95 %: 18.31
     18.29
     """
-    from scipy import stats
+    from scipy.special import ndtri  # the normal quantile (scipy.stats.norm.ppf's)
 
     lam = np.asarray(residual_eigenvalues, dtype=np.float64)
     lam = lam[lam > 0]
@@ -169,7 +171,7 @@ def q_limit(residual_eigenvalues: np.ndarray, alpha: float) -> float:
                         "undefined (too few bins or too many components)")
     th1, th2, th3 = (float(np.sum(lam**i)) for i in (1, 2, 3))
     h0 = 1.0 - 2.0 * th1 * th3 / (3.0 * th2 * th2)
-    c = float(stats.norm.ppf(1.0 - alpha))
+    c = float(ndtri(1.0 - alpha))
     inner = c * math.sqrt(2.0 * th2 * h0 * h0) / th1 + 1.0 + th2 * h0 * (h0 - 1.0) / th1**2
     return float(th1 * inner ** (1.0 / h0))
 
@@ -643,13 +645,32 @@ def flag_runs(flagged: np.ndarray, cycles: np.ndarray, t_start: np.ndarray | Non
     some flagged cycle on ≥ 80 % of at least 10 cycles are flagged.
     """
     f = np.asarray(flagged, dtype=bool)
-    cyc = np.asarray(cycles)
     idx = np.flatnonzero(f)
+    ts = None if t_start is None else np.asarray(t_start)[idx]
+    return runs_of_flags(f.size, idx, np.asarray(cycles)[idx], ts)
+
+
+def runs_of_flags(n_scored: int, positions: np.ndarray, cycles: np.ndarray,
+                  t_start: np.ndarray | None = None) -> dict[str, Any]:
+    """:func:`flag_runs` from the flagged cycles alone (what a long log keeps).
+
+    Parameters
+    ----------
+    n_scored : int
+        Cycles scored, in order.
+    positions : array of int
+        Position of each flagged cycle among the scored ones (ascending).
+    cycles : array of int
+        Their cycle numbers.
+    t_start : array [s], optional
+        Their start times.
+    """
+    idx = np.asarray(positions, dtype=np.int64)
     out: dict[str, Any] = {"pattern": "none", "every": None, "from_cycle": None,
                            "from_t_s": None, "runs": [], "text": "no abnormal cycles"}
     if idx.size == 0:
         return out
-    fc = cyc[idx]
+    fc = np.asarray(cycles)
     brk = np.flatnonzero(np.diff(fc) != 1) + 1
     starts = np.concatenate(([0], brk))
     ends = np.concatenate((brk, [fc.size]))
@@ -658,13 +679,13 @@ def flag_runs(flagged: np.ndarray, cycles: np.ndarray, t_start: np.ndarray | Non
                   key=lambda r: -r["length"])[:10]
     out["runs"] = runs
     # sustained: share flagged from each flagged cycle to the end
-    tail_n = f.size - idx
+    tail_n = n_scored - idx
     tail_flag = idx.size - np.arange(idx.size)
     ok = (tail_n >= 10) & (tail_flag >= 0.8 * tail_n)
     if ok.any():
         j = int(np.argmax(ok))
         out.update(pattern="sustained", from_cycle=int(fc[j]),
-                   from_t_s=None if t_start is None else float(np.asarray(t_start)[idx[j]]))
+                   from_t_s=None if t_start is None else float(np.asarray(t_start)[j]))
         when = "" if out["from_t_s"] is None else f" (t = {out['from_t_s']:.1f} s)"
         out["text"] = f"sustained from cycle {fc[j]}{when}"
         return out
@@ -849,7 +870,10 @@ class ShapeMonitor:
         self.flagged = 0
         self.worst: list[tuple[float, int, dict[str, Any], np.ndarray]] = []
         self.sectors: dict[str, int] = {}
+        # the flagged cycles alone (position among the scored, number, start [s]): what
+        # the run analysis needs; a healthy log adds a few per thousand cycles
         self.flags_all: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
+        self.window_n = 0  # scored cycles the positions count from
         self.notes: list[str] = []
         self.checked_duration = model is None
         self.failed = False
@@ -926,7 +950,10 @@ class ShapeMonitor:
         bad = score > 1.0
         self.scored += len(cyc)
         self.flagged += int(bad.sum())
-        self.flags_all.append((cyc, ts, bad))
+        hit = np.flatnonzero(bad)
+        if hit.size:
+            self.flags_all.append((self.window_n + hit, cyc[hit], ts[hit]))
+        self.window_n += len(cyc)
         for i in np.flatnonzero(bad):
             where = describe_cycle(m, x[i], float(t2[i]), float(q[i]), e[i])
             c = 0.5 * (where["window_deg"][0] + where["window_deg"][1])
@@ -943,7 +970,6 @@ class ShapeMonitor:
                 heapq.heappush(self.worst, item)
             elif item[0] > self.worst[0][0]:
                 heapq.heapreplace(self.worst, item)
-        # keep only compact flags for the run analysis (bool + ints per cycle)
         return cyc, score
 
     def finish(self) -> list[tuple[np.ndarray, np.ndarray]]:
@@ -961,14 +987,9 @@ class ShapeMonitor:
     def result(self, options: dict[str, Any] | None = None) -> AnomalyResult:
         """The :class:`AnomalyResult` so far."""
         m = self.model
-        if self.flags_all:
-            cyc = np.concatenate([f[0] for f in self.flags_all])
-            ts = np.concatenate([f[1] for f in self.flags_all])
-            bad = np.concatenate([f[2] for f in self.flags_all])
-            order = np.argsort(cyc, kind="stable")
-            runs = flag_runs(bad[order], cyc[order], ts[order])
-        else:
-            runs = flag_runs(np.zeros(0, bool), np.zeros(0, int))
+        self.compact(0)
+        pos, cyc, ts = self.flags_all[0] if self.flags_all else (np.zeros(0, np.int64),) * 3
+        runs = runs_of_flags(self.window_n, pos, cyc, ts)
         worst = sorted(self.worst, key=lambda w: -w[0])
         curves: dict[str, Any] = {}
         if m is not None:
@@ -991,20 +1012,21 @@ class ShapeMonitor:
                                                        key=lambda kv: -kv[1])),
                              curves=curves, options=opts, notes=list(self.notes))
 
-    def compact(self) -> None:
-        """Merge the stored per-cycle flags (call now and then on a long watch)."""
-        if len(self.flags_all) > 64:
-            cyc = np.concatenate([f[0] for f in self.flags_all])
-            ts = np.concatenate([f[1] for f in self.flags_all])
-            bad = np.concatenate([f[2] for f in self.flags_all])
-            self.flags_all = [(cyc, ts, bad)]
+    def compact(self, most: int = 64) -> None:
+        """Merge the stored flagged cycles into one set of arrays once there are more than
+        ``most`` parts (call now and then on a long watch)."""
+        if len(self.flags_all) > max(most, 1):
+            self.flags_all = [tuple(np.concatenate([f[i] for f in self.flags_all])
+                                    for i in range(3))]
 
     def forget(self, keep: int) -> None:
-        """Keep the per-cycle flags of only the last ``keep`` cycles (bounded watch)."""
-        self.compact()
+        """Keep the flags of only the last ``keep`` scored cycles (bounded watch)."""
+        self.compact(0)
+        drop = self.window_n - keep
+        if drop <= 0:
+            return
+        self.window_n = keep
         if self.flags_all:
-            cyc, ts, bad = self.flags_all[0] if len(self.flags_all) == 1 else (
-                np.concatenate([f[0] for f in self.flags_all]),
-                np.concatenate([f[1] for f in self.flags_all]),
-                np.concatenate([f[2] for f in self.flags_all]))
-            self.flags_all = [(cyc[-keep:], ts[-keep:], bad[-keep:])]
+            pos, cyc, ts = self.flags_all[0]
+            k = pos >= drop
+            self.flags_all = [(pos[k] - drop, cyc[k], ts[k])]

@@ -9,12 +9,17 @@ object per cycle: flags as small integer codes into their few distinct texts, nu
 as float64. (float32 would save 8 bytes a cycle on the two crank-angle columns, but the
 rows are kept only where every cycle is needed, and float32 would print other digits
 than the streamed outputs; the same rows must give the same text either way.)
+:class:`ScoredBlocks` holds blocks back until their cycle-shape scores are known, so the
+rows can be written out as they complete with the shape check on.
 """
 
 from __future__ import annotations
 
+import pickle
+import tempfile
 from collections import Counter
-from typing import Any
+from collections.abc import Callable
+from typing import IO, Any
 
 import numpy as np
 
@@ -163,3 +168,141 @@ class ColumnStore:
     def nbytes(self) -> int:
         """Bytes held by the buffers."""
         return sum(b.nbytes for b in self._bufs.values())
+
+
+#: Held rows kept in memory before :class:`ScoredBlocks` moves them to a temporary file.
+HELD_ROWS_IN_MEMORY = 20_000
+
+
+class ScoredBlocks:
+    """Blocks of finished cycles held until their cycle-shape scores are known.
+
+    The shape model (:class:`torqlog.signal.anomaly.ShapeMonitor`) learns from the first
+    ``learn_cycles`` clean cycles of a log (a bounded reference set) and scores them, and
+    every later clean cycle, as soon as it has them. Until then the blocks of finished
+    cycles wait here; each block is handed to ``release`` — in cycle order, once every
+    clean cycle in it has its score (``anomaly_score``, ``anomaly`` filled in). Scores
+    arrive in cycle order, so a block is complete when its last clean cycle is at or
+    before the last cycle scored. After the model is learned a block waits only for its
+    own scores (the same chunk); when no score will come (check off, or the model could
+    not be learned) blocks pass at once with ``anomaly`` False and ``anomaly_score`` NaN.
+
+    Memory is bounded: beyond ``memory_rows`` held rows the held blocks go to a temporary
+    file (a log whose first ``learn_cycles`` clean cycles come late, after many flagged
+    ones); the scores waiting for their block are at most the reference set and one chunk.
+
+    Parameters
+    ----------
+    release : callable
+        Takes each block (mapping of column name to array, columns
+        :data:`torqlog.signal.cycles.COLUMNS`) once it is complete.
+    waiting : bool
+        Whether scores are to come (False: every block passes at once).
+    memory_rows : int
+        Held rows kept in memory before spilling [count].
+    """
+
+    def __init__(self, release: Callable[[dict[str, Any]], None], waiting: bool = True,
+                 memory_rows: int | None = None) -> None:
+        self.release = release
+        self.waiting = waiting
+        self.memory_rows = HELD_ROWS_IN_MEMORY if memory_rows is None else int(memory_rows)
+        # held blocks, oldest first: (last clean cycle or -1, block or None when spilled)
+        self.held: list[tuple[int, dict[str, Any] | None]] = []
+        self.rows_in_memory = 0
+        self.spill: IO[bytes] | None = None
+        self.read_at = 0
+        self.scored_through = -1
+        self.pending: list[tuple[np.ndarray, np.ndarray]] = []
+        self.scored = 0
+        self.abnormal = 0
+        self.spilled_blocks = 0
+
+    def add(self, block: dict[str, Any]) -> None:
+        """Hold a block of finished cycles (release it at once when it is complete)."""
+        clean = np.flatnonzero(np.asarray(block["flag"]).astype(str) == "")
+        last = int(np.asarray(block["cycle"])[clean[-1]]) if clean.size else -1
+        self.held.append((last, block))
+        self.rows_in_memory += len(block["cycle"])
+        self._drain()
+        if self.rows_in_memory > self.memory_rows:
+            self._spill_all()
+
+    def add_scores(self, scored: list[tuple[np.ndarray, np.ndarray]]) -> None:
+        """Scores of clean cycles, as (cycle numbers, scores) pairs in cycle order."""
+        for cyc, sc in scored:
+            cyc = np.asarray(cyc, dtype=np.int64)
+            sc = np.asarray(sc, dtype=np.float64)
+            if not cyc.size:
+                continue
+            self.pending.append((cyc, sc))
+            self.scored += int(np.isfinite(sc).sum())
+            self.abnormal += int((sc > 1.0).sum())
+            self.scored_through = max(self.scored_through, int(cyc.max()))
+        self._drain()
+
+    def stop_waiting(self) -> None:
+        """No more scores will come: release what is held."""
+        self.waiting = False
+        self._drain()
+
+    def close(self) -> None:
+        """Release every block still held (the end of the log) and drop the spill."""
+        self.stop_waiting()
+        if self.spill is not None:
+            self.spill.close()
+            self.spill = None
+
+    # -- inside
+    def _drain(self) -> None:
+        while self.held:
+            last, block = self.held[0]
+            if self.waiting and last > self.scored_through:
+                return
+            self.held.pop(0)
+            if block is None:
+                block = self._read_spilled()
+            else:
+                self.rows_in_memory -= len(block["cycle"])
+            self.release(self._fill(block))
+        if self.spill is not None:  # all released: start the file afresh
+            self.spill.seek(0)
+            self.spill.truncate()
+            self.read_at = 0
+
+    def _fill(self, block: dict[str, Any]) -> dict[str, Any]:
+        """Put the scores of the block's cycles into its ``anomaly`` columns."""
+        if not self.pending:
+            return block
+        first, last = int(block["cycle"][0]), int(block["cycle"][-1])
+        cyc = np.concatenate([c for c, _ in self.pending])
+        sc = np.concatenate([s for _, s in self.pending])
+        n = int(np.searchsorted(cyc, last, side="right"))
+        rest = (cyc[n:], sc[n:])
+        self.pending = [rest] if rest[0].size else []
+        c, s = cyc[:n], sc[:n]
+        inside = c >= first  # earlier cycles' scores were applied already
+        if inside.any():
+            score = np.array(block["anomaly_score"], dtype=np.float64)
+            score[c[inside] - first] = s[inside]
+            block = {**block, "anomaly_score": score, "anomaly": score > 1.0}
+        return block
+
+    def _spill_all(self) -> None:
+        """Move the held blocks in memory to the temporary file (order kept)."""
+        if self.spill is None:
+            self.spill = tempfile.TemporaryFile(prefix="torqlog-held-")
+        self.spill.seek(0, 2)
+        for i, (last, block) in enumerate(self.held):
+            if block is not None:
+                pickle.dump(block, self.spill, protocol=pickle.HIGHEST_PROTOCOL)
+                self.held[i] = (last, None)
+                self.spilled_blocks += 1
+        self.rows_in_memory = 0
+
+    def _read_spilled(self) -> dict[str, Any]:
+        assert self.spill is not None
+        self.spill.seek(self.read_at)
+        block = pickle.load(self.spill)
+        self.read_at = self.spill.tell()
+        return block

@@ -35,7 +35,7 @@ from torqlog.signal import angle as ang
 from torqlog.signal import condition as cond
 from torqlog.signal import energy as en
 from torqlog.signal import health
-from torqlog.signal.cycle_table import ColumnStore, SummaryStream
+from torqlog.signal.cycle_table import ColumnStore, ScoredBlocks, SummaryStream
 from torqlog.signal.streamstats import DEFAULT_QUANTILE_BUDGET, DEFAULT_SKETCH_ERROR, RunningMoments
 
 if TYPE_CHECKING:
@@ -949,11 +949,13 @@ def analyse_cycles(path: str | Path, options: CycleOptions | None = None, *,
     tracker, notes, extra = _tracker_for(plan.source, o, first, lay.path)
     out = _Outputs(lay, o, plan, extra, keep_rows, sink, quantile_budget, sketch_error)
     st = out.st = plan.stream(o, tracker, out.on_block)
-    monitor = _shape_monitor(st, o, anomaly, shape_model)
+    monitor = _shape_monitor(st, o, anomaly, shape_model, out.take_scores)
+    out.expect_scores(monitor)
     _run(reader, st, first, it, progress)
     _check_cycle_count(st, lay.path, plan.source, o)
     if monitor is not None:
-        st.shape_scores += monitor.finish()
+        out.take_scores(monitor.finish())
+    out.held.close()
     notes += _reading_notes(lay, o, plan, st)
     res = _assemble(out, st, monitor, notes)
     if sink is not None:
@@ -997,7 +999,7 @@ def shape_model_from_log(path: str | Path, cycle_options: CycleOptions | None = 
 
     o = options or an.AnomalyOptions()
     res = analyse_cycles(path, cycle_options, anomaly=replace(o, learn_cycles=max_cycles),
-                         **read)
+                         keep_rows=False, **read)
     if res.shape_model is None:
         why = res.anomaly.notes[0] if res.anomaly is not None and res.anomaly.notes else ""
         raise DataError(f"{path}: cannot serve as shape reference: {why}")
@@ -1059,8 +1061,10 @@ def _plan(lay: Layout, o: CycleOptions) -> _Plan:
 
 
 class _Outputs:
-    """Where each block of finished cycles goes — the running summary, the kept rows (or
-    only the columns the health checks read), the caller's sink — and the options record."""
+    """Where each block of finished cycles goes — held until the shape scores of its cycles
+    are known (:class:`torqlog.signal.cycle_table.ScoredBlocks`), then to the running
+    summary, the kept rows (or only the columns the health checks read) and the caller's
+    sink, in cycle order — and the options record."""
 
     def __init__(self, lay: Layout, o: CycleOptions, plan: _Plan, extra: dict[str, Any],
                  keep_rows: bool, sink: CycleSink | None, quantile_budget: int,
@@ -1075,6 +1079,8 @@ class _Outputs:
         self.opts: dict[str, Any] = {}
         self.started = False
         self.st: _Stream | None = None  # the engine feeding this (its sample step, dead channels)
+        self.held = ScoredBlocks(self.release)
+        self.monitor: Any = None
 
     def record(self) -> dict[str, Any]:
         """Every option that made the result (fixed at the first call)."""
@@ -1091,10 +1097,25 @@ class _Outputs:
             self.opts.pop("read_ahead")
         return self.opts
 
+    def expect_scores(self, monitor: Any) -> None:
+        """Hold the blocks for the scores of the shape check ``monitor`` (None: off)."""
+        self.monitor = monitor
+        if monitor is None:
+            self.held.stop_waiting()
+
+    def take_scores(self, scored: list[tuple[np.ndarray, np.ndarray]]) -> None:
+        """Shape scores as the monitor gives them: (cycle numbers, scores) pairs."""
+        self.held.add_scores(scored)
+        if self.monitor is not None and self.monitor.failed:  # no model: none will come
+            self.held.stop_waiting()
+
     def on_block(self, row: dict[str, np.ndarray]) -> None:
-        """A block of finished cycles: to the summary, the kept rows and the sink."""
+        """A block of finished cycles: held until its shape scores are known."""
         dead = self.st.dead if self.st is not None else set()
-        block = _block_columns(row, self.lay, self.o, dead)
+        self.held.add(_block_columns(row, self.lay, self.o, dead))
+
+    def release(self, block: dict[str, Any]) -> None:
+        """A scored block: to the summary, the kept rows and the sink."""
         self.stats.add(block)
         if self.store is not None:
             self.store.add({k: v for k, v in block.items() if k != "start_time"})
@@ -1173,7 +1194,7 @@ def _assemble(out: _Outputs, st: _Stream, monitor: Any, notes: list[str]) -> Cyc
     mean_cycle = _mean_cycle(st)
     curves = {k: np.vstack(v) for k, v in st.curves.items() if v}
     table = _stored_columns(out.store, lay) if out.store is not None else {}
-    scored, abnormal = _fill_scores(table, st.shape_scores)
+    scored, abnormal = out.held.scored, out.held.abnormal
     summary["anomaly"] = {"scored": scored, "abnormal": abnormal,
                           "rate": abnormal / scored if scored else None}
     shape = _shape_findings(monitor, st, out.stats, notes)
@@ -1200,21 +1221,6 @@ def _shape_findings(monitor: Any, st: _Stream, stats: SummaryStream, notes: list
     return shape
 
 
-def _fill_scores(table: dict[str, np.ndarray], shape_scores: list[Any]) -> tuple[int, int]:
-    """Put the cycle-shape scores (known only once the model has its reference cycles)
-    into the kept rows; the count of scored and abnormal cycles."""
-    scored = abnormal = 0
-    for c, sc in shape_scores:  # cycle numbers run 1..n
-        sc = np.asarray(sc, dtype=np.float64)
-        scored += int(np.isfinite(sc).sum())
-        abnormal += int((sc > 1.0).sum())
-        if table:
-            i = np.asarray(c) - 1
-            table["anomaly_score"][i] = sc
-            table["anomaly"][i] = sc > 1.0
-    return scored, abnormal
-
-
 def row_dicts(columns: dict[str, np.ndarray]) -> list[dict[str, Any]]:
     """Rows of per-cycle columns as JSON-ready dicts (NaN and NaT become None)."""
     cols = []
@@ -1229,8 +1235,10 @@ def row_dicts(columns: dict[str, np.ndarray]) -> list[dict[str, Any]]:
     return [dict(zip(COLUMNS, r, strict=True)) for r in zip(*cols, strict=True)]
 
 
-def _shape_monitor(st: _Stream, o: CycleOptions, anomaly: Any, model: Any) -> Any:
-    """Attach the cycle-shape check (torqlog.signal.anomaly) to the stream, or None when off."""
+def _shape_monitor(st: _Stream, o: CycleOptions, anomaly: Any, model: Any,
+                   take: Callable[[list[Any]], None]) -> Any:
+    """Attach the cycle-shape check (torqlog.signal.anomaly) to the stream, or None when off;
+    ``take`` gets each list of (cycles, scores) as the monitor scores them."""
     if anomaly is False and model is None:
         return None
     from torqlog.signal import anomaly as an
@@ -1241,7 +1249,7 @@ def _shape_monitor(st: _Stream, o: CycleOptions, anomaly: Any, model: Any) -> An
 
     def sink(cycles: np.ndarray, t_start: np.ndarray, duration: np.ndarray,
              curves: dict[str, np.ndarray]) -> None:
-        st.shape_scores += monitor.push(cycles, t_start, duration, curves)
+        take(monitor.push(cycles, t_start, duration, curves))
 
     st.shape_sink = sink
     return monitor
