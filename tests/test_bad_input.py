@@ -418,3 +418,41 @@ def test_readme_quotes_the_refusal_torqlog_prints():
     with pytest.raises(UsageError) as err:
         check_outputs({"-o": "v.csv"}, {"log": "v.csv"})
     assert f"`Error: {err.value}`" in section
+
+
+def test_discovery_skips_the_fleet_table_the_demo_writes(tmp_path):
+    # `torqlog demo` writes fleet.csv (the fleet table, with a units row) beside the
+    # machines' folders; `trend DIR` on that folder must not read it as a log
+    import pandas as pd
+
+    from torqlog.fleet.batch import discover
+    from torqlog.fleet.compare import FLEET_COLUMNS
+    from torqlog.present.exporting import to_csv_text
+
+    log = tmp_path / "press" / "press.csv"
+    log.parent.mkdir()
+    log.write_text("time_s,torque_Nm,speed_rpm\n0,1,600\n0.001,2,600\n")
+    row = {c: 1.0 for c in FLEET_COLUMNS} | {"machine": "press", "status": "ok"}
+    (tmp_path / "fleet.csv").write_text(to_csv_text(pd.DataFrame([row]), units_row=True))
+    assert is_torqlog_output(tmp_path / "fleet.csv")
+    assert not is_torqlog_output(log)
+    files, missing = discover([tmp_path])
+    assert files == [log] and missing == []
+
+
+@pytest.mark.parametrize("fmt, name, said", [
+    ("parquet", "c2.csv", "--format parquet writes Parquet, but -o {out} ends in .csv (a csv "
+                          "file); name it c2.parquet, or give --format csv"),
+    ("csv", "c2.xlsx", "--format csv writes CSV, but -o {out} ends in .xlsx (a xlsx file); "
+                       "name it c2.csv, or give --format xlsx"),
+])
+def test_a_format_written_under_another_formats_suffix_is_refused(work, tmp_path, fmt, name,
+                                                                  said):
+    out = tmp_path / name
+    res = run("cycles", work["csv"], "--format", fmt, "-o", out)
+    assert res.exit_code == 2
+    assert said.format(out=out) in res.stderr
+    assert not out.exists()
+    ok = run("cycles", work["csv"], "--format", "csv", "-o", tmp_path / "c2.txt",
+             "--no-shape-check")
+    assert ok.exit_code == 0, ok.stderr  # a suffix that names no format is fine

@@ -173,6 +173,7 @@ def test_unknown_key_reported_by_profile_loader(tmp_path):
     res = _run("--profile", p)
     assert res.exit_code == 1
     assert res.stderr == (f"Error: {p}: unknown key 'diameter' in [shaft] segments[0]; "
+                          f"did you mean 'diameter_m'? "
                           f"valid keys: bore_m, diameter_m, fillet_m, length_m, material\n")
 
 
@@ -315,3 +316,27 @@ def test_strict_names_both_failed_checks(tmp_path):
     lat = d["lateral"]["margin_text"].removesuffix(": fail")
     tor = d["torsional"]["margin_text"].removesuffix(": fail")
     assert res.stderr == f"Error: shaft check failed (lateral, torsional): {lat}; {tor}\n"
+
+
+def test_shaft_figure_torque_order_legend_sits_below_its_axis(monkeypatch, tmp_path):
+    # the legend of the torque-order panel stays clear of the plot, its y label and top tick:
+    # below the axis (and its x label), inside the figure
+    from torqlog.present import plots
+
+    seen = []
+    monkeypatch.setattr(plots, "save", lambda fig, path: seen.append(fig) or Path(path))
+    root = Path(__file__).resolve().parents[1] / "sample_data"
+    res = CliRunner().invoke(cli, ["shaft", "--profile", str(root / "engine.toml"), "--log",
+                                   str(root / "engine_preamble.txt"), "--plot",
+                                   str(tmp_path / "s.png")])
+    assert res.exit_code in (0, 3), res.output
+    fig = seen[0]
+    fig.canvas.draw()
+    r = fig.canvas.get_renderer()
+    ax = fig.axes[2]
+    leg = ax.get_legend().get_window_extent(r)
+    assert ax.get_ylabel().startswith("torque amplitude [")
+    assert leg.y1 <= ax.xaxis.label.get_window_extent(r).y0 + 1.0  # under the x label
+    assert leg.y1 < ax.bbox.y0  # not over the plot
+    box = fig.bbox
+    assert leg.x0 >= box.x0 - 1.0 and leg.x1 <= box.x1 + 1.0 and leg.y0 >= box.y0 - 1.0

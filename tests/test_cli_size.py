@@ -78,6 +78,15 @@ def test_profile_key_that_does_not_exist(tmp_path):
     p.write_text("[machine]\nspeed_rmp = 45.0\n", encoding="utf-8")
     res = run("size", PRESS, "--profile", p, "--target-cs", "0.05")
     assert res.exit_code == 1
-    assert res.stderr == (f"Error: {p}: unknown key 'speed_rmp' in [machine]; valid keys: "
+    assert res.stderr == (f"Error: {p}: unknown key 'speed_rmp' in [machine]; did you mean "
+                          "'speed_rpm'? valid keys: "
                           "name, revs_per_cycle, speed_rpm, inertia_kgm2, target_cs, "
                           "flywheel_speed_ratio, torque_role\n")
+    p.write_text("[machine]\ntaget_cs = 0.05\n", encoding="utf-8")
+    res = run("size", PRESS, "--profile", p)
+    assert res.exit_code == 1
+    assert f"Error: {p}: unknown key 'taget_cs' in [machine]; did you mean 'target_cs'? " \
+        "valid keys: name," in res.stderr
+    p.write_text("[machin]\ntarget_cs = 0.05\n", encoding="utf-8")
+    res = run("size", PRESS, "--profile", p)
+    assert f"Error: {p}: unknown section [machin]; did you mean 'machine'? valid " in res.stderr

@@ -311,3 +311,25 @@ def test_reading_leaves_the_file_untouched(tmp_path):
     assert p.read_bytes() == data
     assert p.stat().st_mtime_ns == 1_600_000_000_000_000_000
     assert sorted(x.name for x in tmp_path.iterdir()) == ["gap.csv"]
+
+
+def test_inspect_and_cycles_name_a_spike_run_alike(tmp_path):
+    # six samples of 1e9 N·m on a running compressor: a spike run by the cycle stage's
+    # test (signal.health.spike_runs), so `inspect` says spikes, as `cycles` flags them
+    from torqlog.demo.simulate import simulate, write_log
+
+    log = write_log(simulate("compressor", duration=8.0, rate=1000.0, seed=2),
+                    tmp_path / "spike.csv")
+    lines = log.read_text().splitlines()
+    head = lines[0].split(",")
+    k = head.index(next(h for h in head if h.startswith("torque")))
+    for i in range(2001, 2007):
+        row = lines[i].split(",")
+        row[k] = "1e9"
+        lines[i] = ",".join(row)
+    log.write_text("\n".join(lines) + "\n")
+    d = inspect_json(log)
+    assert d["spike_samples"] == {"torque": 6} and d["clipped_samples"] == {}
+    assert "spikes      torque 6 samples" in run("inspect", log).stdout
+    cyc = json.loads(run("cycles", log, "--format", "json").stdout)
+    assert set(cyc["summary"]["flags"]) == {"spikes"}  # one run, the cycles it touches

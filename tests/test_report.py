@@ -369,6 +369,7 @@ def test_a_log_alone_gives_a_report_that_names_the_profile_lines_to_add(compress
     assert size["bound_constant_drive_required_inertia_kgm2"] == pytest.approx(bound, rel=1e-9)
     assert f"that is {sig(size['bound_constant_drive_added_inertia_kgm2'])} kg·m² added to " \
         "the existing inertia" in rec
+    assert "The profile gives no target Cs" not in html.read_text(encoding="utf-8")
     assert "[shaft]" in _text(_section(tree, "shaft"))
     # the measured state is all there: spectrum figure included
     assert {f.get("id") for f in tree.iter("figure")} >= {"fig-cycles", "fig-spectrum"}

@@ -26,6 +26,12 @@ NIST = {
 }
 
 
+# NIST SP 811 (2008) Appendix B.8, to ten digits
+LBF_FT = 1.3558179483   # N·m per lbf·ft
+LB_FT2 = 0.0421401101   # kg·m² per lb·ft²
+FT = 0.3048             # m per ft (exact)
+
+
 @pytest.mark.parametrize("key", sorted(NIST))
 def test_factors_against_nist_sp811(key):
     us, to_si = NIST[key]
@@ -133,7 +139,69 @@ def test_size_and_shaft_texts_in_us_units(tmp_path):
     added = si["added_inertia_kgm2"] / 4.214011e-2
     assert f"added inertia         {sig(added, 4)} lb·ft²" in text
     assert "kg·m²" not in text.split("note:")[0] and "drive torque RMS lbf·ft" in text
+    # the drive slope too: N·m·s/rad -> lbf·ft·s/rad (NIST SP 811 B.9: 1 lbf·ft = 1.355818 N·m)
+    slope = si["drive_slope_Nms_per_rad"] / LBF_FT
+    assert f"drive slope           {slope:.4g} ± " in text and " lbf·ft·s/rad at the" in text
+    assert "N·m·s/rad" not in text and "(the notes in SI units)" in text
     text = CliRunner().invoke(cli, ["shaft", "--profile", prof, "--add-mass", "600",
                                     "--units", "us"]).stdout
     assert f"[after (+{600 / 0.4535924:.4g} lb at " in text
     assert " mil\n" in text and " mm" not in text
+
+
+def _root():
+    from pathlib import Path
+
+    return Path(__file__).resolve().parent.parent
+
+
+def test_life_text_table_and_histogram_in_us_units():
+    log = str(_root() / "sample_data/press_comma.csv")
+    si = json.loads(CliRunner().invoke(cli, ["life", log, "--format", "json"]).stdout)
+    us = json.loads(CliRunner().invoke(cli, ["life", log, "--format", "json", "--units",
+                                             "us"]).stdout)
+    # NIST SP 811 B.8: 1 lbf·ft = 1.3558179483 N·m
+    assert us["histogram"]["range_edges_lbfft"][1] == pytest.approx(
+        si["histogram"]["range_edges_Nm"][1] / LBF_FT, rel=1e-9)
+    assert us["histogram"]["range_counts"] == si["histogram"]["range_counts"]
+    assert "histogram_Nm" not in us and "range_edges_Nm" not in us["histogram"]
+    text = CliRunner().invoke(cli, ["life", log, "--units", "us"]).stdout
+    assert f"largest range {si['torque_range_max_Nm'] / LBF_FT:.0f} lbf·ft" in text
+    assert (f"damage-equivalent torque range {si['damage_equivalent_torque_Nm'] / LBF_FT:.0f}"
+            " lbf·ft") in text
+    assert "Range from, lbf·ft" in text and "N·m" not in text.split("Cautions:")[0]
+
+
+def test_flywheel_checks_in_us_units():
+    args = ["flywheel", "--inertia", "1.14", "--speed-rpm", "1750", "--outer-diameter",
+            "0.75", "--bore", "0.1", "--material", "steel-c45", "--format", "json"]
+    si = {c["name"]: c for c in json.loads(CliRunner().invoke(cli, args).stdout)["checks"]}
+    out = CliRunner().invoke(cli, [*args, "--units", "us"]).stdout
+    us = {c["name"]: c for c in json.loads(out)["checks"]}
+    assert "rim_speed_m_s" not in us and "inertia_kgm2" not in us
+    # NIST SP 811 B.8: 1 ft = 0.3048 m, 1 lb·ft² = 0.0421401101 kg·m²
+    assert us["rim_speed_ft_s"]["value"] == pytest.approx(si["rim_speed_m_s"]["value"] / FT,
+                                                          rel=1e-9)
+    assert us["rim_speed_ft_s"]["limit"] == pytest.approx(si["rim_speed_m_s"]["limit"] / FT,
+                                                          rel=1e-9)
+    assert us["inertia_lbft2"]["value"] == pytest.approx(1.14 / LB_FT2, rel=1e-6)
+    assert us["stress_safety_factor"] == si["stress_safety_factor"]
+    text = CliRunner().invoke(cli, [*args[:-2], "--units", "us"]).stdout
+    checks = text.split("Checks:")[1].split("Cautions:")[0]
+    assert "rim_speed_ft_s" in checks and "inertia_lbft2" in checks and "_m_s" not in checks
+    v = us["rim_speed_ft_s"]["value"]
+    assert f"rim_speed_ft_s             value {v:.4g}" in checks or f"{v:.1f}" in checks
+
+
+def test_shaft_section_positions_in_us_units():
+    args = ["shaft", "--profile", str(_root() / "sample_data/engine.toml"), "--log",
+            str(_root() / "sample_data/engine_preamble.txt"), "--units", "us"]
+    us = json.loads(CliRunner().invoke(cli, [*args, "--format", "json"]).stdout)
+    rows = us["before"]["strength"]["sections"]
+    shoulders = [r for r in rows if r["section"].startswith("shoulder at ")]
+    assert shoulders and all(not r["section"].endswith(" m") for r in rows)
+    for r in shoulders:  # x_in is x_m / 0.0254 (NIST SP 811 B.8: 1 in = 0.3048 m / 12)
+        assert r["section"] == f"shoulder at {r['x_in']:.2f} in"
+    assert shoulders[0]["x_in"] * FT / 12 == pytest.approx(0.100, abs=5e-4)  # engine.toml
+    text = CliRunner().invoke(cli, args).stdout
+    assert f"shoulder at {shoulders[0]['x_in']:.2f} in" in text and "0.100 m" not in text

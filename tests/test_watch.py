@@ -112,3 +112,47 @@ def test_watch_refuses_compressed_and_names_a_bad_value(tmp_path) -> None:
     res = r.invoke(cli, ["watch", str(bad), "--idle-exit", "0.2"])
     assert res.exit_code == 1
     assert "line 3, column 'torque_Nm': 'abc' is not a number" in res.output
+
+
+def test_watch_exit_on_alarm_stops_at_the_first_alarm(tmp_path) -> None:
+    from click.testing import CliRunner
+
+    from torqlog.cli import cli
+
+    good = write_log(simulate("compressor", duration=8.0, rate=1000.0, seed=9), tmp_path / "g.csv")
+    leak = write_log(simulate("compressor", duration=8.0, rate=1000.0, seed=4,
+                              fault=Fault("valve-leak", severity=0.08, seed=3)),
+                     tmp_path / "leak.csv")
+    res = CliRunner().invoke(cli, ["watch", str(leak), "--reference", str(good), "--format",
+                                   "jsonl", "--idle-exit", "0.3", "--poll", "0.02",
+                                   "--exit-on-alarm"])
+    assert res.exit_code == 3, res.output
+    lines = [json.loads(x) for x in res.output.splitlines() if x.startswith("{")]
+    alarms = [x for x in lines if x["type"] == "alarm"]
+    cycles = [x for x in lines if x["type"] == "cycle"]
+    # one alarm, it is the last cycle shown, and the summary follows it
+    assert len(alarms) == 1 and cycles[-1]["cycle"] == alarms[0]["cycle"]
+    assert cycles[-1]["anomaly"] and not any(c["anomaly"] for c in cycles[:-1])
+    assert lines[-1]["type"] == "summary" and lines[-1]["cycles"] == len(cycles)
+    assert lines[-1]["stopped_at_alarm"]["cycle"] == alarms[0]["cycle"]
+    assert "abnormal cycle shape (see the ALARM line)" in res.output
+
+
+@pytest.mark.parametrize("content, said", [
+    (None, "nonexist.csv: the file never appeared in 0.3 s of watching"),
+    (b"", "empty.csv: the file held no data in 0.3 s of watching"),
+    (b"time_s,torque_Nm,speed_rpm\n", "empty.csv: the file held no data in 0.3 s of watching"),
+])
+def test_watch_names_a_file_that_never_held_data(tmp_path, content, said) -> None:
+    from click.testing import CliRunner
+
+    from torqlog.cli import cli
+
+    name = "nonexist.csv" if content is None else "empty.csv"
+    if content is not None:
+        (tmp_path / name).write_bytes(content)
+    res = CliRunner().invoke(cli, ["watch", str(tmp_path / name), "--idle-exit", "0.3",
+                                   "--poll", "0.05"])
+    assert res.exit_code == 1
+    assert said in res.output
+    assert "watched" not in res.output

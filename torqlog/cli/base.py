@@ -178,9 +178,11 @@ def emit(data: dict[str, Any], table: pd.DataFrame | None, fmt: str, out: str | 
     converts data and table (:func:`torqlog.io.units.convert_keys`); xlsx and Parquet go
     through :mod:`torqlog.present.exporting`, with ``sheets`` as extra xlsx sheets.
     """
+    from torqlog.io.outputs import check_format_suffix
     from torqlog.io.units import convert_frame, convert_keys
     from torqlog.present.exporting import DEFAULT_DIGITS, to_csv_text, write_binary
 
+    check_format_suffix(fmt, out)
     opts = output_settings()
     system = opts["units"]
     if system != "si":

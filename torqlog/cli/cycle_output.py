@@ -422,6 +422,9 @@ def make_writer(fmt: str, path: str | None, text: Callable[[CycleResult], str], 
     ``digits`` and ``units_row`` shape the CSV (None: full precision); ``shape`` adds
     the cycle-shape columns to the readable table.
     """
+    from torqlog.io.outputs import check_format_suffix
+
+    check_format_suffix(fmt, path)
     if fmt == "json":
         return JsonWriter(path)
     if fmt == "jsonl":

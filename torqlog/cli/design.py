@@ -145,6 +145,43 @@ def _response_lines(fr: dict[str, Any] | None, system: str = "si") -> list[str]:
     return lines
 
 
+def _positions_in_units(obj: Any, system: str) -> Any:
+    """``obj`` (a shaft result dict or table) with the positions in section names
+    ("shoulder at 0.100 m") written in ``system``'s length unit (in)."""
+    from torqlog.shaft.sections import position_text
+
+    def sections(d: Any) -> list[dict[str, Any]]:
+        if isinstance(d, dict):
+            own = d["sections"] if isinstance(d.get("sections"), list) else []
+            return [*(r for r in own if isinstance(r, dict)),
+                    *(r for v in d.values() for r in sections(v))]
+        return []
+
+    rows = (obj.to_dict("records") if hasattr(obj, "to_dict") and "x_m" in getattr(
+        obj, "columns", ()) else sections(obj))
+    swap = {f"at {position_text(float(r['x_m']))}": f"at {_q('x_m', r['x_m'], system, '.2f')}"
+            for r in rows if r.get("x_m") is not None}
+
+    def fix(v: Any) -> Any:
+        if isinstance(v, str):
+            for old, new in swap.items():
+                v = v.replace(old, new)
+            return v
+        if isinstance(v, dict):
+            return {k: fix(x) for k, x in v.items()}
+        if isinstance(v, list):
+            return [fix(x) for x in v]
+        return v
+
+    if hasattr(obj, "columns"):
+        out = obj.copy()
+        for c in out.columns:
+            if out[c].dtype == object:
+                out[c] = [fix(x) for x in out[c].tolist()]
+        return out
+    return fix(obj)
+
+
 def _strength_lines(sd: dict[str, Any] | None, system: str = "si") -> list[str]:
     if not sd:
         return []
@@ -329,9 +366,12 @@ def shaft_cmd(ctx: click.Context, profile_path: str, log: str | None, add_mass: 
             click.echo(f"wrote {camp}", err=True)
     elif speed_range is not None:
         raise UsageError("--speed-range draws a Campbell diagram: give --plot FILE.png too")
-    emit(data, result.to_pandas(), fmt, output,
-         text=lambda _: _shaft_text(data, profile.machine.get("name", ""),
-                                    output_settings()["units"]))
+    system = output_settings()["units"]
+    table = result.to_pandas()
+    if system != "si":
+        data, table = _positions_in_units(data, system), _positions_in_units(table, system)
+    emit(data, table, fmt, output,
+         text=lambda _: _shaft_text(data, profile.machine.get("name", ""), system))
     if strict and result.failures:
         reasons = "; ".join(t.removesuffix(": fail") for t in result.failures.values())
         raise CheckFailed(f"shaft check failed ({', '.join(result.failures)}): {reasons}")

@@ -13,18 +13,23 @@ from torqlog.cli.base import (
     emit,
     load_profile_opt,
     output_options,
+    output_settings,
     read_kwargs,
     run_cycles,
 )
 
 
-def _life_text(d: dict[str, Any]) -> str:
+def _life_text(d: dict[str, Any], system: str = "si") -> str:
+    """Readable life result of the SI JSON ``d``; torques and inertia in ``system``'s units."""
+    from torqlog.cli.design import _q
+
     lines = [f"Drivetrain life: {d['source']}  ({d['samples']} samples"
              + (f", {d['duration_s']:.1f} s" if d["duration_s"] else "") + ")",
              f"  rainflow (ASTM E1049): {d['cycles_counted']:.1f} cycles, largest range "
-             f"{d['torque_range_max_Nm']:.0f} N·m",
-             f"  damage-equivalent torque range {d['damage_equivalent_torque_Nm']:.0f} N·m at "
-             f"{d['equivalent_cycles']:.3g} cycles, S–N slope m = {d['sn_slope']:g}"]
+             f"{_q('torque_range_max_Nm', d['torque_range_max_Nm'], system, '.0f')}",
+             f"  damage-equivalent torque range "
+             f"{_q('damage_equivalent_torque_Nm', d['damage_equivalent_torque_Nm'], system, '.0f')}"
+             f" at {d['equivalent_cycles']:.3g} cycles, S–N slope m = {d['sn_slope']:g}"]
     if d["miner_damage"] is not None:
         lines.append(f"  Miner damage of the log {d['miner_damage']:.3g}"
                      + (f"; life {d['life_hours']:.3g} h at this duty" if d["life_hours"]
@@ -32,13 +37,16 @@ def _life_text(d: dict[str, Any]) -> str:
     if "life_ratio_after_before" in d:
         side = ("load-side" if d["drive_model_used"]["torque_role"] == "drive"
                 else "drive-side")
-        lines.append(f"  after adding {d['added_inertia_kgm2']:.4g} kg·m² "
-                     f"({d['added_inertia_source']}): {side} "
-                     f"damage-equivalent range {d['after_damage_equivalent_torque_Nm']:.0f} N·m "
-                     f"(before {d['before_damage_equivalent_torque_Nm']:.0f} N·m per cycle); "
-                     f"life ratio after/before {d['life_ratio_after_before']:.2f}")
+        after, before = (_q("torque_Nm", d[f"{k}_damage_equivalent_torque_Nm"], system, ".0f")
+                         for k in ("after", "before"))
+        lines.append(f"  after adding {_q('added_inertia_kgm2', d['added_inertia_kgm2'], system)} "
+                     f"({d['added_inertia_source']}): {side} damage-equivalent range {after} "
+                     f"(before {before} per cycle); life ratio after/before "
+                     f"{d['life_ratio_after_before']:.2f}")
         lines.append(f"  model: {d['drive_model']} ({d['drive_model_note']})")
     lines += [f"  note: {n}" for n in d.get("notes", [])]
+    if system != "si" and d.get("notes"):
+        lines.append("  (the notes in SI units)")
     lines += ["Cautions:"] + [f"  - {c}" for c in d["cautions"]]
     return "\n".join(lines) + "\n"
 
@@ -158,9 +166,9 @@ def life_cmd(log: str, sn_slope: float | None, equivalent_cycles: float | None,
                      "The torque is counted as logged: spikes are not removed and the "
                      "signal is joined across gaps, so check torque_range_max_Nm against the "
                      "machine's real peak torque."]
-    h = d["histogram_Nm"]
-    edges = h["range_edges"]
+    h = d["histogram"]
+    edges = h["range_edges_Nm"]
     tab = pd.DataFrame({"range_from_Nm": edges[:-1], "range_to_Nm": edges[1:],
-                        "cycles": h["range_counts"]})
-    tab = tab[tab["cycles"] > 0]
-    emit(d, tab, fmt, output, text=_life_text(d))
+                        "cycles_counted": h["range_counts"]})
+    tab = tab[tab["cycles_counted"] > 0]
+    emit(d, tab, fmt, output, text=lambda _: _life_text(d, output_settings()["units"]))

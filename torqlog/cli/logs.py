@@ -77,6 +77,8 @@ def inspect(log: str, fmt: str, output: str | None, speed_rpm: float | None,
           if d["inf_rows"] else []),
         "clipped     " + (", ".join(f"{k} {v} samples" for k, v in d["clipped_samples"].items())
                           or "none found"),
+        *([f"spikes      {', '.join(f'{k} {v} samples' for k, v in d['spike_samples'].items())}"]
+          if d["spike_samples"] else []),
         f"cycles from {d['cycle_source'] or '-'}: {d['cycle_source_note']}",
     ]
     if d["preamble"]:
@@ -156,9 +158,11 @@ def cycles(log: str, fmt: str, output: str | None, plot: str | None, summary_onl
     from torqlog.cli.base import _flat
     from torqlog.cli.cycle_output import make_writer
     from torqlog.cli.watch import shape_kwargs
+    from torqlog.io.outputs import check_format_suffix
     from torqlog.present.exporting import DEFAULT_DIGITS
 
     check_outputs({"-o": output, "--plot": plot}, {"log": log, "--profile": kw.get("profile")})
+    check_format_suffix(fmt, output)  # before the log is read
     save = kw.pop("save_shape_model")
     shape_plot = kw.pop("shape_plot")
     extra = {k: v for k, v in (("quantile_budget", quantile_budget),
@@ -268,9 +272,11 @@ def _size_text(d: dict[str, Any], source: str, system: str = "si") -> str:
                      f"±{d['cs_model_tolerance_rel']:.0%})")
     if d.get("drive_slope_Nms_per_rad") is not None:
         se = d.get("drive_slope_se_Nms_per_rad")
-        lines.append(f"drive slope           {d['drive_slope_Nms_per_rad']:.4g}"
-                     + (f" ± {se:.2g}" if se else "") + " N·m·s/rad at the logged shaft"
-                     + (f" (nameplate {d['drive_slope_nameplate_Nms_per_rad']:.4g})"
+        ks, us = label_of("drive_slope_Nms_per_rad", system).scale, \
+            label_of("drive_slope_Nms_per_rad", system).unit
+        lines.append(f"drive slope           {d['drive_slope_Nms_per_rad'] * ks:.4g}"
+                     + (f" ± {se * ks:.2g}" if se else "") + f" {us} at the logged shaft"
+                     + (f" (nameplate {d['drive_slope_nameplate_Nms_per_rad'] * ks:.4g})"
                         if d.get("drive_slope_nameplate_Nms_per_rad") else ""))
     parts = d.get("ci95_parts_kgm2") or {}
     if parts:
@@ -326,6 +332,8 @@ def _size_text(d: dict[str, Any], source: str, system: str = "si") -> str:
                          f"{rf['drive_torque_rms_after_log_Nm'] * kt:.4g} {ut}")
         lines += [f"  {m}" for m in rf["messages"]]
     lines += [""] + [f"note: {m}" for m in d["messages"]]
+    if system != "si" and d["messages"]:
+        lines.append("(the notes in SI units)")
     lines += ["", "Cautions:"] + [f"  - {c}" for c in d["cautions"]] + [""]
     return "\n".join(lines)
 

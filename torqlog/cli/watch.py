@@ -108,12 +108,15 @@ def watch_cmd(log: str, fmt: str, poll: float, idle_exit: float | None, exit_on_
     read = read_kwargs(kw)
     opts = make_cycle_options(kw, profile)
     ao = shape.get("anomaly") or None
-    state = {"alarm": False}
+    state: dict[str, Any] = {"alarm": False, "shown": 0, "first": None}
     out = sys.stdout
 
     def on_cycles(cols: dict[str, Any]) -> None:
         n = len(cols["cycle"])
         for i in range(n):
+            if exit_on_alarm and state["alarm"]:
+                break  # stopped at the first alarm: later cycles of the batch are not shown
+            state["shown"] += 1
             row = {k: _num(cols[k][i]) for k in COLUMNS if k != "start_time"}
             bad = bool(row["anomaly"])
             if fmt == "jsonl":
@@ -126,6 +129,8 @@ def watch_cmd(log: str, fmt: str, poll: float, idle_exit: float | None, exit_on_
                           f"{'  ' + row['flag'] if row['flag'] else ''}\n")
             if bad:
                 state["alarm"] = True
+                state["first"] = state["first"] or {"cycle": row["cycle"],
+                                                    "t_start_s": row["t_start_s"]}
                 where = cols["anomaly_where"][i] if "anomaly_where" in cols else ""
                 msg = f"ALARM cycle {row['cycle']} at t = {row['t_start_s']:.2f} s: abnormal " \
                       f"cycle shape, score {row['anomaly_score']:.2f} (1 = limit)" + \
@@ -145,10 +150,16 @@ def watch_cmd(log: str, fmt: str, poll: float, idle_exit: float | None, exit_on_
         pass
     if summary is not None:
         d = summary.to_dict()
+        if exit_on_alarm and state["first"]:
+            # the summary covers the cycles shown, up to and including the first alarm
+            d.update(cycles=state["shown"], abnormal=1, anomaly=None,
+                     stopped_at_alarm=state["first"])
         if fmt == "jsonl":
             out.write(json.dumps({"type": "summary", **d}, default=_num) + "\n")
         else:
             sent = (d["anomaly"] or {}).get("summary", "")
+            if d.get("stopped_at_alarm"):
+                sent = f"stopped at the first alarm (cycle {d['stopped_at_alarm']['cycle']})"
             out.write(f"watched {', '.join(d['files'])}: {d['cycles']} cycles, "
                       f"{d['abnormal']} abnormal; {sent}\n")
     else:

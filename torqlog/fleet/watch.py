@@ -152,17 +152,34 @@ class WatchSummary:
 
 
 def _wait_for_layout(path: str, poll: float, idle_exit: float | None,
-                     should_stop: Callable[[], bool], **read: Any) -> TailReader | None:
-    """A TailReader once the file exists and its head can be sniffed."""
+                     should_stop: Callable[[], bool], **read: Any
+                     ) -> tuple[TailReader | None, Exception | None]:
+    """A TailReader once the file exists and its head can be sniffed.
+
+    Returns ``(reader, None)``, or ``(None, last_error)`` when the wait ends first
+    (``last_error`` is None if the file never appeared).
+    """
     t0 = _time.monotonic()
+    last: Exception | None = None
     while True:
         try:
             return TailReader(path, poll=poll, idle_exit=idle_exit, should_stop=should_stop,
-                              **read)
-        except (DataError, FileNotFoundError):
-            if should_stop() or (idle_exit is not None and _time.monotonic() - t0 > idle_exit):
-                return None
-            _time.sleep(poll)
+                              **read), None
+        except FileNotFoundError:
+            last = None
+        except DataError as exc:
+            last = exc if os.path.exists(path) else None
+        if should_stop() or (idle_exit is not None and _time.monotonic() - t0 > idle_exit):
+            return None, last
+        _time.sleep(poll)
+
+
+def _never_read(path: str, idle_exit: float | None, last: Exception | None) -> DataError:
+    """The error for a watch that ended before the file could be read at all."""
+    waited = f" in {idle_exit:g} s of watching" if idle_exit is not None else ""
+    if last is None:
+        return DataError(f"{path}: the file never appeared{waited}")
+    return DataError(f"{path}: the file held no data{waited} ({last})")
 
 
 def watch_log(path: str | Path, on_cycles: Callable[[dict[str, np.ndarray]], None],
@@ -198,6 +215,11 @@ def watch_log(path: str | Path, on_cycles: Callable[[dict[str, np.ndarray]], Non
     Returns
     -------
     WatchSummary
+
+    Raises
+    ------
+    DataError
+        When the watch ends (``idle_exit``) before the file appeared or held a data row.
     """
     if str(path).lower().endswith((".gz", ".parquet", ".h5", ".hdf5", ".mf4", ".mdf")):
         raise DataError(f"{path}: watch follows plain CSV text only (a file a logger appends "
@@ -209,8 +231,10 @@ def watch_log(path: str | Path, on_cycles: Callable[[dict[str, np.ndarray]], Non
     n_cycles = n_bad = 0
     last: dict[str, Any] | None = None
     while True:
-        reader = _wait_for_layout(str(path), poll, idle_exit, stop, **read)
+        reader, why = _wait_for_layout(str(path), poll, idle_exit, stop, **read)
         if reader is None:
+            if not files and not stop():
+                raise _never_read(str(path), idle_exit, why)
             break
         files.append(reader.layout.path)
         monitor, st = _follow(reader, o, ao, model, on_cycles)

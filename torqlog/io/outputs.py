@@ -33,12 +33,14 @@ from torqlog.errors import UsageError
 OUTPUT_METADATA_KEY = b"torqlog.output"
 
 #: Header columns of the CSV tables torqlog writes (trend rows by shift, day, file or
-#: hour; per-cycle rows of trend and of ``cycles --format csv``): a CSV whose header holds
-#: all of one set is an output of torqlog, not a logger export.
+#: hour; per-cycle rows of trend and of ``cycles --format csv``; the fleet table): a CSV
+#: whose header holds all of one set is an output of torqlog, not a logger export.
 OUTPUT_CSV_COLUMNS: tuple[frozenset[str], ...] = (
     frozenset({"machine", "start_time", "cycles", "cycles_total", "flagged_share"}),
     frozenset({"machine", "file", "start_time", "cycle", "energy_swing_J"}),
     frozenset({"cycle", "t_start_s", "energy_swing_J", "cs", "flag"}),
+    # the fleet table (torqlog.fleet.compare.FLEET_COLUMNS) of the demo's fleet.csv
+    frozenset({"rank", "machine", "last_log", "cs_p90", "status"}),
 )
 
 #: Names torqlog gives the files of ``trend --out-dir``.
@@ -184,6 +186,46 @@ def write_bytes(path: PathLike, data: bytes) -> Path:
     return Path(path)
 
 
+#: File endings that name an output format of ``--format``.
+FORMAT_SUFFIXES: dict[str, str] = {".csv": "csv", ".json": "json", ".jsonl": "jsonl",
+                                   ".xlsx": "xlsx", ".parquet": "parquet", ".pq": "parquet"}
+
+
+def check_format_suffix(fmt: str, path: PathLike | None) -> None:
+    """Refuse a file format written under a name that says another one
+    (``--format parquet -o out.csv``): a later reader would trust the suffix.
+
+    A suffix that names no format (``.txt``, ``.out``, none) is accepted for any format,
+    and ``table`` (text for people) for any name but another format's.
+
+    Raises
+    ------
+    UsageError
+        Naming the format, the file's suffix and the two ways out.
+
+    Examples
+    --------
+    >>> check_format_suffix("parquet", "c.parquet"); check_format_suffix("csv", "c.txt")
+    >>> try:
+    ...     check_format_suffix("parquet", "c2.csv")
+    ... except UsageError as exc:
+    ...     print(str(exc)[:59])
+    --format parquet writes Parquet, but -o c2.csv ends in .csv
+    """
+    if not path or str(path) == "-":
+        return
+    p = Path(path)
+    said = FORMAT_SUFFIXES.get(p.suffix.lower())
+    if said is None or said == fmt:
+        return
+    kind = {"parquet": "Parquet", "xlsx": "an xlsx workbook", "table": "a text table"}.get(
+        fmt, fmt.upper())
+    own = next((s for s, f in FORMAT_SUFFIXES.items() if f == fmt), None)
+    fix = f"name it {p.stem}{own}, or " if own else ""
+    raise UsageError(f"--format {fmt} writes {kind}, but -o {path} ends in {p.suffix} "
+                     f"(a {said} file); {fix}give --format {said}")
+
+
 def is_torqlog_output(path: PathLike) -> bool:
     """Whether a file is a table torqlog itself wrote (so discovery must skip it).
 
@@ -227,6 +269,6 @@ def parquet_metadata(kind: str) -> dict[bytes, bytes]:
     return {OUTPUT_METADATA_KEY: f'{{"kind": "{kind}", "version": "{__version__}"}}'.encode()}
 
 
-__all__ = ["OUTPUT_CSV_COLUMNS", "OUTPUT_METADATA_KEY", "OUTPUT_NAMES", "atomic_path",
-           "check_outputs", "is_torqlog_output", "parquet_metadata", "write_bytes",
-           "write_text"]
+__all__ = ["FORMAT_SUFFIXES", "OUTPUT_CSV_COLUMNS", "OUTPUT_METADATA_KEY", "OUTPUT_NAMES",
+           "atomic_path", "check_format_suffix", "check_outputs", "is_torqlog_output",
+           "parquet_metadata", "write_bytes", "write_text"]

@@ -147,6 +147,20 @@ def _with_unit(text: str, key: str, sec: str, source: str) -> float:
                         f"(e.g. \"1.2 {unit}\")") from None
 
 
+def _did_you_mean(word: str, valid: Any) -> str:
+    """``"did you mean 'target_cs'? "`` for the closest valid name (difflib), else ``""``.
+
+    Examples
+    --------
+    >>> _did_you_mean("taget_cs", ["name", "target_cs"])
+    "did you mean 'target_cs'? "
+    """
+    import difflib
+
+    near = difflib.get_close_matches(str(word), [str(v) for v in valid], n=1)
+    return f"did you mean {near[0]!r}? " if near else ""
+
+
 def _check_table(items: list, allowed: set[str], where: str, path: str) -> None:
     for i, item in enumerate(items):
         if not isinstance(item, dict):
@@ -155,6 +169,7 @@ def _check_table(items: list, allowed: set[str], where: str, path: str) -> None:
         if unknown:
             raise DataError(
                 f"{path}: unknown key {sorted(unknown)[0]!r} in {where}[{i}]; "
+                f"{_did_you_mean(sorted(unknown)[0], allowed)}"
                 f"valid keys: {', '.join(sorted(allowed))}"
             )
 
@@ -170,14 +185,16 @@ def parse_profile(data: dict[str, Any], source: str = "<profile>") -> MachinePro
     sections: dict[str, dict[str, Any]] = {}
     for sec, body in data.items():
         if sec not in _SCHEMA:
-            raise DataError(f"{source}: unknown section [{sec}]; valid sections: "
+            raise DataError(f"{source}: unknown section [{sec}]; "
+                            f"{_did_you_mean(sec, _SCHEMA)}valid sections: "
                             f"{', '.join(_SCHEMA)}")
         if not isinstance(body, dict):
             raise DataError(f"{source}: [{sec}] must be a table of keys")
         out: dict[str, Any] = {}
         for key, value in body.items():
             if key not in _SCHEMA[sec]:
-                raise DataError(f"{source}: unknown key {key!r} in [{sec}]; valid keys: "
+                raise DataError(f"{source}: unknown key {key!r} in [{sec}]; "
+                                f"{_did_you_mean(key, _SCHEMA[sec])}valid keys: "
                                 f"{', '.join(_SCHEMA[sec])}")
             typ, factor = _SCHEMA[sec][key]
             if isinstance(value, str) and typ == (int, float) and factor is not None:

@@ -344,6 +344,7 @@ def parse_quantity(value: str | float | int, default_unit: str, kind: str,
 #: Longest suffixes first, so ``rim_speed_m_s`` is m/s, not s.
 KEY_UNITS: dict[str, tuple[str, str]] = {
     "_Nm_s_per_rad": ("N·m·s/rad", "N*m*s/rad"),
+    "_Nms_per_rad": ("N·m·s/rad", "N*m*s/rad"),
     "_Nm_per_rad": ("N·m/rad", "N*m/rad"),
     "_kg_per_m3": ("kg/m³", "kg/m**3"),
     "_per_min": ("1/min", "1/min"),
@@ -372,6 +373,7 @@ KEY_UNITS: dict[str, tuple[str, str]] = {
 #: Rotational speed (rpm), frequency, time and angle stay as they are.
 US_UNITS: dict[str, tuple[str, str, str]] = {
     "_Nm_s_per_rad": ("_lbfft_s_per_rad", "lbf·ft·s/rad", "lbf*ft*s/rad"),
+    "_Nms_per_rad": ("_lbffts_per_rad", "lbf·ft·s/rad", "lbf*ft*s/rad"),
     "_Nm_per_rad": ("_lbfft_per_rad", "lbf·ft/rad", "lbf*ft/rad"),
     "_kg_per_m3": ("_lb_per_in3", "lb/in³", "lb/inch**3"),
     "_kgm2": ("_lbft2", "lb·ft²", "lb*ft**2"),
@@ -500,6 +502,12 @@ def _is_stats(value: object) -> bool:
             and all(_STAT_TAIL.fullmatch("_" + str(s)) for s in value))
 
 
+def _is_check(value: object) -> bool:
+    """A check record whose ``name`` is the key of its ``value`` and ``limit``."""
+    return (isinstance(value, dict) and isinstance(value.get("name"), str)
+            and "value" in value and "limit" in value)
+
+
 def convert_keys(data: object, system: str, *, back: bool = False) -> object:
     """Convert a result dict (keys carry SI units) to another unit system, keys renamed.
 
@@ -515,7 +523,9 @@ def convert_keys(data: object, system: str, *, back: bool = False) -> object:
 
     Returns
     -------
-    The converted copy; ``inertia_kgm2`` becomes ``inertia_lbft2`` and so on.
+    The converted copy; ``inertia_kgm2`` becomes ``inertia_lbft2`` and so on. A check
+    record ``{"name": "rim_speed_m_s", "value": .., "limit": ..}`` is converted by its
+    name (``rim_speed_ft_s``, value and limit in ft/s).
 
     References
     ----------
@@ -526,6 +536,10 @@ def convert_keys(data: object, system: str, *, back: bool = False) -> object:
     if system == "si":
         return data
     rename = si_key if back else us_key
+    if _is_check(data):  # {"name": "rim_speed_m_s", "value": .., "limit": ..}: by its name
+        new, factor = rename(data["name"])
+        return {**data, "name": new, "value": _scale(data["value"], factor),
+                "limit": _scale(data["limit"], factor)}
     if isinstance(data, dict):
         out = {}
         for k, v in data.items():

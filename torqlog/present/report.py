@@ -457,6 +457,9 @@ def _build(logs: Sequence[str | Path], profile_path: str | Path | None, cycle_op
                           units=units)
     _measured_figures(design, size, target_cs, quantile, fig_dir, figures, units=units)
     spectrum = _order_spectrum(design, prof, fig_dir, figures, skipped, units=units)
+    if not profile_path and "target_cs" in skipped.get("size", ""):  # not "the profile gives"
+        skipped["size"] = ("No profile was given; a machine profile with [machine] target_cs "
+                           "sets the Cs to size the flywheel for")
     fw_res, fw, fw_options, material_choice = _run_flywheel(
         prof, size, design, profile_path, fig_dir, figures, skipped, units=units)
     shaft = _run_shaft(prof, design, spectrum, fw_res, fig_dir, figures, skipped, units=units)

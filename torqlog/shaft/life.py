@@ -102,7 +102,10 @@ class LifeResult:
             "damage_equivalent_torque_Nm": self.damage_equivalent_torque,
             "sn_slope": self.sn_slope, "equivalent_cycles": self.equivalent_cycles,
             "miner_damage": self.miner, "life_hours": self.life_hours,
-            "histogram_Nm": self.histogram,
+            "histogram": {"range_edges_Nm": self.histogram["range_edges"],
+                          "range_counts": self.histogram["range_counts"],
+                          "mean_edges_Nm": self.histogram["mean_edges"],
+                          "mean_counts": self.histogram["mean_counts"]},
         }
         if self.after is not None:
             d.update(self.after)

@@ -218,6 +218,14 @@ class StrengthResult:
                 "torque": dict(self.torque), "options": self.options.to_dict()}
 
 
+def position_text(x: float) -> str:
+    """A position along the shaft [m] as section names write it (``"0.100 m"``).
+
+    The one spelling, so the output edge can show it in other units.
+    """
+    return f"{x:.3f} m"
+
+
 def shaft_strength(model: ShaftModel, details: ShaftDetails, torque_mean: float,
                    torque_alt: float, torque_peak: float, options: StrengthOptions, *,
                    speed_rpm: float | None = None,
@@ -288,7 +296,7 @@ def shaft_strength(model: ShaftModel, details: ShaftDetails, torque_mean: float,
         d = segs[small].diameter
         r = details.fillets[small] if small < len(details.fillets) else None
         r = 0.02 * d if r is None else r  # Shigley Table 7-1: sharp fillet, r/d = 0.02
-        add(f"shoulder at {ends[i]:.3f} m", float(ends[i]), d,
+        add(f"shoulder at {position_text(float(ends[i]))}", float(ends[i]), d,
             st.shoulder_fillet_kt(max(d1, d2), d, r),
             st.shoulder_fillet_kt(max(d1, d2), d, r, torsion=True), r)
     keys, fits = [], []
@@ -317,7 +325,7 @@ def shaft_strength(model: ShaftModel, details: ShaftDetails, torque_mean: float,
     mom = np.abs(bending_moment(model, xs))
     j = int(mom.argmax())
     if mom[j] > 0:
-        add(f"plain, largest moment at {xs[j]:.3f} m", float(xs[j]),
+        add(f"plain, largest moment at {position_text(float(xs[j]))}", float(xs[j]),
             _diameter_at(model, float(xs[j])), 1.0, 1.0, None)
     bearings = []
     reactions = support_reactions(model)

@@ -16,7 +16,7 @@ from torqlog.io.ingest import Layout, LogReader
 from torqlog.io.notebook import result_html
 from torqlog.signal import condition as cond
 from torqlog.signal.angle import pick_cycle_source
-from torqlog.signal.health import MIN_RUNNING_SPEED
+from torqlog.signal.health import MIN_RUNNING_SPEED, ChannelScale, spike_runs
 
 _MAX_GAPS_LISTED = 20
 
@@ -38,6 +38,7 @@ class Survey:
     cycle_source: str | None
     cycle_source_note: str
     inf_rows: dict[str, int] = field(default_factory=dict)
+    spikes: dict[str, int] = field(default_factory=dict)
 
     _repr_html_ = result_html  # the notebook view
 
@@ -56,6 +57,7 @@ class Survey:
             "nan_rows": self.nan_rows,
             "inf_rows": self.inf_rows,
             "clipped_samples": self.clipped,
+            "spike_samples": self.spikes,
             "cycle_source": self.cycle_source,
             "cycle_source_note": self.cycle_source_note,
         }
@@ -82,7 +84,9 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
         :data:`torqlog.signal.condition.GAP_FACTOR` median steps; clipped samples sit in runs of
         :data:`torqlog.signal.condition.CLIP_RUN` or more equal values at the channel's extreme
         (a flat speed below :data:`torqlog.signal.health.MIN_RUNNING_SPEED` is a standing shaft,
-        not clipping); ±inf samples are counted apart (``inf_rows``) and not as NaN.
+        not clipping); ±inf samples are counted apart (``inf_rows``) and not as NaN; spike
+        samples (:func:`torqlog.signal.health.spike_runs`, the test the cycle stage flags
+        ``spikes`` by) are counted apart (``spike_samples``), not as clipped.
     """
     reader = LogReader(path, block_rows=block_rows, **read_options)
     lay = reader.layout
@@ -97,6 +101,8 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
     nan_rows = {r: 0 for r in lay.roles}
     nonfinite: dict[str, int] = {}
     extremes: dict[str, list[float]] = {}
+    scales: dict[str, ChannelScale] = {}
+    spikes: dict[str, int] = {}
     flats: dict[str, list[np.ndarray]] = {}
     t_end = 0.0
     for ch in reader:
@@ -122,6 +128,17 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
                 nonfinite[role] = nonfinite.get(role, 0) + int(inf.sum())
                 x = np.where(inf, np.nan, x)
             if role in ("torque", "speed"):
+                # spikes first, by the cycle stage's own test (signal.health.spike_runs),
+                # so a short run of equal wild values is a spike there and here, not a rail
+                fin = np.isfinite(x)
+                if role not in scales and fin.sum() >= 5:
+                    scales[role] = ChannelScale.of(x[fin])
+                if role in scales:
+                    sp = np.zeros(x.size, dtype=bool)
+                    sp[fin] = spike_runs(x[fin], scales[role])  # across NaN holes
+                    if sp.any():
+                        spikes[role] = spikes.get(role, 0) + int(sp.sum())
+                        x = np.where(sp, np.nan, x)
                 fm = cond.flat_runs(x)
                 if fm.any():
                     flats.setdefault(role, []).append(x[fm])
@@ -162,4 +179,4 @@ def survey_log(path: str | Path, *, nominal_speed: float | None = None,
         src, note = None, str(exc)
     return Survey(lay, rows, t_end, float(rate), jitter, gaps, int(gi.size),
                   float(gd.max()) if gd.size else 0.0, nan_rows, clipped, src, note,
-                  nonfinite)
+                  nonfinite, spikes)
