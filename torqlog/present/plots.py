@@ -394,8 +394,8 @@ def plot_shaft(result: object, path: str | Path, spectrum: object | None = None,
         ax.set_xlabel("frequency [Hz] (order × running speed)")
         ax.set_ylabel(f"torque amplitude [{ut}]")
         # below the axis, under its x label: inside, it covered the top tick and y label
-        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.3), ncols=2, fontsize=8.5, frameon=True,
-                  framealpha=0.9, edgecolor=PALETTE["grid"])
+        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.3), ncols=2, fontsize=8.5,
+                  frameon=True, framealpha=0.9, edgecolor=PALETTE["grid"])
     return save(fig, path)
 
 
