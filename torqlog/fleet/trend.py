@@ -77,10 +77,7 @@ def combine(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
     parts, files, failed = [], [], []
     for o in outcomes:
         if not o.ok:
-            reason = o.error or ""
-            if reason.startswith(f"{o.path}: "):
-                reason = reason[len(o.path) + 2:]
-            failed.append({"file": o.path, "reason": reason})
+            failed.append(_failure(o))
             continue
         start = pd.Timestamp(o.facts["start_time"])
         if start.tz is None:
@@ -161,6 +158,14 @@ def _fold_table(c: pd.DataFrame, calendar: ShiftCalendar, by: str, quantile_budg
     return ordered(groups), index, labels
 
 
+def _failure(o: FileOutcome) -> dict[str, str]:
+    """A failed file and its reason, without the path the reason may start with."""
+    reason = o.error or ""
+    if reason.startswith(f"{o.path}: "):
+        reason = reason[len(o.path) + 2:]
+    return {"file": o.path, "reason": reason}
+
+
 def merge_outcomes(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
                    ) -> tuple[list[GroupStats], list[dict[str, Any]], list[dict[str, str]]]:
     """Per-group summaries of the good outcomes merged over files (a group found in
@@ -169,10 +174,7 @@ def merge_outcomes(outcomes: Sequence[FileOutcome], calendar: ShiftCalendar
     files, failed = [], []
     for o in outcomes:
         if not o.ok:
-            reason = o.error or ""
-            if reason.startswith(f"{o.path}: "):
-                reason = reason[len(o.path) + 2:]
-            failed.append({"file": o.path, "reason": reason})
+            failed.append(_failure(o))
             continue
         start = pd.Timestamp(o.facts["start_time"])
         files.append({**o.facts, "start_time": absolute_start(start, calendar),
